@@ -1,0 +1,62 @@
+/**
+ * Errors about the user's input. The CLI prints them without a stack trace
+ * and exits with code 2.
+ *
+ * @module
+ */
+
+/** A path of keys and array indices into a case, e.g. `["perturbation", "terms", 1, "coef"]`. */
+export type KeyPath = (string | number)[];
+
+/** Formats a key path the way the user writes it: `perturbation.terms[1].coef`. */
+export function formatKeyPath(path: KeyPath): string {
+  let out = "";
+  for (const part of path) {
+    out += typeof part === "number" ? `[${part}]` : (out ? "." : "") + part;
+  }
+  return out;
+}
+
+/** Something in a case file (or a flag standing in for one) is wrong. */
+export class CaseError extends Error {
+  /** Where in the case: a key path. */
+  readonly path: KeyPath;
+  /** How to fix it, one sentence. */
+  readonly fix: string | undefined;
+  /** The case file, once known. */
+  file: string | undefined;
+  /** The 1-based line in the case file, once known. */
+  line: number | undefined;
+
+  /**
+   * @param message what was wrong, with the offending value
+   * @param path the key path in the case
+   * @param fix how to fix it
+   */
+  constructor(message: string, path: KeyPath = [], fix?: string) {
+    super(message);
+    this.name = "CaseError";
+    this.path = path;
+    this.fix = fix;
+  }
+
+  /** The one-line report: `file:line: key: what. fix`. */
+  report(): string {
+    const where = [this.file, this.line].filter((x) => x !== undefined).join(":");
+    const key = formatKeyPath(this.path);
+    let text = (where ? `${where}: ` : "") + (key ? `${key}: ` : "") + this.message;
+    if (this.fix) text += `\n  fix: ${this.fix}`;
+    return text;
+  }
+}
+
+/** A command line that cannot be carried out (unknown command, bad flag). */
+export class UsageError extends Error {
+  /**
+   * @param message what was wrong
+   */
+  constructor(message: string) {
+    super(message);
+    this.name = "UsageError";
+  }
+}

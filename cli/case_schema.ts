@@ -1,0 +1,133 @@
+/**
+ * The shape of a case file, as a zod schema. Content checks that need more
+ * than the shape (labels, dimensions, Hermiticity, parameter values) happen
+ * when the model is built.
+ *
+ * @module
+ */
+
+import { z } from "zod";
+
+/** A number or an expression of params. */
+const scalar = z.union([z.number(), z.string()]);
+/** A matrix entry: number, expression, or [re, im]. */
+export const entrySchema = z.union([z.number(), z.string(), z.tuple([scalar, scalar])]);
+
+const termFields = {
+  matrix: z.array(z.array(entrySchema)).optional(),
+  op: z.string().optional(),
+  coef: scalar.optional(),
+  hc: z.boolean().optional(),
+};
+
+/** One term of H0 or V: `matrix` or `op`, with an optional `coef` and `hc`. */
+export const termSchema = z.object(termFields).strict();
+
+/** `[unperturbed]` and `[perturbation]`: a single term, or `terms`. */
+export const sectionSchema = z.object({ ...termFields, terms: z.array(termSchema).optional() }).strict();
+
+const subsystemSchema = z.object({
+  levels: z.array(z.string()).optional(),
+  oscillator: z.number().int().min(1).optional(),
+  spin: z.number().optional(),
+}).strict();
+
+const sweepAxisSchema = z.object({
+  from: z.number().optional(),
+  to: z.number().optional(),
+  count: z.number().int().min(1).optional(),
+  scale: z.enum(["linear", "log"]).optional(),
+  values: z.array(z.number()).optional(),
+}).strict();
+
+const approxSchema = z.object({
+  name: z.string(),
+  target: z.string(),
+  formula: z.string(),
+  abs: z.number().positive().optional(),
+  rel: z.number().positive().optional(),
+}).strict();
+
+/** A whole case file. */
+export const caseSchema = z.object({
+  title: z.string().optional(),
+  params: z.record(z.union([z.number(), z.string(), z.tuple([scalar, scalar])])).optional(),
+  units: z.object({ time: z.string().optional(), energy: z.string().optional() }).strict().optional(),
+  levels: z.object({ names: z.array(z.string()).min(1) }).strict().optional(),
+  subsystems: z.record(subsystemSchema).optional(),
+  unperturbed: sectionSchema,
+  perturbation: sectionSchema,
+  start: z.object({
+    state: z.string().optional(),
+    amplitudes: z.array(entrySchema).optional(),
+  }).strict(),
+  grid: z.object({
+    t_start: scalar.default(0),
+    t_end: scalar,
+    steps: z.number().int(),
+    samples: z.number().int().default(101),
+  }).strict(),
+  series: z.object({
+    order: z.number().int(),
+    targets: z.array(z.string()).optional(),
+    tolerance: z.number().positive().optional(),
+    strength: z.number().optional(),
+  }).strict(),
+  sweep: z.record(sweepAxisSchema).optional(),
+  approx: z.array(approxSchema).optional(),
+}).strict();
+
+/** A case as written (after the shape check). */
+export type CaseSpec = z.infer<typeof caseSchema>;
+/** One term as written. */
+export type TermSpec = z.infer<typeof termSchema>;
+/** A section as written. */
+export type SectionSpec = z.infer<typeof sectionSchema>;
+/** A matrix entry as written. */
+export type EntrySpec = z.infer<typeof entrySchema>;
+
+/** Turns the first zod issue into a message and a fix. */
+export function describeIssue(issue: z.ZodIssue): { message: string; fix: string } {
+  switch (issue.code) {
+    case "unrecognized_keys": {
+      const known = knownKeysAt(issue.path);
+      return {
+        message: `unknown key${issue.keys.length > 1 ? "s" : ""} ${issue.keys.map((k) => `"${k}"`).join(", ")}`,
+        fix: known.length ? `known keys here: ${known.join(", ")}` : "remove it",
+      };
+    }
+    case "invalid_type":
+      return issue.received === "undefined"
+        ? { message: `missing required key (${issue.expected})`, fix: "add it; see `ordo init` for a complete example" }
+        : { message: `expected ${issue.expected}, got ${issue.received}`, fix: `write a ${issue.expected} here` };
+    case "invalid_union":
+      return {
+        message: "value has the wrong form",
+        fix: "a number, an \"expression\", or [re, im]; matrices are arrays of rows",
+      };
+    case "invalid_enum_value":
+      return { message: `"${issue.received}" is not allowed`, fix: `use one of: ${issue.options.join(", ")}` };
+    case "too_small":
+      return { message: issue.message, fix: "use a larger value" };
+    default:
+      return { message: issue.message, fix: "see `ordo init` for a complete example" };
+  }
+}
+
+/** Known keys of the object schema at a path (for "did you mean"). */
+function knownKeysAt(path: (string | number)[]): string[] {
+  // deno-lint-ignore no-explicit-any
+  const unwrap = (s: any): any => {
+    while (s instanceof z.ZodOptional || s instanceof z.ZodDefault) s = s._def.innerType;
+    return s;
+  };
+  // deno-lint-ignore no-explicit-any
+  let schema: any = unwrap(caseSchema);
+  for (const part of path) {
+    if (schema instanceof z.ZodObject) schema = unwrap(schema.shape[part as string]);
+    else if (schema instanceof z.ZodRecord) schema = unwrap(schema._def.valueType);
+    else if (schema instanceof z.ZodArray) schema = unwrap(schema._def.type);
+    else return [];
+  }
+  return schema instanceof z.ZodObject ? Object.keys(schema.shape) : [];
+}

@@ -1,0 +1,28 @@
+// A bump allocator over linear memory: the engine allocates its buffers once
+// per run and resets between runs. Returns 0 when memory cannot grow.
+
+let top: usize = 0;
+
+@inline function align16(n: usize): usize {
+  return (n + 15) & ~(<usize>15);
+}
+
+/** Forget every allocation. */
+export function arenaReset(): void {
+  top = align16(__heap_base);
+}
+
+/** Allocate `bytes` zeroed bytes, 16-byte aligned; 0 if memory cannot grow. */
+export function arenaAlloc(bytes: usize): usize {
+  if (top == 0) arenaReset();
+  const ptr = top;
+  const end = align16(ptr + bytes);
+  const have = <usize>memory.size() << 16;
+  if (end > have) {
+    const pages = <i32>((end - have + 0xffff) >> 16);
+    if (memory.grow(pages) < 0) return 0;
+  }
+  memory.fill(ptr, 0, end - ptr);
+  top = end;
+  return ptr;
+}

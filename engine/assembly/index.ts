@@ -1,0 +1,20 @@
+// The ordo engine: Dyson terms and exact propagation. See engine/mod.ts for
+// the TypeScript face.
+export { arenaAlloc, arenaReset } from "./arena";
+export { peakLoop, useSimd, zgemv, zgemvRef, zgemvSimd } from "./kernels";
+export { eigh } from "./eigh";
+export {
+  advance,
+  advanceExact,
+  bufBasis,
+  bufCoefCoarse,
+  bufCoefFine,
+  bufEnergies,
+  bufH0Terms,
+  bufInitial,
+  bufRecord,
+  bufVTerms,
+  init,
+  prepare,
+  record,
+} from "./schemes";

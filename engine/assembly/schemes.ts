@@ -1,0 +1,525 @@
+// Drivers: time stepping for the three schemes, the order-resolved block
+// exponential, and recording. Data stays in linear memory; TypeScript fills
+// the operator and coefficient buffers and reads the record buffer.
+//
+// Stacked state: the Dyson terms ψ0…ψN (or their interaction-picture
+// coefficients) as r = N+1 complex d-vectors one after another. The block
+// generator A = I⊗D + S⊗B acts as (AΨ)_n = D·Ψ_n + B·Ψ_{n−1}; truncated at
+// order N, exp(−ihA) gives order by order the λ-expansion of exp(−ih(D+λB)).
+// see: Van Loan, IEEE TAC 23 (1978).
+
+import { arenaAlloc, arenaReset } from "./arena";
+import { zgemv } from "./kernels";
+import { eigh } from "./eigh";
+
+// 4th-order commutator-free exponential integrator (two exponentials).
+// see: Blanes & Moan, Appl. Numer. Math. 56 (2006); Alvermann & Fehske, J. Comput. Phys. 230 (2011).
+const SQ3: f64 = 1.7320508075688772;
+const C1: f64 = 0.5 - SQ3 / 6.0;
+const C2: f64 = 0.5 + SQ3 / 6.0;
+const A1: f64 = 0.25 + SQ3 / 6.0;
+const A2: f64 = 0.25 - SQ3 / 6.0;
+
+// Taylor truncation: sub-steps keep ‖hA‖ ≤ THETA; terms until two in a row are below TINY relative.
+const THETA: f64 = 2.0;
+const TINY: f64 = 1e-18;
+const MAX_TERMS: i32 = 60;
+
+const MODE_NONE: i32 = 0;
+const MODE_DENSE: i32 = 1;
+const MODE_DIAG: i32 = 2;
+
+/** Schemes (match engine/mod.ts). */
+export const SCHEME_TIME_INDEPENDENT: i32 = 0;
+export const SCHEME_INTERACTION: i32 = 1;
+export const SCHEME_TD_H0: i32 = 2;
+
+/** Error codes (turned into messages by engine/mod.ts). */
+export const ERR_OK: i32 = 0;
+export const ERR_MEMORY: i32 = 1;
+export const ERR_EIGEN: i32 = 2;
+export const ERR_TAYLOR: i32 = 3;
+
+let d: i32 = 0;
+let r: i32 = 0;
+let k0: i32 = 0;
+let kv: i32 = 0;
+let chunk: i32 = 0;
+let scheme: i32 = 0;
+let lambda: f64 = 1.0;
+let mat: usize = 0; // bytes per d×d matrix
+let vec: usize = 0; // bytes per d-vector
+
+let h0Terms: usize = 0;
+let vTerms: usize = 0;
+let energies: usize = 0;
+let basis: usize = 0;
+let basisH: usize = 0;
+let energies2: usize = 0;
+let basis2: usize = 0;
+let m1: usize = 0;
+let m2: usize = 0;
+let x1: usize = 0;
+let x2: usize = 0;
+let y: usize = 0;
+let x0a: usize = 0;
+let x0b: usize = 0;
+let series: usize = 0;
+let exact: usize = 0;
+let check: usize = 0;
+let amp2: usize = 0;
+let t1: usize = 0;
+let t2: usize = 0;
+let ph1: usize = 0;
+let ph2: usize = 0;
+let rec: usize = 0;
+let tmp: usize = 0;
+let coefFine: usize = 0;
+let coefCoarse: usize = 0;
+let initial: usize = 0;
+let work: usize = 0;
+
+/**
+ * Allocate every buffer for a run: dimension dim, Dyson order order, nH0 and
+ * nV operator terms, coefficient chunks of chunkSteps steps. Returns an error code.
+ */
+export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32): i32 {
+  arenaReset();
+  d = dim;
+  r = order + 1;
+  k0 = nH0;
+  kv = nV;
+  chunk = chunkSteps;
+  mat = <usize>d * d << 4;
+  vec = <usize>d << 4;
+  const kt = <usize>(k0 + kv);
+  h0Terms = arenaAlloc(<usize>max(k0, 1) * mat);
+  vTerms = arenaAlloc(<usize>max(kv, 1) * mat);
+  energies = arenaAlloc(<usize>d << 3);
+  energies2 = arenaAlloc(<usize>d << 3);
+  basis = arenaAlloc(mat);
+  basisH = arenaAlloc(mat);
+  basis2 = arenaAlloc(mat);
+  m1 = arenaAlloc(mat);
+  m2 = arenaAlloc(mat);
+  x1 = arenaAlloc(mat);
+  x2 = arenaAlloc(mat);
+  y = arenaAlloc(mat);
+  x0a = arenaAlloc(mat);
+  x0b = arenaAlloc(mat);
+  series = arenaAlloc(<usize>r * vec);
+  exact = arenaAlloc(vec);
+  check = arenaAlloc(vec);
+  amp2 = arenaAlloc(vec);
+  t1 = arenaAlloc(<usize>r * vec);
+  t2 = arenaAlloc(<usize>r * vec);
+  ph1 = arenaAlloc(vec);
+  ph2 = arenaAlloc(vec);
+  rec = arenaAlloc(<usize>(r + 2) * vec);
+  tmp = arenaAlloc(<usize>(r + 2) * vec);
+  coefFine = arenaAlloc(<usize>chunk * 2 * max(<i32>kt, 1) << 4);
+  coefCoarse = arenaAlloc(<usize>chunk * max(<i32>kt, 1) << 4);
+  initial = arenaAlloc(vec);
+  work = arenaAlloc(<usize>d << 6);
+  return coefCoarse == 0 || work == 0 ? ERR_MEMORY : ERR_OK;
+}
+
+/** Buffer addresses for TypeScript. */
+export function bufH0Terms(): usize { return h0Terms; }
+export function bufVTerms(): usize { return vTerms; }
+export function bufInitial(): usize { return initial; }
+export function bufCoefFine(): usize { return coefFine; }
+export function bufCoefCoarse(): usize { return coefCoarse; }
+export function bufRecord(): usize { return rec; }
+export function bufEnergies(): usize { return energies; }
+export function bufBasis(): usize { return basis; }
+
+// ---------------------------------------------------------------- helpers
+
+@inline function cre(p: usize): f64 { return load<f64>(p); }
+@inline function cim(p: usize): f64 { return load<f64>(p, 8); }
+@inline function cset(p: usize, a: f64, b: f64): void {
+  store<f64>(p, a);
+  store<f64>(p, b, 8);
+}
+
+/** dst = Σ_k coef_k·term_k over n terms, coefficients at coefs (complex, contiguous). */
+function combine(dst: usize, terms: usize, n: i32, coefs: usize): void {
+  memory.fill(dst, 0, mat);
+  const count = <usize>d * d;
+  for (let k = 0; k < n; k++) {
+    const fr = cre(coefs + (<usize>k << 4)), fi = cim(coefs + (<usize>k << 4));
+    if (fr == 0 && fi == 0) continue;
+    const src = terms + <usize>k * mat;
+    for (let e: usize = 0; e < count; e++) {
+      const p = src + (e << 4), o = dst + (e << 4);
+      const ar = cre(p), ai = cim(p);
+      cset(o, cre(o) + fr * ar - fi * ai, cim(o) + fr * ai + fi * ar);
+    }
+  }
+}
+
+/** dst = a·P + b·Q (real a, b). */
+function lincomb(dst: usize, a: f64, p: usize, b: f64, q: usize): void {
+  const count = <usize>d * d << 1;
+  for (let e: usize = 0; e < count; e++) {
+    store<f64>(dst + (e << 3), a * load<f64>(p + (e << 3)) + b * load<f64>(q + (e << 3)));
+  }
+}
+
+/** dst = conj(src)ᵀ if conjugate, else srcᵀ. */
+function transpose(dst: usize, src: usize, conjugate: bool): void {
+  const s = conjugate ? -1.0 : 1.0;
+  for (let i = 0; i < d; i++) {
+    for (let j = 0; j < d; j++) {
+      const p = src + ((<usize>i * d + j) << 4), o = dst + ((<usize>j * d + i) << 4);
+      cset(o, cre(p), s * cim(p));
+    }
+  }
+}
+
+/** a ← U†·a·U in place, with U = basis (uses m1, m2). */
+function toBasis(a: usize): void {
+  // m1 rows = columns of U; zgemv(a, U columns) gives columns of a·U, i.e. rows of (a·U)ᵀ.
+  transpose(m1, basis, false);
+  memory.fill(m2, 0, mat);
+  zgemv(a, d, m1, m2, d, 1.0, 0.0);
+  // columns of U†·(a·U): zgemv(U†, rows of (a·U)ᵀ) gives rows of (U†aU)ᵀ.
+  memory.fill(m1, 0, mat);
+  zgemv(basisH, d, m2, m1, d, 1.0, 0.0);
+  transpose(a, m1, false);
+}
+
+/** ∞-norm (largest row sum of moduli) of a d×d matrix. */
+function normInf(a: usize): f64 {
+  let best = 0.0;
+  for (let i = 0; i < d; i++) {
+    let s = 0.0;
+    for (let j = 0; j < d; j++) {
+      const p = a + ((<usize>i * d + j) << 4);
+      s += Math.hypot(cre(p), cim(p));
+    }
+    best = max(best, s);
+  }
+  return best;
+}
+
+function norm1(v: usize): f64 {
+  let s = 0.0;
+  for (let a = 0; a < d; a++) {
+    const p = v + (<usize>a << 4);
+    s += Math.abs(cre(p)) + Math.abs(cim(p));
+  }
+  return s;
+}
+
+/** v ← e^{−iθ}·v for n vectors. */
+function rotate(v: usize, n: i32, theta: f64): void {
+  const c = Math.cos(theta), s = -Math.sin(theta);
+  const count = <usize>n * d;
+  for (let e: usize = 0; e < count; e++) {
+    const p = v + (e << 4);
+    const a = cre(p), b = cim(p);
+    cset(p, c * a - s * b, c * b + s * a);
+  }
+}
+
+// ------------------------------------------------------ block exponential
+
+// out (orders low..rr−1) = α·(D − μ)·inp_n + α·B·inp_{n−1}; inp orders below low are zero.
+function applyGenerator(
+  out: usize, inp: usize, rr: i32, low: i32,
+  mode: i32, dOp: usize, dScale: f64, mu: f64, bOp: usize, ar: f64, ai: f64,
+): void {
+  memory.fill(out + <usize>low * vec, 0, <usize>(rr - low) * vec);
+  if (mode == MODE_DENSE) {
+    zgemv(dOp, d, inp + <usize>low * vec, out + <usize>low * vec, rr - low, ar * dScale, ai * dScale);
+  }
+  if (mode != MODE_NONE) {
+    // the diagonal part: −μ (dense) or E_a − μ (diag), times α
+    const count = <usize>(rr - low) * d;
+    const base = <usize>low * vec;
+    for (let e: usize = 0; e < count; e++) {
+      const p = inp + base + (e << 4), o = out + base + (e << 4);
+      let g = -mu;
+      if (mode == MODE_DIAG) g += dScale * load<f64>(dOp + ((e % <usize>d) << 3));
+      const xr = cre(p), xi = cim(p);
+      cset(o, cre(o) + g * (ar * xr - ai * xi), cim(o) + g * (ar * xi + ai * xr));
+    }
+  }
+  if (bOp != 0 && rr - 1 > low) {
+    zgemv(bOp, d, inp + <usize>low * vec, out + <usize>(low + 1) * vec, rr - 1 - low, ar, ai);
+  }
+}
+
+/**
+ * psi (rr stacked orders) ← exp(−i·h·A)·psi, A = I⊗(dScale·D) + S⊗B, by a
+ * Taylor series summed to round-off on sub-steps with ‖h_s·A‖ ≤ THETA.
+ * see: Al-Mohy & Higham, SIAM J. Sci. Comput. 33 (2011).
+ * With mode NONE the generator is nilpotent and rr−1 terms are exact.
+ */
+function expBlock(h: f64, rr: i32, mode: i32, dOp: usize, dScale: f64, bOp: usize, psi: usize): i32 {
+  let mu = 0.0;
+  let normA = 0.0;
+  if (mode == MODE_DENSE) {
+    let tr = 0.0;
+    for (let a = 0; a < d; a++) tr += cre(dOp + ((<usize>a * d + a) << 4));
+    mu = dScale * tr / <f64>d;
+    normA = Math.abs(dScale) * normInf(dOp) + Math.abs(mu);
+  } else if (mode == MODE_DIAG) {
+    let lo = Infinity, hi = -Infinity;
+    for (let a = 0; a < d; a++) {
+      const e = dScale * load<f64>(dOp + (<usize>a << 3));
+      lo = min(lo, e);
+      hi = max(hi, e);
+    }
+    mu = 0.5 * (lo + hi);
+    normA = 0.5 * (hi - lo);
+  }
+  if (bOp != 0 && rr > 1) normA += normInf(bOp);
+  let sub = 1;
+  if (mode != MODE_NONE) sub = max(1, <i32>Math.ceil(Math.abs(h) * normA / THETA));
+  const hs = h / <f64>sub;
+  const bytes = <usize>rr * vec;
+  for (let s = 0; s < sub; s++) {
+    memory.copy(t1, psi, bytes);
+    let low = 0;
+    let quiet = 0;
+    let k = 1;
+    for (; k <= MAX_TERMS; k++) {
+      applyGenerator(t2, t1, rr, low, mode, dOp, dScale, mu, bOp, 0.0, -hs / <f64>k);
+      if (mode == MODE_NONE) low++;
+      let small = true;
+      for (let n = low; n < rr; n++) {
+        const term = t2 + <usize>n * vec, acc = psi + <usize>n * vec;
+        for (let a = 0; a < d; a++) {
+          const p = term + (<usize>a << 4), o = acc + (<usize>a << 4);
+          cset(o, cre(o) + cre(p), cim(o) + cim(p));
+        }
+        if (mode != MODE_NONE && norm1(term) > TINY * norm1(acc)) small = false;
+      }
+      if (mode == MODE_NONE) {
+        if (low >= rr - 1) break;
+      } else if (small) {
+        if (++quiet == 2) break;
+      } else {
+        quiet = 0;
+      }
+      const swap = t1;
+      t1 = t2;
+      t2 = swap;
+    }
+    if (k > MAX_TERMS) return ERR_TAYLOR;
+    if (mu != 0) rotate(psi, rr, mu * hs);
+  }
+  return ERR_OK;
+}
+
+// --------------------------------------------------------------- schemes
+
+function startVectors(v: usize): void {
+  memory.fill(series, 0, <usize>r * vec);
+  memory.copy(series, v, vec);
+  memory.copy(exact, v, vec);
+  memory.copy(check, v, vec);
+}
+
+/** Diagonalize the summed H0 (slot 0 of the H0 terms) into energies/basis. */
+function diagonalizeH0(): i32 {
+  memory.copy(y, h0Terms, mat);
+  if (eigh(y, d, energies, basis, work) != 0) return ERR_EIGEN;
+  transpose(basisH, basis, true);
+  return ERR_OK;
+}
+
+/**
+ * Prepare a run: the TypeScript side has written the H0 and V terms (for the
+ * time-independent and interaction schemes, H0 summed into one term and, for
+ * time-independent, V summed into one term) and the initial state.
+ */
+export function prepare(which: i32, strength: f64): i32 {
+  scheme = which;
+  lambda = strength;
+  if (scheme == SCHEME_TD_H0) {
+    startVectors(initial);
+    return ERR_OK;
+  }
+  const err = diagonalizeH0();
+  if (err != ERR_OK) return err;
+  for (let k = 0; k < kv; k++) toBasis(vTerms + <usize>k * mat);
+  // c0 = U†ψ0
+  memory.fill(tmp, 0, vec);
+  zgemv(basisH, d, initial, tmp, 1, 1.0, 0.0);
+  startVectors(tmp);
+  if (scheme == SCHEME_TIME_INDEPENDENT) {
+    // Exact: eigen-decomposition of H = H0 + λV (original basis): ψ(τ) = U₂ e^{−iE₂τ} U₂†ψ0.
+    // V is in the H0 eigenbasis now: y = diag(E) + λW there, then back to the original basis is not
+    // needed, since the spectrum is basis-free and the vectors are mapped by U.
+    for (let i = 0; i < d; i++) {
+      for (let j = 0; j < d; j++) {
+        const p = vTerms + ((<usize>i * d + j) << 4), o = y + ((<usize>i * d + j) << 4);
+        cset(o, lambda * cre(p) + (i == j ? load<f64>(energies + (<usize>i << 3)) : 0.0), lambda * cim(p));
+      }
+    }
+    memory.copy(x0a, y, mat); // kept: the dense generator for the independent Taylor check
+    if (eigh(y, d, energies2, basis2, work) != 0) return ERR_EIGEN;
+    // amp2 = U₂†·c0
+    transpose(m1, basis2, true);
+    memory.fill(amp2, 0, vec);
+    zgemv(m1, d, series, amp2, 1, 1.0, 0.0);
+  }
+  return ERR_OK;
+}
+
+@inline function coefAt(buf: usize, step: i32, node: i32, term: i32): usize {
+  return buf + ((<usize>(step * 2 + node) * <usize>(k0 + kv) + <usize>term) << 4);
+}
+
+/** ph = e^{i·E·τ} elementwise. */
+function phases(ph: usize, tau: f64): void {
+  for (let a = 0; a < d; a++) {
+    const w = load<f64>(energies + (<usize>a << 3)) * tau;
+    cset(ph + (<usize>a << 4), Math.cos(w), Math.sin(w));
+  }
+}
+
+/** m ← Φ∘m with Φ_ab = ph_a·conj(ph_b) (the interaction-picture phase). */
+function applyPhase(m: usize, ph: usize): void {
+  for (let a = 0; a < d; a++) {
+    const pa = ph + (<usize>a << 4);
+    const ar = cre(pa), ai = cim(pa);
+    for (let b = 0; b < d; b++) {
+      const pb = ph + (<usize>b << 4), o = m + ((<usize>a * d + b) << 4);
+      const fr = ar * cre(pb) + ai * cim(pb), fi = ai * cre(pb) - ar * cim(pb);
+      const mr = cre(o), mi = cim(o);
+      cset(o, fr * mr - fi * mi, fr * mi + fi * mr);
+    }
+  }
+}
+
+// Build the two factor generators for an interaction-picture step from coefficient samples.
+function ipFactors(buf: usize, step: i32, tau: f64, h: f64): void {
+  combine(m1, vTerms, kv, coefAt(buf, step, 0, k0));
+  combine(m2, vTerms, kv, coefAt(buf, step, 1, k0));
+  phases(ph1, tau + C1 * h);
+  phases(ph2, tau + C2 * h);
+  applyPhase(m1, ph1);
+  applyPhase(m2, ph2);
+  lincomb(x1, A1, m1, A2, m2);
+  lincomb(x2, A2, m1, A1, m2);
+}
+
+// Build the factor generators for a Schrödinger-picture step with H0(t).
+function tdFactors(buf: usize, step: i32): void {
+  combine(m1, h0Terms, k0, coefAt(buf, step, 0, 0));
+  combine(m2, h0Terms, k0, coefAt(buf, step, 1, 0));
+  lincomb(x0a, A1, m1, A2, m2);
+  lincomb(x0b, A2, m1, A1, m2);
+  combine(m1, vTerms, kv, coefAt(buf, step, 0, k0));
+  combine(m2, vTerms, kv, coefAt(buf, step, 1, k0));
+  lincomb(x1, A1, m1, A2, m2);
+  lincomb(x2, A2, m1, A1, m2);
+}
+
+// y = X0 + λ·XV
+function exactGenerator(x0: usize, xv: usize): void {
+  lincomb(y, 1.0, x0, lambda, xv);
+}
+
+/**
+ * Advance a time-dependent run by nsteps (even) steps of size h from τ0 =
+ * t − t_start, with coefficient samples for those steps in the chunk
+ * buffers. The step-doubled check runs alongside with step 2h.
+ */
+export function advance(nsteps: i32, tau0: f64, h: f64): i32 {
+  let err = ERR_OK;
+  for (let s = 0; s < nsteps; s++) {
+    const tau = tau0 + <f64>s * h;
+    if (scheme == SCHEME_INTERACTION) {
+      ipFactors(coefFine, s, tau, h);
+      err |= expBlock(h, r, MODE_NONE, 0, 0.0, x1, series);
+      err |= expBlock(h, r, MODE_NONE, 0, 0.0, x2, series);
+      err |= expBlock(h, 1, MODE_DENSE, x1, lambda, 0, exact);
+      err |= expBlock(h, 1, MODE_DENSE, x2, lambda, 0, exact);
+      if (s & 1) {
+        ipFactors(coefCoarse, s >> 1, tau - h, 2 * h);
+        err |= expBlock(2 * h, 1, MODE_DENSE, x1, lambda, 0, check);
+        err |= expBlock(2 * h, 1, MODE_DENSE, x2, lambda, 0, check);
+      }
+    } else {
+      tdFactors(coefFine, s);
+      err |= expBlock(h, r, MODE_DENSE, x0a, 1.0, x1, series);
+      err |= expBlock(h, r, MODE_DENSE, x0b, 1.0, x2, series);
+      exactGenerator(x0a, x1);
+      err |= expBlock(h, 1, MODE_DENSE, y, 1.0, 0, exact);
+      exactGenerator(x0b, x2);
+      err |= expBlock(h, 1, MODE_DENSE, y, 1.0, 0, exact);
+      if (s & 1) {
+        tdFactors(coefCoarse, s >> 1);
+        exactGenerator(x0a, x1);
+        err |= expBlock(2 * h, 1, MODE_DENSE, y, 1.0, 0, check);
+        exactGenerator(x0b, x2);
+        err |= expBlock(2 * h, 1, MODE_DENSE, y, 1.0, 0, check);
+      }
+    }
+    if (err != ERR_OK) return err;
+  }
+  return ERR_OK;
+}
+
+/**
+ * Advance a time-independent run by an interval h with no discretisation:
+ * the series by the exact block exponential in H0's eigenbasis, the
+ * independent check by the dense exponential of D + λW.
+ */
+export function advanceExact(h: f64): i32 {
+  let err = expBlock(h, r, MODE_DIAG, energies, 1.0, vTerms, series);
+  err |= expBlock(h, 1, MODE_DENSE, x0a, 1.0, 0, check);
+  return err;
+}
+
+/**
+ * Write the state at τ = t − t_start into the record buffer, in the case's
+ * basis: the r Dyson terms ψ0…ψN, then the exact state, then the check
+ * (step-doubled reference, or for time-independent runs the Taylor-propagated
+ * exact state).
+ */
+export function record(tau: f64): void {
+  const n = r + 2;
+  if (scheme == SCHEME_TD_H0) {
+    memory.copy(rec, series, <usize>r * vec);
+    memory.copy(rec + <usize>r * vec, exact, vec);
+    memory.copy(rec + <usize>(r + 1) * vec, check, vec);
+    return;
+  }
+  memory.copy(tmp, series, <usize>r * vec);
+  if (scheme == SCHEME_INTERACTION) {
+    memory.copy(tmp + <usize>r * vec, exact, vec);
+    memory.copy(tmp + <usize>(r + 1) * vec, check, vec);
+    // ψ = U·e^{−iEτ}·c
+    phases(ph1, -tau);
+    for (let v = 0; v < n; v++) {
+      for (let a = 0; a < d; a++) {
+        const p = tmp + <usize>v * vec + (<usize>a << 4), q = ph1 + (<usize>a << 4);
+        const xr = cre(p), xi = cim(p), pr = cre(q), pi = cim(q);
+        cset(p, pr * xr - pi * xi, pr * xi + pi * xr);
+      }
+    }
+    memory.fill(rec, 0, <usize>n * vec);
+    zgemv(basis, d, tmp, rec, n, 1.0, 0.0);
+    return;
+  }
+  // time-independent: exact from H's eigen-decomposition, in H0's eigenbasis first
+  const ex = tmp + <usize>r * vec;
+  memory.fill(ex, 0, vec);
+  for (let a = 0; a < d; a++) {
+    const w = -load<f64>(energies2 + (<usize>a << 3)) * tau;
+    const p = amp2 + (<usize>a << 4), o = ph2 + (<usize>a << 4);
+    const c = Math.cos(w), s = Math.sin(w);
+    cset(o, c * cre(p) - s * cim(p), c * cim(p) + s * cre(p));
+  }
+  zgemv(basis2, d, ph2, ex, 1, 1.0, 0.0);
+  memory.copy(tmp + <usize>(r + 1) * vec, check, vec);
+  memory.fill(rec, 0, <usize>n * vec);
+  zgemv(basis, d, tmp, rec, n, 1.0, 0.0);
+}

@@ -1,0 +1,313 @@
+/**
+ * The ordo engine as a library: Dyson terms order by order and the exactly
+ * propagated state for a finite Hamiltonian H(t) = H0(t) + λ·V(t).
+ *
+ * The numerical core is WebAssembly (compiled from `engine/assembly/` by
+ * `deno task build`); this module feeds it operator and coefficient data in
+ * chunks and reads the recorded states. It runs in Deno, Node and browsers:
+ * pass the wasm bytes to {@link loadEngine} where there is no file system.
+ *
+ * @example
+ * ```ts
+ * import { loadEngine, solve } from "./mod.ts";
+ * const engine = await loadEngine();
+ * // Two levels split by 1, coupled by 0.05, from the lower one (ħ = 1).
+ * const result = solve(engine, {
+ *   dim: 2,
+ *   unperturbed: [{ matrix: new Float64Array([0, 0, 0, 0, 0, 0, 1, 0]), coefficient: { kind: "constant", re: 1, im: 0 } }],
+ *   perturbation: [{ matrix: new Float64Array([0, 0, 0.05, 0, 0.05, 0, 0, 0]), coefficient: { kind: "constant", re: 1, im: 0 } }],
+ *   strength: 1,
+ *   initial: new Float64Array([1, 0, 0, 0]),
+ *   tStart: 0, tEnd: 10, steps: 100, samples: 11, order: 4,
+ * });
+ * console.assert(result.exact.length === 11 * 4);
+ * ```
+ *
+ * @module
+ */
+
+import {
+  CHUNK_STEPS,
+  type Model,
+  type OperatorTerm,
+  type Scheme,
+  schemeFor,
+  stepsPerSample,
+} from "./model.ts";
+
+export * from "./model.ts";
+
+interface Exports {
+  memory: WebAssembly.Memory;
+  arenaReset(): void;
+  arenaAlloc(bytes: number): number;
+  useSimd(on: number): void;
+  zgemvRef(a: number, d: number, x: number, y: number, r: number, ar: number, ai: number): void;
+  zgemvSimd(a: number, d: number, x: number, y: number, r: number, ar: number, ai: number): void;
+  peakLoop(iterations: number): number;
+  eigh(a: number, n: number, w: number, z: number, work: number): number;
+  init(dim: number, order: number, nH0: number, nV: number, chunk: number): number;
+  prepare(scheme: number, strength: number): number;
+  advance(nsteps: number, tau0: number, h: number): number;
+  advanceExact(h: number): number;
+  record(tau: number): void;
+  bufH0Terms(): number;
+  bufVTerms(): number;
+  bufInitial(): number;
+  bufCoefFine(): number;
+  bufCoefCoarse(): number;
+  bufRecord(): number;
+}
+
+/** A loaded engine instance (one per worker; not shareable between threads). */
+export interface Engine {
+  /** The raw WebAssembly exports, for benchmarks and tests of the kernels. */
+  readonly exports: Exports;
+}
+
+/** The engine failed for a reason the input did not cause. */
+export class EngineError extends Error {
+  /**
+   * @param message what failed
+   */
+  constructor(message: string) {
+    super(message);
+    this.name = "EngineError";
+  }
+}
+
+const MESSAGES: Record<number, string> = {
+  1: "the engine could not allocate its memory (WebAssembly memory is limited to 4 GiB)",
+  2: "the Hermitian eigensolver did not converge",
+  3: "the Taylor series of a step exponential did not converge (a step is far too large for the operator norm)",
+};
+
+function check(code: number): void {
+  if (code !== 0) throw new EngineError(MESSAGES[code] ?? `engine error ${code}`);
+}
+
+/**
+ * Instantiates the engine.
+ *
+ * @param wasm the module bytes; default: `ordo.wasm` beside this file
+ * @returns an engine ready for {@link solve}
+ */
+export async function loadEngine(wasm?: BufferSource): Promise<Engine> {
+  const bytes = wasm ?? await readWasm();
+  const { instance } = await WebAssembly.instantiate(bytes, {
+    env: {
+      abort(_msg: number, _file: number, line: number, column: number) {
+        throw new EngineError(`engine aborted at ${line}:${column}`);
+      },
+    },
+  });
+  return { exports: instance.exports as unknown as Exports };
+}
+
+async function readWasm(): Promise<Uint8Array> {
+  const url = new URL("./ordo.wasm", import.meta.url);
+  try {
+    return await Deno.readFile(url);
+  } catch {
+    throw new EngineError(`the engine is not built (${url.pathname} is missing): run \`deno task build\``);
+  }
+}
+
+/** What {@link solve} returns. States are interleaved (re, im), sample-major: sample k at offset 2·d·k. */
+export interface Result {
+  scheme: Scheme;
+  /** Integrator steps actually taken (0 for the time-independent scheme). */
+  steps: number;
+  /** Integrator step size (the sample interval for the time-independent scheme). */
+  stepSize: number;
+  /** Recorded times. */
+  times: Float64Array;
+  /** terms[n]: λⁿ·ψₙ at every recorded time, n = 0…N. */
+  terms: Float64Array[];
+  /** The exactly propagated state at every recorded time. */
+  exact: Float64Array;
+  /**
+   * An independent estimate of the exact state: the step-doubled run (2h)
+   * for time-dependent schemes, or for time-independent ones the exact state
+   * propagated by a Taylor series instead of the eigen-decomposition.
+   */
+  check: Float64Array;
+  /** Divide |exact − check| by this to estimate the exact state's own error (15 for step doubling, 1 otherwise). */
+  checkDivisor: number;
+  /** Wall time in milliseconds. */
+  elapsedMs: number;
+}
+
+/**
+ * Computes the Dyson terms and the exact state of a model.
+ *
+ * @param engine a loaded engine
+ * @param model the Hamiltonian, start state and grid
+ * @param onProgress called with the fraction done after each chunk
+ * @returns the recorded states
+ * @throws {EngineError} if the engine runs out of memory or a factorisation fails
+ */
+export function solve(engine: Engine, model: Model, onProgress?: (fraction: number) => void): Result {
+  const started = performance.now();
+  const e = engine.exports;
+  const scheme = schemeFor(model);
+  const d = model.dim, r = model.order + 1, samples = model.samples;
+  const sumConstant = scheme !== "time-dependent-h0";
+  const h0 = sumConstant ? [sumTerms(model.unperturbed, d)] : model.unperturbed;
+  const v = scheme === "time-independent" ? [sumTerms(model.perturbation, d)] : model.perturbation;
+  check(e.init(d, model.order, h0.length, v.length, CHUNK_STEPS));
+  const mem = () => e.memory.buffer;
+  const writeTerms = (ptr: number, terms: OperatorTerm[]) => {
+    terms.forEach((t, k) => new Float64Array(mem(), ptr + k * 16 * d * d, 2 * d * d).set(t.matrix));
+  };
+  writeTerms(e.bufH0Terms(), h0);
+  writeTerms(e.bufVTerms(), v);
+  new Float64Array(mem(), e.bufInitial(), 2 * d).set(model.initial);
+  const schemeCode = { "time-independent": 0, "interaction-picture": 1, "time-dependent-h0": 2 }[scheme];
+  check(e.prepare(schemeCode, model.strength));
+
+  const times = new Float64Array(samples);
+  const interval = (model.tEnd - model.tStart) / (samples - 1);
+  for (let k = 0; k < samples; k++) times[k] = k === samples - 1 ? model.tEnd : model.tStart + k * interval;
+  const terms = Array.from({ length: r }, () => new Float64Array(samples * 2 * d));
+  const exact = new Float64Array(samples * 2 * d);
+  const checkStates = new Float64Array(samples * 2 * d);
+  const rec = new Float64Array(mem(), e.bufRecord(), (r + 2) * 2 * d);
+  const powers = Array.from({ length: r }, (_, n) => model.strength ** n);
+  const store = (k: number, tau: number) => {
+    e.record(tau);
+    for (let n = 0; n < r; n++) {
+      const src = rec.subarray(n * 2 * d, (n + 1) * 2 * d);
+      const dst = terms[n]!.subarray(k * 2 * d, (k + 1) * 2 * d);
+      for (let a = 0; a < 2 * d; a++) dst[a] = powers[n]! * src[a]!;
+    }
+    exact.set(rec.subarray(r * 2 * d, (r + 1) * 2 * d), k * 2 * d);
+    checkStates.set(rec.subarray((r + 1) * 2 * d, (r + 2) * 2 * d), k * 2 * d);
+  };
+  store(0, 0);
+
+  if (scheme === "time-independent") {
+    for (let k = 1; k < samples; k++) {
+      check(e.advanceExact(interval));
+      store(k, k * interval);
+      onProgress?.(k / (samples - 1));
+    }
+    return {
+      scheme,
+      steps: 0,
+      stepSize: interval,
+      times,
+      terms,
+      exact,
+      check: checkStates,
+      checkDivisor: 1,
+      elapsedMs: performance.now() - started,
+    };
+  }
+
+  const per = stepsPerSample(model);
+  const h = interval / per;
+  const all = [...h0, ...v];
+  const kt = all.length;
+  const fine = new Float64Array(mem(), e.bufCoefFine(), CHUNK_STEPS * 2 * kt * 2);
+  const coarse = new Float64Array(mem(), e.bufCoefCoarse(), CHUNK_STEPS * kt * 2);
+  const c1 = 0.5 - Math.sqrt(3) / 6, c2 = 0.5 + Math.sqrt(3) / 6;
+  const fineTimes = new Float64Array(2 * CHUNK_STEPS), coarseTimes = new Float64Array(CHUNK_STEPS);
+  const values = new Float64Array(4 * CHUNK_STEPS);
+  const fill = (buffer: Float64Array, nodeTimes: Float64Array, count: number) => {
+    all.forEach((term, k) => {
+      const c = term.coefficient;
+      if (c.kind === "constant") {
+        for (let q = 0; q < count; q++) {
+          buffer[2 * (q * kt + k)] = c.re;
+          buffer[2 * (q * kt + k) + 1] = c.im;
+        }
+        return;
+      }
+      c.sample(nodeTimes.subarray(0, count), values);
+      for (let q = 0; q < count; q++) {
+        buffer[2 * (q * kt + k)] = values[2 * q]!;
+        buffer[2 * (q * kt + k) + 1] = values[2 * q + 1]!;
+      }
+    });
+  };
+  const total = per * (samples - 1);
+  for (let j = 0; j < samples - 1; j++) {
+    for (let done = 0; done < per;) {
+      const n = Math.min(CHUNK_STEPS, per - done);
+      const first = j * per + done;
+      for (let s = 0; s < n; s++) {
+        const t = model.tStart + (first + s) * h;
+        fineTimes[2 * s] = t + c1 * h;
+        fineTimes[2 * s + 1] = t + c2 * h;
+      }
+      for (let p = 0; p < n / 2; p++) {
+        const t = model.tStart + (first + 2 * p) * h;
+        coarseTimes[2 * p] = t + c1 * 2 * h;
+        coarseTimes[2 * p + 1] = t + c2 * 2 * h;
+      }
+      fill(fine, fineTimes, 2 * n);
+      fill(coarse, coarseTimes, n);
+      check(e.advance(n, first * h, h));
+      done += n;
+      onProgress?.((first + n) / total);
+    }
+    store(j + 1, (j + 1) * per * h);
+  }
+  return {
+    scheme,
+    steps: total,
+    stepSize: h,
+    times,
+    terms,
+    exact,
+    check: checkStates,
+    checkDivisor: 15,
+    elapsedMs: performance.now() - started,
+  };
+}
+
+/** Σ coef·matrix over constant terms (the schemes that diagonalize take one summed H0 or V). */
+function sumTerms(terms: OperatorTerm[], d: number): OperatorTerm {
+  const m = new Float64Array(2 * d * d);
+  for (const t of terms) {
+    if (t.coefficient.kind !== "constant") throw new EngineError("cannot sum a time-dependent term");
+    const { re, im } = t.coefficient;
+    for (let k = 0; k < m.length; k += 2) {
+      m[k]! += re * t.matrix[k]! - im * t.matrix[k + 1]!;
+      m[k + 1]! += re * t.matrix[k + 1]! + im * t.matrix[k]!;
+    }
+  }
+  return { matrix: m, coefficient: { kind: "constant", re: 1, im: 0 } };
+}
+
+/**
+ * Eigen-decomposition of a Hermitian matrix with the engine's solver.
+ *
+ * @param engine a loaded engine
+ * @param matrix d×d, row-major, interleaved (re, im)
+ * @param d the dimension
+ * @returns ascending eigenvalues and the eigenvectors as columns (row-major, interleaved)
+ */
+export function eigh(engine: Engine, matrix: Float64Array, d: number): { values: Float64Array; vectors: Float64Array } {
+  const e = engine.exports;
+  e.arenaReset();
+  const a = e.arenaAlloc(16 * d * d), w = e.arenaAlloc(8 * d), z = e.arenaAlloc(16 * d * d), work = e.arenaAlloc(64 * d);
+  if (!a || !w || !z || !work) check(1);
+  new Float64Array(e.memory.buffer, a, 2 * d * d).set(matrix);
+  check(e.eigh(a, d, w, z, work) === 0 ? 0 : 2);
+  return {
+    values: new Float64Array(e.memory.buffer, w, d).slice(),
+    vectors: new Float64Array(e.memory.buffer, z, 2 * d * d).slice(),
+  };
+}
+
+/** Populations |ψ_a|² of the state at sample k of a sample-major state array. */
+export function populationsAt(states: Float64Array, d: number, k: number): Float64Array {
+  const out = new Float64Array(d);
+  for (let a = 0; a < d; a++) {
+    const re = states[2 * (k * d + a)]!, im = states[2 * (k * d + a) + 1]!;
+    out[a] = re * re + im * im;
+  }
+  return out;
+}

@@ -1,0 +1,90 @@
+/**
+ * The engine's input: a finite Hamiltonian H(t) = H0(t) + λ·V(t), each part a
+ * sum of constant matrices times scalar coefficients, an initial state and a
+ * time grid. Matrices are dense, row-major, with real and imaginary parts
+ * interleaved.
+ *
+ * @module
+ */
+
+/** Fills `out` (interleaved re, im) with a coefficient's values at `times`. */
+export type Sampler = (times: Float64Array, out: Float64Array) => void;
+
+/** A scalar coefficient: a constant, or a function of time sampled on demand. */
+export type Coefficient =
+  | { kind: "constant"; re: number; im: number }
+  | { kind: "sampled"; sample: Sampler };
+
+/** One term c(t)·M of H0 or of V. */
+export interface OperatorTerm {
+  /** d×d, row-major, interleaved (re, im): length 2·d². */
+  matrix: Float64Array;
+  /** The scalar in front. */
+  coefficient: Coefficient;
+}
+
+/** Everything the engine needs for one run. */
+export interface Model {
+  /** Hilbert-space dimension d. */
+  dim: number;
+  /** H0(t) = Σ terms; constant when every coefficient is constant. */
+  unperturbed: OperatorTerm[];
+  /** V(t) = Σ terms: the series is in powers of λ·V. */
+  perturbation: OperatorTerm[];
+  /** λ, the bookkeeping strength (1 unless swept). */
+  strength: number;
+  /** ψ(t_start): length 2·d, interleaved, unit norm. */
+  initial: Float64Array;
+  /** Start of the time window. */
+  tStart: number;
+  /** End of the time window (> tStart). */
+  tEnd: number;
+  /** Requested number of integrator steps (the engine may round up; it reports what it used). */
+  steps: number;
+  /** Recorded times, evenly spaced, ends included (≥ 2). */
+  samples: number;
+  /** Highest Dyson order N ≥ 0. */
+  order: number;
+}
+
+/** Whether a coefficient depends on time. */
+export function isTimeDependent(c: Coefficient): boolean {
+  return c.kind === "sampled";
+}
+
+/** The scheme a model calls for. */
+export type Scheme = "time-independent" | "interaction-picture" | "time-dependent-h0";
+
+/** Picks the scheme: no t anywhere, constant H0 with V(t), or H0(t). */
+export function schemeFor(model: Model): Scheme {
+  if (model.unperturbed.some((t) => isTimeDependent(t.coefficient))) return "time-dependent-h0";
+  if (model.perturbation.some((t) => isTimeDependent(t.coefficient))) return "interaction-picture";
+  return "time-independent";
+}
+
+/** Integrator steps per recorded interval: enough for the request, even (for step doubling). */
+export function stepsPerSample(model: Model): number {
+  const per = Math.max(1, Math.ceil(model.steps / (model.samples - 1)));
+  return per % 2 === 0 ? per : per + 1;
+}
+
+/** The memory limit of the engine: 32-bit WebAssembly addresses at most 4 GiB; we keep headroom. */
+export const MEMORY_LIMIT_BYTES = 3 * 1024 ** 3;
+
+/** Steps whose coefficient samples are held at once (the input arrives in chunks of this many). */
+export const CHUNK_STEPS = 256;
+
+/** Estimated engine memory for a model, in bytes, with its largest part named. */
+export function estimateMemory(model: Model): { bytes: number; largest: string } {
+  const d = model.dim, n1 = model.order + 1;
+  const terms = model.unperturbed.length + model.perturbation.length;
+  const parts: [string, number][] = [
+    [`recorded states: ${model.samples} samples × ${n1 + 2} vectors × d = ${d} × 16 B`, model.samples * (n1 + 2) * d * 16],
+    [`operators: ${terms + 8} matrices of d² = ${d * d} × 16 B`, (terms + 8) * d * d * 16],
+    [`block generator work space: ${6 * (n1 + 1)} vectors`, 6 * (n1 + 1) * d * 16 * 4],
+    [`coefficient chunk: ${CHUNK_STEPS} steps × 4 nodes × ${terms} terms`, CHUNK_STEPS * 4 * terms * 16],
+  ];
+  const bytes = parts.reduce((s, p) => s + p[1], 0) + 2 * 65536;
+  const largest = parts.reduce((a, b) => (b[1] > a[1] ? b : a))[0];
+  return { bytes, largest };
+}
