@@ -7,7 +7,7 @@
  */
 
 import { CaseError, type KeyPath } from "./case_error.ts";
-import type { EntrySpec, SectionSpec, TermSpec } from "./case_schema.ts";
+import type { EntrySpec, MatrixSpec, SectionSpec, TermSpec } from "./case_schema.ts";
 import { type Complex, ComplexMatrix } from "./complex_matrix.ts";
 import {
   BUILTIN_NAMES,
@@ -68,7 +68,7 @@ export interface BuiltCase {
 }
 
 const NAME = /^[A-Za-z_][A-Za-z0-9_]*$/;
-const RESERVED = new Set(["t", ...BUILTIN_NAMES, ...OPERATOR_FUNCTIONS]);
+const RESERVED = new Set(["t", "row", "col", ...BUILTIN_NAMES, ...OPERATOR_FUNCTIONS]);
 const MAX_ORDER = 40;
 
 /**
@@ -292,8 +292,13 @@ function buildSpace(source: CaseSource): Space {
     throw new CaseError("both [levels] and [subsystems] are given", ["subsystems"], "use [levels] for one system, [subsystems] for a composite one");
   }
   if (spec.levels) {
-    checkLabels(spec.levels.names, ["levels", "names"]);
-    return productSpace([{ name: "levels", kind: "levels", labels: spec.levels.names }]);
+    const { names, count } = spec.levels;
+    if ((names === undefined) === (count === undefined)) {
+      throw new CaseError("give exactly one of names and count", ["levels"], 'e.g. names = ["g", "e"], or count = 100 for levels "0" … "99"');
+    }
+    const labels = names ?? Array.from({ length: count! }, (_, k) => String(k));
+    checkLabels(labels, ["levels", "names"]);
+    return productSpace([{ name: "levels", kind: "levels", labels }]);
   }
   if (spec.subsystems) {
     const subsystems: Subsystem[] = [];
@@ -326,8 +331,8 @@ function buildSpace(source: CaseSource): Space {
   }
   // Neither: the dimension comes from the first explicit matrix.
   const first = [spec.unperturbed, ...(spec.unperturbed.terms ?? []), spec.perturbation, ...(spec.perturbation.terms ?? [])]
-    .find((t) => t.matrix)?.matrix;
-  if (!first) {
+    .find((t) => Array.isArray(t.matrix))?.matrix;
+  if (!Array.isArray(first)) {
     throw new CaseError(
       "operator notation needs named levels",
       ["levels"],
@@ -413,7 +418,19 @@ function firstNonFinite(m: ComplexMatrix): string | undefined {
   return undefined;
 }
 
-function explicitMatrix(rows: EntrySpec[][], dim: number, scope: Scope, path: KeyPath): ComplexMatrix {
+function explicitMatrix(spec: MatrixSpec, dim: number, scope: Scope, path: KeyPath): ComplexMatrix {
+  const m = new ComplexMatrix(dim, dim);
+  if (!Array.isArray(spec)) {
+    const entry = compileExpression(spec.entry, { ...scope, variables: ["row", "col"] }, [...path, "entry"]);
+    for (let i = 0; i < dim; i++) {
+      for (let j = 0; j < dim; j++) {
+        const z = toComplex(entry.at(0, i, j));
+        m.set(i, j, z.re, z.im);
+      }
+    }
+    return m;
+  }
+  const rows = spec;
   if (rows.length !== dim) {
     throw new CaseError(
       `has ${rows.length} rows, but the space has dimension ${dim}`,
@@ -421,7 +438,6 @@ function explicitMatrix(rows: EntrySpec[][], dim: number, scope: Scope, path: Ke
       `write a ${dim}×${dim} matrix (one row per level)`,
     );
   }
-  const m = new ComplexMatrix(dim, dim);
   rows.forEach((row, i) => {
     if (row.length !== dim) {
       throw new CaseError(

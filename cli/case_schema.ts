@@ -13,8 +13,11 @@ const scalar = z.union([z.number(), z.string()]);
 /** A matrix entry: number, expression, or [re, im]. */
 export const entrySchema = z.union([z.number(), z.string(), z.tuple([scalar, scalar])]);
 
+/** An explicit matrix: rows of entries, or one expression of row and col (0-based) for every entry. */
+export const matrixSchema = z.union([z.array(z.array(entrySchema)), z.object({ entry: z.string() }).strict()]);
+
 const termFields = {
-  matrix: z.array(z.array(entrySchema)).optional(),
+  matrix: matrixSchema.optional(),
   op: z.string().optional(),
   coef: scalar.optional(),
   hc: z.boolean().optional(),
@@ -53,7 +56,10 @@ export const caseSchema = z.object({
   title: z.string().optional(),
   params: z.record(z.union([z.number(), z.string(), z.tuple([scalar, scalar])])).optional(),
   units: z.object({ time: z.string().optional(), energy: z.string().optional() }).strict().optional(),
-  levels: z.object({ names: z.array(z.string()).min(1) }).strict().optional(),
+  levels: z.object({
+    names: z.array(z.string()).min(1).optional(),
+    count: z.number().int().min(1).optional(),
+  }).strict().optional(),
   subsystems: z.record(subsystemSchema).optional(),
   unperturbed: sectionSchema,
   perturbation: sectionSchema,
@@ -83,6 +89,8 @@ export type CaseSpec = z.infer<typeof caseSchema>;
 export type TermSpec = z.infer<typeof termSchema>;
 /** A section as written. */
 export type SectionSpec = z.infer<typeof sectionSchema>;
+/** A matrix as written. */
+export type MatrixSpec = z.infer<typeof matrixSchema>;
 /** A matrix entry as written. */
 export type EntrySpec = z.infer<typeof entrySchema>;
 

@@ -42,6 +42,8 @@ export interface Scope {
   params: ReadonlyMap<string, Value>;
   /** Whether the time `t` may appear. */
   allowTime: boolean;
+  /** Further variables passed at evaluation, after t (e.g. row and col of a matrix entry). */
+  variables?: readonly string[];
 }
 
 /** A compiled expression. */
@@ -52,8 +54,8 @@ export interface Compiled {
   readonly usesTime: boolean;
   /** Whether its value may be complex. */
   readonly isComplex: boolean;
-  /** The value at time t (pass 0 when time is not allowed). */
-  at(t: number): Value;
+  /** The value at time t (pass 0 when time is not allowed), then the scope's variables. */
+  at(t: number, ...variables: number[]): Value;
   /** Samples at `times` into `out` as interleaved (re, im). */
   sample(times: Float64Array, out: Float64Array): void;
 }
@@ -202,7 +204,7 @@ export function compileNode(node: MathNode, source: string, scope: Scope, path: 
     throw new CaseError(`in "${source}": ${what}`, path, fix);
   };
   const knownNames = () =>
-    [...scope.params.keys(), ...(scope.allowTime ? ["t"] : []), ...BUILTIN_NAMES].join(", ");
+    [...scope.params.keys(), ...(scope.allowTime ? ["t"] : []), ...(scope.variables ?? []), ...BUILTIN_NAMES].join(", ");
   const toC = (c: Code): string => (c.kind === "c" ? c.js : `C.c(${c.js},0)`);
 
   const gen = (n: MathNode): Code => {
@@ -227,6 +229,7 @@ export function compileNode(node: MathNode, source: string, scope: Scope, path: 
           usesTime = true;
           return { kind: "r", js: "t" };
         }
+        if (scope.variables?.includes(name)) return { kind: "r", js: name };
         const value = scope.params.get(name);
         if (value !== undefined) {
           consts.push(value);
@@ -351,8 +354,8 @@ export function compileNode(node: MathNode, source: string, scope: Scope, path: 
   };
 
   const code = gen(node);
-  const body = `return (t) => ${code.js};`;
-  const fn = new Function("C", "P", "K", body)(C, PULSES, consts) as (t: number) => Value;
+  const body = `return (${["t", ...(scope.variables ?? [])].join(",")}) => ${code.js};`;
+  const fn = new Function("C", "P", "K", body)(C, PULSES, consts) as (t: number, ...v: number[]) => Value;
   const isComplex = code.kind === "c";
   const sample = isComplex
     ? (times: Float64Array, out: Float64Array) => {

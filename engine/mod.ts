@@ -94,7 +94,8 @@ function check(code: number): void {
  */
 export async function loadEngine(wasm?: BufferSource): Promise<Engine> {
   const bytes = wasm ?? await readWasm();
-  const { instance } = await WebAssembly.instantiate(bytes, {
+  const module = await WebAssembly.compile(bytes);
+  const instance = await WebAssembly.instantiate(module, {
     env: {
       abort(_msg: number, _file: number, line: number, column: number) {
         throw new EngineError(`engine aborted at ${line}:${column}`);
@@ -104,7 +105,7 @@ export async function loadEngine(wasm?: BufferSource): Promise<Engine> {
   return { exports: instance.exports as unknown as Exports };
 }
 
-async function readWasm(): Promise<Uint8Array> {
+async function readWasm(): Promise<Uint8Array<ArrayBuffer>> {
   const url = new URL("./ordo.wasm", import.meta.url);
   try {
     return await Deno.readFile(url);

@@ -1,0 +1,162 @@
+/**
+ * From the engine's recorded states to what the user is told: per order the
+ * population of the partial sum, its error against the exact state, the
+ * a-priori bound, the probability at consistent order and the term-norm
+ * ratio; then the verdict (smallest order within tolerance, first order
+ * within 1% / 10%, growing terms, whether the reference is good enough).
+ *
+ * @module
+ */
+
+import type { Result } from "../engine/mod.ts";
+
+/** One row of the order table for one target. */
+export interface OrderRow {
+  order: number;
+  /** |Σ_{m≤n} ψ_m|² on the target. */
+  population: number;
+  /** |population − exact|. */
+  error: number;
+  /** A-priori bound on the population error from ‖Σ_{m>n} ψ_m‖ ≤ e^x − Σ_{m≤n} xᵐ/m!. */
+  bound: number;
+  /** Σ_{k≤n} Σ_{m+l=k} Re(c_m* c_l): the probability expanded consistently to order n in λ. */
+  consistent: number;
+  /** ‖ψ_n‖/‖ψ_{n−1}‖ (whole state), NaN for n = 0 or a zero denominator. */
+  ratio: number;
+}
+
+/** The verdict for one target. */
+export interface TargetVerdict {
+  label: string;
+  exact: number;
+  rows: OrderRow[];
+  /** Smallest order within tolerance (and above the reference error), or null. */
+  minOrder: number | null;
+  /** Relative error of the first-order partial sum (NaN when exact is 0). */
+  firstOrderRelative: number;
+}
+
+/** Everything `run` reports about one time. */
+export interface Analysis {
+  time: number;
+  sample: number;
+  tolerance: number;
+  /** Estimated error of the exact populations (largest over targets and times). */
+  referenceError: number;
+  /** The reference is good enough to judge orders at the tolerance. */
+  referenceOk: boolean;
+  /** Norm of each Dyson term at this time. */
+  termNorms: number[];
+  /** Terms grow with order at the top of the series. */
+  growing: boolean;
+  targets: TargetVerdict[];
+}
+
+/** e^x − Σ_{m≤n} xᵐ/m!, summed from the tail for accuracy. */
+export function tailBound(x: number, n: number): number {
+  // Σ_{m>n} xᵐ/m! = e^x·P(n+1, x) computed by the series from m = n+1 on.
+  let term = 1;
+  for (let m = 1; m <= n + 1; m++) term *= x / m;
+  let sum = 0;
+  for (let m = n + 1; m < n + 2000; m++) {
+    sum += term;
+    term *= x / (m + 1);
+    if (term < 1e-17 * sum) break;
+  }
+  return sum;
+}
+
+function amp(states: Float64Array, d: number, k: number, a: number): [number, number] {
+  return [states[2 * (k * d + a)]!, states[2 * (k * d + a) + 1]!];
+}
+
+function stateNorm(states: Float64Array, d: number, k: number): number {
+  let s = 0;
+  for (let a = 0; a < 2 * d; a++) s += states[2 * k * d + a]! ** 2;
+  return Math.sqrt(s);
+}
+
+/**
+ * Analyses one recorded time.
+ *
+ * @param result the engine's result
+ * @param labels the basis labels
+ * @param targets the labels to report
+ * @param normIntegral x = ∫‖λV‖dt up to the end of the window (the bound uses x scaled to the time)
+ * @param tolerance absolute tolerance on populations
+ * @param sample which recorded time (default: the last)
+ * @returns the table and verdict
+ */
+export function analyse(
+  result: Result,
+  labels: string[],
+  targets: string[],
+  normIntegral: number,
+  tolerance: number,
+  sample = result.times.length - 1,
+): Analysis {
+  const d = labels.length;
+  const k = sample;
+  const orders = result.terms.length;
+  const termNorms = result.terms.map((t) => stateNorm(t, d, k));
+  // x over the whole window bounds every earlier time too.
+  const x = normIntegral;
+
+  let referenceError = 0;
+  for (let s = 0; s < result.times.length; s++) {
+    for (const label of targets) {
+      const a = labels.indexOf(label);
+      const [er, ei] = amp(result.exact, d, s, a), [cr, ci] = amp(result.check, d, s, a);
+      referenceError = Math.max(referenceError, Math.abs(er * er + ei * ei - cr * cr - ci * ci) / result.checkDivisor);
+    }
+  }
+  const referenceOk = referenceError <= 0.1 * tolerance;
+
+  const verdicts = targets.map((label): TargetVerdict => {
+    const a = labels.indexOf(label);
+    const [er, ei] = amp(result.exact, d, k, a);
+    const exact = er * er + ei * ei;
+    const c = result.terms.map((t) => amp(t, d, k, a));
+    let sr = 0, si = 0, consistent = 0;
+    const rows: OrderRow[] = [];
+    for (let n = 0; n < orders; n++) {
+      sr += c[n]![0];
+      si += c[n]![1];
+      // p_n = Σ_{m+l=n} Re(c_m* c_l)
+      for (let m = 0; m <= n; m++) consistent += c[m]![0] * c[n - m]![0] + c[m]![1] * c[n - m]![1];
+      const population = sr * sr + si * si;
+      const eps = tailBound(x, n);
+      rows.push({
+        order: n,
+        population,
+        error: Math.abs(population - exact),
+        bound: Math.min(1, eps * (2 + eps)),
+        consistent,
+        ratio: n > 0 && termNorms[n - 1]! > 0 ? termNorms[n]! / termNorms[n - 1]! : NaN,
+      });
+    }
+    // No order is called converged below what the reference itself can resolve.
+    const hit = referenceOk ? rows.find((r) => r.error <= tolerance) : undefined;
+    const first = rows[1];
+    return {
+      label,
+      exact,
+      rows,
+      minOrder: hit ? hit.order : null,
+      firstOrderRelative: first && exact > 0 ? first.error / exact : NaN,
+    };
+  });
+  const top = termNorms.length;
+  const growing = top >= 3 && termNorms[top - 1]! > termNorms[top - 2]! && termNorms[top - 2]! > termNorms[top - 3]! &&
+    termNorms[top - 1]! > 1e-12;
+  return {
+    time: result.times[k]!,
+    sample: k,
+    tolerance,
+    referenceError,
+    referenceOk,
+    termNorms,
+    growing,
+    targets: verdicts,
+  };
+}

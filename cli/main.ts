@@ -1,0 +1,187 @@
+/**
+ * The `ordo` command line: parses arguments, dispatches to a command, and
+ * turns every error into a message and an exit code (0 success, 1 a check
+ * failed, 2 bad input, 3 internal error). Results go to stdout; progress and
+ * diagnostics to stderr.
+ *
+ * @module
+ */
+
+import { parseArgs, type ParseArgsConfig } from "node:util";
+import { CaseError, UsageError } from "./case_error.ts";
+import { buildCase, type BuildOptions } from "./build_model.ts";
+import { readCase } from "./parse_case.ts";
+import { formatInspection, inspectCase } from "./inspect.ts";
+import { EXAMPLES, initCase } from "./init.ts";
+import { formatRun, runCase, runJson } from "./run.ts";
+import { EngineError, loadEngine } from "../engine/mod.ts";
+import { VERSION } from "./version.ts";
+
+const HELP = `ordo ${VERSION}: how far is each Dyson order from the exact evolution?
+
+usage: ordo <command> [options]
+
+commands:
+  run CASE        Dyson series and exact propagation for one case: table and verdict
+                  --json              the result as JSON on stdout (nothing else there)
+                  --order N           highest Dyson order (overrides [series] order)
+                  --steps N           integrator steps (overrides [grid] steps)
+                  --set name=value    override a param (repeatable)
+                  --targets a,b       labels to report (overrides [series] targets)
+                  --at t              report at the recorded time nearest to t
+                  --quiet             no progress on stderr
+  inspect CASE    parse and validate: dimension, spectrum, Bohr frequencies, steps, memory
+                  --set name=value    override a param (repeatable)
+  init NAME       write a starter case NAME.toml
+                  --example NAME      one of: ${Object.keys(EXAMPLES).join(", ")}
+                  --force             overwrite an existing file
+  bench           the performance benchmark suite
+
+exit codes: 0 success, 1 a check failed, 2 bad input, 3 internal error
+`;
+
+function usage(message: string): never {
+  throw new UsageError(message);
+}
+
+function parseOrFail(args: string[], options: NonNullable<ParseArgsConfig["options"]>) {
+  try {
+    return parseArgs({ args, options, allowPositionals: true, strict: true });
+  } catch (e) {
+    return usage(`${(e as Error).message.replace(/\. To specify.*$/s, "")}; see \`ordo --help\``);
+  }
+}
+
+function integerFlag(value: unknown, flag: string): number | undefined {
+  if (value === undefined) return undefined;
+  const n = Number(value);
+  if (!Number.isInteger(n)) usage(`${flag} takes a whole number, got "${value}"`);
+  return n;
+}
+
+function buildOptions(values: Record<string, unknown>): BuildOptions {
+  const set: Record<string, string> = {};
+  for (const item of (values.set as string[] | undefined) ?? []) {
+    const eq = item.indexOf("=");
+    if (eq <= 0) usage(`--set takes name=value, got "${item}"`);
+    set[item.slice(0, eq).trim()] = item.slice(eq + 1).trim();
+  }
+  const targets = values.targets === undefined
+    ? undefined
+    : String(values.targets).split(",").map((s) => s.trim()).filter(Boolean);
+  return {
+    set,
+    order: integerFlag(values.order, "--order"),
+    steps: integerFlag(values.steps, "--steps"),
+    targets,
+  };
+}
+
+function oneCase(positionals: string[], command: string): string {
+  if (positionals.length !== 1) usage(`${command} takes one case file, e.g. \`ordo ${command} cases/two_level.toml\``);
+  return positionals[0]!;
+}
+
+async function main(argv: string[]): Promise<number> {
+  const [command, ...rest] = argv;
+  if (!command || command === "--help" || command === "-h" || command === "help") {
+    console.log(HELP);
+    return 0;
+  }
+  if (command === "--version") {
+    console.log(VERSION);
+    return 0;
+  }
+  switch (command) {
+    case "run": {
+      const { values, positionals } = parseOrFail(rest, {
+        json: { type: "boolean" },
+        out: { type: "string" },
+        order: { type: "string" },
+        steps: { type: "string" },
+        set: { type: "string", multiple: true },
+        targets: { type: "string" },
+        at: { type: "string" },
+        quiet: { type: "boolean" },
+      });
+      const file = oneCase(positionals, "run");
+      const built = buildCase(readCase(file), buildOptions(values));
+      const at = values.at === undefined ? undefined : Number(values.at);
+      if (at !== undefined && !Number.isFinite(at)) usage(`--at takes a time, got "${values.at}"`);
+      const engine = await loadEngine();
+      const showProgress = !values.quiet && Deno.stderr.isTerminal();
+      let lastShown = -1;
+      const outcome = runCase(engine, built, at, showProgress
+        ? (f) => {
+          const pct = Math.floor(f * 100);
+          if (pct !== lastShown) {
+            lastShown = pct;
+            Deno.stderr.writeSync(new TextEncoder().encode(`\rpropagating ${pct}%`));
+          }
+        }
+        : undefined);
+      if (showProgress) Deno.stderr.writeSync(new TextEncoder().encode("\r\x1b[K"));
+      if (values.json) console.log(JSON.stringify(runJson(outcome)));
+      else console.log(formatRun(outcome));
+      return 0;
+    }
+    case "inspect": {
+      const { values, positionals } = parseOrFail(rest, { set: { type: "string", multiple: true } });
+      const built = buildCase(readCase(oneCase(positionals, "inspect")), buildOptions(values));
+      const engine = await loadEngine();
+      console.log(formatInspection(built, inspectCase(engine, built)));
+      return 0;
+    }
+    case "init": {
+      const { values, positionals } = parseOrFail(rest, {
+        example: { type: "string" },
+        force: { type: "boolean" },
+      });
+      if (positionals.length !== 1) usage("init takes the name of the file to write, e.g. `ordo init my_case`");
+      const path = initCase(positionals[0]!, values.example as string | undefined, Boolean(values.force));
+      console.error(`ordo: wrote ${path}; try \`ordo inspect ${path}\` then \`ordo run ${path}\``);
+      return 0;
+    }
+    case "bench": {
+      const { runBench } = await import("./bench.ts");
+      await runBench();
+      return 0;
+    }
+    case "sweep":
+    case "check":
+      return usage(`\`ordo ${command}\` is not built yet in ordo ${VERSION}; use \`ordo run\` per point for now`);
+    default:
+      return usage(`unknown command "${command}"; commands are run, inspect, init, bench (see \`ordo --help\`)`);
+  }
+}
+
+/**
+ * Runs the command line and returns the exit code; messages go to stderr,
+ * never a stack trace (set ORDO_DEBUG=1 to see one for internal errors).
+ *
+ * @param argv the arguments after `ordo`
+ * @returns 0 success, 1 a check failed, 2 bad input, 3 internal error
+ */
+export async function cli(argv: string[]): Promise<number> {
+  try {
+    return await main(argv);
+  } catch (e) {
+    if (e instanceof CaseError) {
+      console.error(`ordo: ${e.report()}`);
+      return 2;
+    }
+    if (e instanceof UsageError) {
+      console.error(`ordo: ${e.message}`);
+      return 2;
+    }
+    if (e instanceof EngineError) {
+      console.error(`ordo: engine failure: ${e.message}`);
+      return 3;
+    }
+    console.error(`ordo: internal error: ${(e as Error)?.message ?? e}`);
+    if (Deno.env.get("ORDO_DEBUG")) console.error((e as Error)?.stack);
+    return 3;
+  }
+}
+
+if (import.meta.main) Deno.exit(await cli(Deno.args));
