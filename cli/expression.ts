@@ -252,7 +252,12 @@ export function compileNode(node: MathNode, source: string, scope: Scope, path: 
       }
       case "FunctionNode": {
         if (node.fn.type !== "SymbolNode") fail("only named functions can be called");
-        return genFunction(node.fn.name, node.args.map(gen));
+        const name: string = node.fn.name;
+        if (!BUILTIN_NAMES.includes(name) || name in CONSTANTS) {
+          if (scope.params.has(name)) fail(`"${name}" is a parameter, not a function`, `write ${name}*(...) to multiply`);
+          fail(`unknown function "${name}"`, `use one of: ${BUILTIN_NAMES.filter((n) => !(n in CONSTANTS)).join(", ")}`);
+        }
+        return genFunction(name, node.args.map(gen));
       }
       default:
         return fail(
@@ -349,8 +354,7 @@ export function compileNode(node: MathNode, source: string, scope: Scope, path: 
       realArgs();
       return { kind: "r", js: `P.${name}.fn(${args.map((x) => x.js).join(",")})` };
     }
-    if (scope.params.has(name)) fail(`"${name}" is a parameter, not a function`, `write ${name}*(...) to multiply`);
-    return fail(`unknown function "${name}"`, `use one of: ${BUILTIN_NAMES.join(", ")}`);
+    return fail(`unknown function "${name}"`);
   };
 
   const code = gen(node);
