@@ -66,7 +66,12 @@ export function tailBound(x: number, n: number): number {
   return sum;
 }
 
-function amp(states: Float64Array, d: number, k: number, a: number): [number, number] {
+function amp(
+  states: Float64Array,
+  d: number,
+  k: number,
+  a: number,
+): [number, number] {
   return [states[2 * (k * d + a)]!, states[2 * (k * d + a) + 1]!];
 }
 
@@ -106,8 +111,12 @@ export function analyse(
   for (let s = 0; s < result.times.length; s++) {
     for (const label of targets) {
       const a = labels.indexOf(label);
-      const [er, ei] = amp(result.exact, d, s, a), [cr, ci] = amp(result.check, d, s, a);
-      referenceError = Math.max(referenceError, Math.abs(er * er + ei * ei - cr * cr - ci * ci) / result.checkDivisor);
+      const [er, ei] = amp(result.exact, d, s, a),
+        [cr, ci] = amp(result.check, d, s, a);
+      referenceError = Math.max(
+        referenceError,
+        Math.abs(er * er + ei * ei - cr * cr - ci * ci) / result.checkDivisor,
+      );
     }
   }
   const referenceOk = referenceError <= 0.1 * tolerance;
@@ -123,7 +132,9 @@ export function analyse(
       sr += c[n]![0];
       si += c[n]![1];
       // p_n = Σ_{m+l=n} Re(c_m* c_l)
-      for (let m = 0; m <= n; m++) consistent += c[m]![0] * c[n - m]![0] + c[m]![1] * c[n - m]![1];
+      for (let m = 0; m <= n; m++) {
+        consistent += c[m]![0] * c[n - m]![0] + c[m]![1] * c[n - m]![1];
+      }
       const population = sr * sr + si * si;
       const eps = tailBound(x, n);
       rows.push({
@@ -147,7 +158,8 @@ export function analyse(
     };
   });
   const top = termNorms.length;
-  const growing = top >= 3 && termNorms[top - 1]! > termNorms[top - 2]! && termNorms[top - 2]! > termNorms[top - 3]! &&
+  const growing = top >= 3 && termNorms[top - 1]! > termNorms[top - 2]! &&
+    termNorms[top - 2]! > termNorms[top - 3]! &&
     termNorms[top - 1]! > 1e-12;
   return {
     time: result.times[k]!,

@@ -18,7 +18,14 @@ import {
   toComplex,
   type Value,
 } from "./expression.ts";
-import { evaluateOperator, OPERATOR_FUNCTIONS, productSpace, type Space, spinLabels, type Subsystem } from "./operators.ts";
+import {
+  evaluateOperator,
+  OPERATOR_FUNCTIONS,
+  productSpace,
+  type Space,
+  spinLabels,
+  type Subsystem,
+} from "./operators.ts";
 import { type CaseSource, withLocation } from "./parse_case.ts";
 import { resolveUnits, type UnitConvention } from "./units.ts";
 import {
@@ -68,7 +75,13 @@ export interface BuiltCase {
 }
 
 const NAME = /^[A-Za-z_][A-Za-z0-9_]*$/;
-const RESERVED = new Set(["t", "row", "col", ...BUILTIN_NAMES, ...OPERATOR_FUNCTIONS]);
+const RESERVED = new Set([
+  "t",
+  "row",
+  "col",
+  ...BUILTIN_NAMES,
+  ...OPERATOR_FUNCTIONS,
+]);
 const MAX_ORDER = 40;
 
 /**
@@ -101,11 +114,16 @@ const MAX_ORDER = 40;
  * console.assert(built.model.dim === 2);
  * ```
  */
-export function buildCase(source: CaseSource, options: BuildOptions = {}): BuiltCase {
+export function buildCase(
+  source: CaseSource,
+  options: BuildOptions = {},
+): BuiltCase {
   try {
     return build(source, options);
   } catch (e) {
-    if (e instanceof CaseError) throw withLocation(e, source.file, source.text, source.format);
+    if (e instanceof CaseError) {
+      throw withLocation(e, source.file, source.text, source.format);
+    }
     throw e;
   }
 }
@@ -121,21 +139,43 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   const relocate = (err: CaseError) => withLocation(err, source.file, source.text, source.format);
 
   const terms = [
-    ...assembleSection("unperturbed", spec.unperturbed, space, params, units, relocate),
-    ...assembleSection("perturbation", spec.perturbation, space, params, units, relocate),
+    ...assembleSection(
+      "unperturbed",
+      spec.unperturbed,
+      space,
+      params,
+      units,
+      relocate,
+    ),
+    ...assembleSection(
+      "perturbation",
+      spec.perturbation,
+      space,
+      params,
+      units,
+      relocate,
+    ),
   ];
 
   // Grid.
   const constant = (v: number | string, path: KeyPath): number => {
     if (typeof v === "number") return v;
     const value = compileExpression(v, constScope, path).at(0);
-    if (typeof value !== "number") throw new CaseError(`must be real, got ${show(value)}`, path);
+    if (typeof value !== "number") {
+      throw new CaseError(`must be real, got ${show(value)}`, path);
+    }
     return value;
   };
   const tStart = constant(spec.grid.t_start, ["grid", "t_start"]);
   const tEnd = constant(spec.grid.t_end, ["grid", "t_end"]);
   for (const [v, key] of [[tStart, "t_start"], [tEnd, "t_end"]] as const) {
-    if (!Number.isFinite(v)) throw new CaseError(`${key} is ${v}`, ["grid", key], "give a finite time");
+    if (!Number.isFinite(v)) {
+      throw new CaseError(
+        `${key} is ${v}`,
+        ["grid", key],
+        "give a finite time",
+      );
+    }
   }
   if (!(tEnd > tStart)) {
     throw new CaseError(
@@ -146,11 +186,19 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   }
   const steps = options.steps ?? spec.grid.steps;
   if (steps < 1) {
-    throw new CaseError(`steps = ${steps}, but at least 1 integrator step is needed`, ["grid", "steps"], "set steps ≥ 1 (see `ordo inspect` for a suggestion)");
+    throw new CaseError(
+      `steps = ${steps}, but at least 1 integrator step is needed`,
+      ["grid", "steps"],
+      "set steps ≥ 1 (see `ordo inspect` for a suggestion)",
+    );
   }
   const samples = spec.grid.samples;
   if (samples < 2) {
-    throw new CaseError(`samples = ${samples}, but the two ends are always recorded`, ["grid", "samples"], "set samples ≥ 2");
+    throw new CaseError(
+      `samples = ${samples}, but the two ends are always recorded`,
+      ["grid", "samples"],
+      "set samples ≥ 2",
+    );
   }
   const order = options.order ?? spec.series.order;
   if (order < 0 || order > MAX_ORDER) {
@@ -164,9 +212,17 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   const tolerance = spec.series.tolerance ?? 1e-6;
 
   // Hermiticity and finiteness of the assembled parts at a few times.
-  const checkTimes = Array.from({ length: 9 }, (_, k) => tStart + (tEnd - tStart) * k / 8);
+  const checkTimes = Array.from(
+    { length: 9 },
+    (_, k) => tStart + (tEnd - tStart) * k / 8,
+  );
   for (const section of ["unperturbed", "perturbation"] as const) {
-    checkSection(section, terms.filter((t) => t.section === section), space, checkTimes);
+    checkSection(
+      section,
+      terms.filter((t) => t.section === section),
+      space,
+      checkTimes,
+    );
   }
 
   const initial = startState(source, space, constScope, warnings);
@@ -189,7 +245,9 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   const model: Model = {
     dim: space.dim,
     unperturbed: terms.filter((t) => t.section === "unperturbed").map(toEngine),
-    perturbation: terms.filter((t) => t.section === "perturbation").map(toEngine),
+    perturbation: terms.filter((t) => t.section === "perturbation").map(
+      toEngine,
+    ),
     strength,
     initial,
     tStart,
@@ -231,7 +289,8 @@ function show(v: Value): string {
 }
 
 function listLabels(space: Space): string {
-  return space.labels.slice(0, 16).join(", ") + (space.labels.length > 16 ? `, … (${space.labels.length} in all)` : "");
+  return space.labels.slice(0, 16).join(", ") +
+    (space.labels.length > 16 ? `, … (${space.labels.length} in all)` : "");
 }
 
 /** Evaluates `[params]` in order; `--set` values replace the written ones. */
@@ -252,17 +311,29 @@ function evaluateParams(
   for (const [name, entry] of Object.entries(written)) {
     const path = ["params", name];
     if (!NAME.test(name)) {
-      throw new CaseError(`"${name}" is not a usable name`, path, "start with a letter; use letters, digits and _");
+      throw new CaseError(
+        `"${name}" is not a usable name`,
+        path,
+        "start with a letter; use letters, digits and _",
+      );
     }
     if (RESERVED.has(name)) {
-      throw new CaseError(`"${name}" is a built-in name`, path, "choose another name for this param");
+      throw new CaseError(
+        `"${name}" is a built-in name`,
+        path,
+        "choose another name for this param",
+      );
     }
     const scope: Scope = { params, allowTime: false };
     let value: Value;
     if (name in set) value = compileExpression(set[name]!, scope, path).at(0);
     else value = entryValue(entry, scope, path);
     if (!isFiniteValue(value)) {
-      throw new CaseError(`param ${name} evaluates to ${show(value)}`, path, "check the expression: every param must be a finite number");
+      throw new CaseError(
+        `param ${name} evaluates to ${show(value)}`,
+        path,
+        "check the expression: every param must be a finite number",
+      );
     }
     params.set(name, value);
   }
@@ -272,7 +343,9 @@ function evaluateParams(
 /** A number, expression, or [re, im] pair → value. */
 function entryValue(entry: EntrySpec, scope: Scope, path: KeyPath): Value {
   if (typeof entry === "number") return entry;
-  if (typeof entry === "string") return compileExpression(entry, scope, path).at(0);
+  if (typeof entry === "string") {
+    return compileExpression(entry, scope, path).at(0);
+  }
   const re = toComplex(entryValue(entry[0], scope, [...path, 0]));
   const im = toComplex(entryValue(entry[1], scope, [...path, 1]));
   return { re: re.re - im.im, im: re.im + im.re };
@@ -283,18 +356,33 @@ function buildSpace(source: CaseSource): Space {
   const checkLabels = (labels: string[], path: KeyPath) => {
     labels.forEach((label, k) => {
       if (!label || /[,|<>]/.test(label)) {
-        throw new CaseError(`level label "${label}" is empty or contains , | < or >`, [...path, k], "use short names such as g, e, f");
+        throw new CaseError(
+          `level label "${label}" is empty or contains , | < or >`,
+          [...path, k],
+          "use short names such as g, e, f",
+        );
       }
-      if (labels.indexOf(label) !== k) throw new CaseError(`level label "${label}" appears twice`, [...path, k], "give each level its own name");
+      if (labels.indexOf(label) !== k) {
+        throw new CaseError(`level label "${label}" appears twice`, [
+          ...path,
+          k,
+        ], "give each level its own name");
+      }
     });
   };
   if (spec.levels && spec.subsystems) {
-    throw new CaseError("both [levels] and [subsystems] are given", ["subsystems"], "use [levels] for one system, [subsystems] for a composite one");
+    throw new CaseError("both [levels] and [subsystems] are given", [
+      "subsystems",
+    ], "use [levels] for one system, [subsystems] for a composite one");
   }
   if (spec.levels) {
     const { names, count } = spec.levels;
     if ((names === undefined) === (count === undefined)) {
-      throw new CaseError("give exactly one of names and count", ["levels"], 'e.g. names = ["g", "e"], or count = 100 for levels "0" … "99"');
+      throw new CaseError(
+        "give exactly one of names and count",
+        ["levels"],
+        'e.g. names = ["g", "e"], or count = 100 for levels "0" … "99"',
+      );
     }
     const labels = names ?? Array.from({ length: count! }, (_, k) => String(k));
     checkLabels(labels, ["levels", "names"]);
@@ -304,11 +392,19 @@ function buildSpace(source: CaseSource): Space {
     const subsystems: Subsystem[] = [];
     for (const [name, sub] of Object.entries(spec.subsystems)) {
       const path = ["subsystems", name];
-      if (!NAME.test(name)) throw new CaseError(`"${name}" is not a usable subsystem name`, path, "use letters, digits and _");
+      if (!NAME.test(name)) {
+        throw new CaseError(
+          `"${name}" is not a usable subsystem name`,
+          path,
+          "use letters, digits and _",
+        );
+      }
       const kinds = (["levels", "oscillator", "spin"] as const).filter((k) => sub[k] !== undefined);
       if (kinds.length !== 1) {
         throw new CaseError(
-          `subsystem ${name} must have exactly one of levels, oscillator, spin (has ${kinds.join(", ") || "none"})`,
+          `subsystem ${name} must have exactly one of levels, oscillator, spin (has ${
+            kinds.join(", ") || "none"
+          })`,
           path,
           `e.g. ${name} = { levels = ["g", "e"] }, { oscillator = 6 } (Fock states 0…5) or { spin = 0.5 }`,
         );
@@ -317,20 +413,39 @@ function buildSpace(source: CaseSource): Space {
         checkLabels(sub.levels, [...path, "levels"]);
         subsystems.push({ name, kind: "levels", labels: sub.levels });
       } else if (sub.oscillator !== undefined) {
-        subsystems.push({ name, kind: "oscillator", labels: Array.from({ length: sub.oscillator }, (_, k) => String(k)) });
+        subsystems.push({
+          name,
+          kind: "oscillator",
+          labels: Array.from({ length: sub.oscillator }, (_, k) => String(k)),
+        });
       } else {
         const s = sub.spin!;
         if (!(s > 0) || !Number.isInteger(2 * s) || s > 50) {
-          throw new CaseError(`spin = ${s} is not a positive multiple of 1/2 (up to 50)`, [...path, "spin"], "use 0.5, 1, 1.5, …");
+          throw new CaseError(
+            `spin = ${s} is not a positive multiple of 1/2 (up to 50)`,
+            [...path, "spin"],
+            "use 0.5, 1, 1.5, …",
+          );
         }
         subsystems.push({ name, kind: "spin", labels: spinLabels(s), spin: s });
       }
     }
-    if (subsystems.length === 0) throw new CaseError("[subsystems] is empty", ["subsystems"], "declare at least one subsystem");
+    if (subsystems.length === 0) {
+      throw new CaseError(
+        "[subsystems] is empty",
+        ["subsystems"],
+        "declare at least one subsystem",
+      );
+    }
     return productSpace(subsystems);
   }
   // Neither: the dimension comes from the first explicit matrix.
-  const first = [spec.unperturbed, ...(spec.unperturbed.terms ?? []), spec.perturbation, ...(spec.perturbation.terms ?? [])]
+  const first = [
+    spec.unperturbed,
+    ...(spec.unperturbed.terms ?? []),
+    spec.perturbation,
+    ...(spec.perturbation.terms ?? []),
+  ]
     .find((t) => Array.isArray(t.matrix))?.matrix;
   if (!Array.isArray(first)) {
     throw new CaseError(
@@ -339,13 +454,23 @@ function buildSpace(source: CaseSource): Space {
       'add [levels] names = ["g", "e", …] or a [subsystems] table, or give explicit matrices',
     );
   }
-  return productSpace([{ name: "levels", kind: "levels", labels: first.map((_, k) => String(k)) }]);
+  return productSpace([{
+    name: "levels",
+    kind: "levels",
+    labels: first.map((_, k) => String(k)),
+  }]);
 }
 
 /** The terms of one section, as written (single term or `terms`), with their paths. */
-function sectionTerms(name: string, section: SectionSpec): { term: TermSpec; path: KeyPath }[] {
+function sectionTerms(
+  name: string,
+  section: SectionSpec,
+): { term: TermSpec; path: KeyPath }[] {
   const single = section.matrix !== undefined || section.op !== undefined;
-  if (section.terms && (single || section.coef !== undefined || section.hc !== undefined)) {
+  if (
+    section.terms &&
+    (single || section.coef !== undefined || section.hc !== undefined)
+  ) {
     throw new CaseError(
       "has both terms and a matrix/op/coef of its own",
       [name],
@@ -353,7 +478,13 @@ function sectionTerms(name: string, section: SectionSpec): { term: TermSpec; pat
     );
   }
   if (section.terms) {
-    if (section.terms.length === 0) throw new CaseError("terms is empty", [name, "terms"], "give at least one term");
+    if (section.terms.length === 0) {
+      throw new CaseError(
+        "terms is empty",
+        [name, "terms"],
+        "give at least one term",
+      );
+    }
     return section.terms.map((term, k) => ({ term, path: [name, "terms", k] }));
   }
   if (!single) {
@@ -378,32 +509,66 @@ function assembleSection(
   const constScope: Scope = { params, allowTime: false };
   for (const { term, path } of sectionTerms(name, section)) {
     if ((term.matrix === undefined) === (term.op === undefined)) {
-      throw new CaseError("a term needs exactly one of matrix and op", path, 'write matrix = [[…]] or op = "…"');
+      throw new CaseError(
+        "a term needs exactly one of matrix and op",
+        path,
+        'write matrix = [[…]] or op = "…"',
+      );
     }
     let matrix: ComplexMatrix;
     let hc = term.hc ?? false;
     if (term.matrix) {
-      matrix = explicitMatrix(term.matrix, space.dim, constScope, [...path, "matrix"]);
+      matrix = explicitMatrix(term.matrix, space.dim, constScope, [
+        ...path,
+        "matrix",
+      ]);
     } else {
       const r = evaluateOperator(term.op!, space, constScope, [...path, "op"]);
       matrix = r.matrix;
       if (r.hc && term.hc) {
-        throw new CaseError('asks for the conjugate twice ("+ h.c." and hc = true)', path, "keep one of them");
+        throw new CaseError(
+          'asks for the conjugate twice ("+ h.c." and hc = true)',
+          path,
+          "keep one of them",
+        );
       }
       hc ||= r.hc;
     }
     const entryFailure = firstNonFinite(matrix);
-    if (entryFailure) throw new CaseError(`matrix entry (${entryFailure}) is not finite`, path, "check the params it uses");
+    if (entryFailure) {
+      throw new CaseError(
+        `matrix entry (${entryFailure}) is not finite`,
+        path,
+        "check the params it uses",
+      );
+    }
     matrix = matrix.scale({ re: units.energyFactor, im: 0 });
     let coef: Compiled | undefined;
     if (term.coef !== undefined && term.coef !== 1) {
-      coef = compileExpression(String(term.coef), { params, allowTime: true }, [...path, "coef"]);
+      coef = compileExpression(String(term.coef), { params, allowTime: true }, [
+        ...path,
+        "coef",
+      ]);
       if (!coef.usesTime && !isFiniteValue(coef.at(0))) {
-        throw relocate(new CaseError(`coef is ${show(coef.at(0))}`, [...path, "coef"], "check the params it uses"));
+        throw relocate(
+          new CaseError(
+            `coef is ${show(coef.at(0))}`,
+            [...path, "coef"],
+            "check the params it uses",
+          ),
+        );
       }
     }
     out.push({ section: name, path, matrix, coef, conjugate: false });
-    if (hc) out.push({ section: name, path, matrix: matrix.dagger(), coef, conjugate: true });
+    if (hc) {
+      out.push({
+        section: name,
+        path,
+        matrix: matrix.dagger(),
+        coef,
+        conjugate: true,
+      });
+    }
   }
   return out;
 }
@@ -418,10 +583,18 @@ function firstNonFinite(m: ComplexMatrix): string | undefined {
   return undefined;
 }
 
-function explicitMatrix(spec: MatrixSpec, dim: number, scope: Scope, path: KeyPath): ComplexMatrix {
+function explicitMatrix(
+  spec: MatrixSpec,
+  dim: number,
+  scope: Scope,
+  path: KeyPath,
+): ComplexMatrix {
   const m = new ComplexMatrix(dim, dim);
   if (!Array.isArray(spec)) {
-    const entry = compileExpression(spec.entry, { ...scope, variables: ["row", "col"] }, [...path, "entry"]);
+    const entry = compileExpression(spec.entry, {
+      ...scope,
+      variables: ["row", "col"],
+    }, [...path, "entry"]);
     for (let i = 0; i < dim; i++) {
       for (let j = 0; j < dim; j++) {
         const z = toComplex(entry.at(0, i, j));
@@ -461,7 +634,12 @@ function coefAt(term: AssembledTerm, t: number): Complex {
   return term.conjugate ? { re: z.re, im: -z.im } : z;
 }
 
-function checkSection(name: string, terms: AssembledTerm[], space: Space, times: number[]): void {
+function checkSection(
+  name: string,
+  terms: AssembledTerm[],
+  space: Space,
+  times: number[],
+): void {
   const timeDependent = terms.some((t) => t.coef?.usesTime);
   for (const t of timeDependent ? times : [times[0]!]) {
     let sum = new ComplexMatrix(space.dim, space.dim);
@@ -483,7 +661,9 @@ function checkSection(name: string, terms: AssembledTerm[], space: Space, times:
     if (defect.value > 1e-10 * Math.max(scale, 1e-300)) {
       const at = `(${space.labels[defect.row]}, ${space.labels[defect.col]})`;
       throw new CaseError(
-        `Cannot build the ${name} as it is not Hermitian: largest |A−A†| is ${defect.value.toPrecision(3)} at ${at}` +
+        `Cannot build the ${name} as it is not Hermitian: largest |A−A†| is ${
+          defect.value.toPrecision(3)
+        } at ${at}` +
           (timeDependent ? ` at t = ${t}` : ""),
         [name],
         "add hc = true to the term (or end its op with + h.c.), or make the matrix Hermitian; a complex coef needs its conjugate partner",
@@ -492,7 +672,10 @@ function checkSection(name: string, terms: AssembledTerm[], space: Space, times:
   }
 }
 
-function coefficientOf(term: AssembledTerm, relocate: (e: CaseError) => CaseError): Coefficient {
+function coefficientOf(
+  term: AssembledTerm,
+  relocate: (e: CaseError) => CaseError,
+): Coefficient {
   const coef = term.coef;
   if (!coef) return { kind: "constant", re: 1, im: 0 };
   if (!coef.usesTime) {
@@ -506,7 +689,9 @@ function coefficientOf(term: AssembledTerm, relocate: (e: CaseError) => CaseErro
       coef.sample(times, out);
       for (let k = 0; k < times.length; k++) {
         if (conjugate) out[2 * k + 1] = -out[2 * k + 1]!;
-        if (!Number.isFinite(out[2 * k]!) || !Number.isFinite(out[2 * k + 1]!)) {
+        if (
+          !Number.isFinite(out[2 * k]!) || !Number.isFinite(out[2 * k + 1]!)
+        ) {
           throw relocate(
             new CaseError(
               `coef "${coef.source}" is not finite at t = ${times[k]}`,
@@ -520,16 +705,29 @@ function coefficientOf(term: AssembledTerm, relocate: (e: CaseError) => CaseErro
   };
 }
 
-function startState(source: CaseSource, space: Space, scope: Scope, warnings: string[]): Float64Array {
+function startState(
+  source: CaseSource,
+  space: Space,
+  scope: Scope,
+  warnings: string[],
+): Float64Array {
   const start = source.spec.start;
   if ((start.state === undefined) === (start.amplitudes === undefined)) {
-    throw new CaseError("give exactly one of state and amplitudes", ["start"], 'e.g. state = "g", or amplitudes = [1, 0, …]');
+    throw new CaseError(
+      "give exactly one of state and amplitudes",
+      ["start"],
+      'e.g. state = "g", or amplitudes = [1, 0, …]',
+    );
   }
   const psi = new Float64Array(2 * space.dim);
   if (start.state !== undefined) {
     const k = space.labels.indexOf(start.state);
     if (k < 0) {
-      throw new CaseError(`unknown label "${start.state}"`, ["start", "state"], `labels are: ${listLabels(space)}`);
+      throw new CaseError(
+        `unknown label "${start.state}"`,
+        ["start", "state"],
+        `labels are: ${listLabels(space)}`,
+      );
     }
     psi[2 * k] = 1;
     return psi;
@@ -546,15 +744,27 @@ function startState(source: CaseSource, space: Space, scope: Scope, warnings: st
   amps.forEach((a, k) => {
     const z = toComplex(entryValue(a, scope, ["start", "amplitudes", k]));
     if (!Number.isFinite(z.re) || !Number.isFinite(z.im)) {
-      throw new CaseError(`amplitude ${k} is not finite`, ["start", "amplitudes", k], "check the params it uses");
+      throw new CaseError(`amplitude ${k} is not finite`, [
+        "start",
+        "amplitudes",
+        k,
+      ], "check the params it uses");
     }
     psi[2 * k] = z.re;
     psi[2 * k + 1] = z.im;
     norm2 += z.re * z.re + z.im * z.im;
   });
-  if (!(norm2 > 0)) throw new CaseError("all amplitudes are zero", ["start", "amplitudes"], "give a non-zero state");
+  if (!(norm2 > 0)) {
+    throw new CaseError(
+      "all amplitudes are zero",
+      ["start", "amplitudes"],
+      "give a non-zero state",
+    );
+  }
   if (Math.abs(norm2 - 1) > 1e-12) {
-    warnings.push(`[start] amplitudes have norm ${Math.sqrt(norm2).toPrecision(6)}; normalised to 1`);
+    warnings.push(
+      `[start] amplitudes have norm ${Math.sqrt(norm2).toPrecision(6)}; normalised to 1`,
+    );
     psi.forEach((x, k) => (psi[k] = x / Math.sqrt(norm2)));
   }
   return psi;

@@ -42,9 +42,12 @@ export class CaseError extends Error {
 
   /** The one-line report: `file:line: key: what. fix`. */
   report(): string {
-    const where = [this.file, this.line].filter((x) => x !== undefined).join(":");
+    const where = [this.file, this.line].filter((x) => x !== undefined).join(
+      ":",
+    );
     const key = formatKeyPath(this.path);
-    let text = (where ? `${where}: ` : "") + (key ? `${key}: ` : "") + this.message;
+    let text = (where ? `${where}: ` : "") + (key ? `${key}: ` : "") +
+      this.message;
     if (this.fix) text += `\n  fix: ${this.fix}`;
     return text;
   }

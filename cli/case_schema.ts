@@ -11,10 +11,17 @@ import { z } from "zod";
 /** A number or an expression of params. */
 const scalar = z.union([z.number(), z.string()]);
 /** A matrix entry: number, expression, or [re, im]. */
-export const entrySchema = z.union([z.number(), z.string(), z.tuple([scalar, scalar])]);
+export const entrySchema = z.union([
+  z.number(),
+  z.string(),
+  z.tuple([scalar, scalar]),
+]);
 
 /** An explicit matrix: rows of entries, or one expression of row and col (0-based) for every entry. */
-export const matrixSchema = z.union([z.array(z.array(entrySchema)), z.object({ entry: z.string() }).strict()]);
+export const matrixSchema = z.union([
+  z.array(z.array(entrySchema)),
+  z.object({ entry: z.string() }).strict(),
+]);
 
 const termFields = {
   matrix: matrixSchema.optional(),
@@ -27,7 +34,10 @@ const termFields = {
 export const termSchema = z.object(termFields).strict();
 
 /** `[unperturbed]` and `[perturbation]`: a single term, or `terms`. */
-export const sectionSchema = z.object({ ...termFields, terms: z.array(termSchema).optional() }).strict();
+export const sectionSchema = z.object({
+  ...termFields,
+  terms: z.array(termSchema).optional(),
+}).strict();
 
 const subsystemSchema = z.object({
   levels: z.array(z.string()).optional(),
@@ -54,8 +64,12 @@ const approxSchema = z.object({
 /** A whole case file. */
 export const caseSchema = z.object({
   title: z.string().optional(),
-  params: z.record(z.union([z.number(), z.string(), z.tuple([scalar, scalar])])).optional(),
-  units: z.object({ time: z.string().optional(), energy: z.string().optional() }).strict().optional(),
+  params: z.record(z.union([z.number(), z.string(), z.tuple([scalar, scalar])]))
+    .optional(),
+  units: z.object({
+    time: z.string().optional(),
+    energy: z.string().optional(),
+  }).strict().optional(),
   levels: z.object({
     names: z.array(z.string()).min(1).optional(),
     count: z.number().int().min(1).optional(),
@@ -95,30 +109,46 @@ export type MatrixSpec = z.infer<typeof matrixSchema>;
 export type EntrySpec = z.infer<typeof entrySchema>;
 
 /** Turns the first zod issue into a message and a fix. */
-export function describeIssue(issue: z.ZodIssue): { message: string; fix: string } {
+export function describeIssue(
+  issue: z.ZodIssue,
+): { message: string; fix: string } {
   switch (issue.code) {
     case "unrecognized_keys": {
       const known = knownKeysAt(issue.path);
       return {
-        message: `unknown key${issue.keys.length > 1 ? "s" : ""} ${issue.keys.map((k) => `"${k}"`).join(", ")}`,
+        message: `unknown key${issue.keys.length > 1 ? "s" : ""} ${
+          issue.keys.map((k) => `"${k}"`).join(", ")
+        }`,
         fix: known.length ? `known keys here: ${known.join(", ")}` : "remove it",
       };
     }
     case "invalid_type":
       return issue.received === "undefined"
-        ? { message: `missing required key (${issue.expected})`, fix: "add it; see `ordo init` for a complete example" }
-        : { message: `expected ${issue.expected}, got ${issue.received}`, fix: `write a ${issue.expected} here` };
+        ? {
+          message: `missing required key (${issue.expected})`,
+          fix: "add it; see `ordo init` for a complete example",
+        }
+        : {
+          message: `expected ${issue.expected}, got ${issue.received}`,
+          fix: `write a ${issue.expected} here`,
+        };
     case "invalid_union":
       return {
         message: "value has the wrong form",
-        fix: "a number, an \"expression\", or [re, im]; matrices are arrays of rows",
+        fix: 'a number, an "expression", or [re, im]; matrices are arrays of rows',
       };
     case "invalid_enum_value":
-      return { message: `"${issue.received}" is not allowed`, fix: `use one of: ${issue.options.join(", ")}` };
+      return {
+        message: `"${issue.received}" is not allowed`,
+        fix: `use one of: ${issue.options.join(", ")}`,
+      };
     case "too_small":
       return { message: issue.message, fix: "use a larger value" };
     default:
-      return { message: issue.message, fix: "see `ordo init` for a complete example" };
+      return {
+        message: issue.message,
+        fix: "see `ordo init` for a complete example",
+      };
   }
 }
 
@@ -126,15 +156,19 @@ export function describeIssue(issue: z.ZodIssue): { message: string; fix: string
 function knownKeysAt(path: (string | number)[]): string[] {
   // deno-lint-ignore no-explicit-any
   const unwrap = (s: any): any => {
-    while (s instanceof z.ZodOptional || s instanceof z.ZodDefault) s = s._def.innerType;
+    while (s instanceof z.ZodOptional || s instanceof z.ZodDefault) {
+      s = s._def.innerType;
+    }
     return s;
   };
   // deno-lint-ignore no-explicit-any
   let schema: any = unwrap(caseSchema);
   for (const part of path) {
-    if (schema instanceof z.ZodObject) schema = unwrap(schema.shape[part as string]);
-    else if (schema instanceof z.ZodRecord) schema = unwrap(schema._def.valueType);
-    else if (schema instanceof z.ZodArray) schema = unwrap(schema._def.type);
+    if (schema instanceof z.ZodObject) {
+      schema = unwrap(schema.shape[part as string]);
+    } else if (schema instanceof z.ZodRecord) {
+      schema = unwrap(schema._def.valueType);
+    } else if (schema instanceof z.ZodArray) schema = unwrap(schema._def.type);
     else return [];
   }
   return schema instanceof z.ZodObject ? Object.keys(schema.shape) : [];

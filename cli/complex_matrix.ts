@@ -21,7 +21,11 @@ export class ComplexMatrix {
    * @param cols number of columns
    * @param data optional storage of length 2·rows·cols (taken, not copied)
    */
-  constructor(readonly rows: number, readonly cols: number, data?: Float64Array) {
+  constructor(
+    readonly rows: number,
+    readonly cols: number,
+    data?: Float64Array,
+  ) {
     this.data = data ?? new Float64Array(2 * rows * cols);
   }
 
@@ -111,7 +115,10 @@ export class ComplexMatrix {
 
   /** The Kronecker (tensor) product this ⊗ other. */
   kron(other: ComplexMatrix): ComplexMatrix {
-    const out = new ComplexMatrix(this.rows * other.rows, this.cols * other.cols);
+    const out = new ComplexMatrix(
+      this.rows * other.rows,
+      this.cols * other.cols,
+    );
     for (let i = 0; i < this.rows; i++) {
       for (let j = 0; j < this.cols; j++) {
         const a = this.get(i, j);

@@ -69,15 +69,24 @@ interface Code {
 /** Complex arithmetic used by generated code. */
 const C = {
   c: (re: number, im: number): Complex => ({ re, im }),
-  add: (a: Complex, b: Complex): Complex => ({ re: a.re + b.re, im: a.im + b.im }),
-  sub: (a: Complex, b: Complex): Complex => ({ re: a.re - b.re, im: a.im - b.im }),
+  add: (a: Complex, b: Complex): Complex => ({
+    re: a.re + b.re,
+    im: a.im + b.im,
+  }),
+  sub: (a: Complex, b: Complex): Complex => ({
+    re: a.re - b.re,
+    im: a.im - b.im,
+  }),
   mul: (a: Complex, b: Complex): Complex => ({
     re: a.re * b.re - a.im * b.im,
     im: a.re * b.im + a.im * b.re,
   }),
   div: (a: Complex, b: Complex): Complex => {
     const d = b.re * b.re + b.im * b.im;
-    return { re: (a.re * b.re + a.im * b.im) / d, im: (a.im * b.re - a.re * b.im) / d };
+    return {
+      re: (a.re * b.re + a.im * b.im) / d,
+      im: (a.im * b.re - a.re * b.im) / d,
+    };
   },
   neg: (a: Complex): Complex => ({ re: -a.re, im: -a.im }),
   conj: (a: Complex): Complex => ({ re: a.re, im: -a.im }),
@@ -87,7 +96,10 @@ const C = {
     const m = Math.exp(a.re);
     return { re: m * Math.cos(a.im), im: m * Math.sin(a.im) };
   },
-  log: (a: Complex): Complex => ({ re: Math.log(Math.hypot(a.re, a.im)), im: Math.atan2(a.im, a.re) }),
+  log: (a: Complex): Complex => ({
+    re: Math.log(Math.hypot(a.re, a.im)),
+    im: Math.atan2(a.im, a.re),
+  }),
   sqrt: (a: Complex): Complex => {
     const r = Math.hypot(a.re, a.im);
     const re = Math.sqrt(0.5 * (r + a.re));
@@ -95,7 +107,9 @@ const C = {
     return { re, im: a.im < 0 ? -im : im };
   },
   pow: (a: Complex, b: Complex): Complex => {
-    if (a.re === 0 && a.im === 0) return b.re === 0 && b.im === 0 ? { re: 1, im: 0 } : { re: 0, im: 0 };
+    if (a.re === 0 && a.im === 0) {
+      return b.re === 0 && b.im === 0 ? { re: 1, im: 0 } : { re: 0, im: 0 };
+    }
     return C.exp(C.mul(b, C.log(a)));
   },
   sin: (a: Complex): Complex => ({
@@ -173,7 +187,7 @@ export function parseExpression(source: string, path: KeyPath): MathNode {
     throw new CaseError(
       `cannot parse the expression "${source}": ${(e as Error).message}`,
       path,
-      "write plain arithmetic with params, t, pi, e, i and the listed functions, e.g. \"g*gauss(t, 10, 2)*cos(w*t)\"",
+      'write plain arithmetic with params, t, pi, e, i and the listed functions, e.g. "g*gauss(t, 10, 2)*cos(w*t)"',
     );
   }
 }
@@ -192,19 +206,33 @@ export function parseExpression(source: string, path: KeyPath): MathNode {
  * console.assert(f.at(1) === 2);
  * ```
  */
-export function compileExpression(source: string, scope: Scope, path: KeyPath): Compiled {
+export function compileExpression(
+  source: string,
+  scope: Scope,
+  path: KeyPath,
+): Compiled {
   return compileNode(parseExpression(source, path), source, scope, path);
 }
 
 /** Compiles an already parsed mathjs node (see {@link compileExpression}). */
-export function compileNode(node: MathNode, source: string, scope: Scope, path: KeyPath): Compiled {
+export function compileNode(
+  node: MathNode,
+  source: string,
+  scope: Scope,
+  path: KeyPath,
+): Compiled {
   const consts: Value[] = [];
   let usesTime = false;
   const fail = (what: string, fix?: string): never => {
     throw new CaseError(`in "${source}": ${what}`, path, fix);
   };
   const knownNames = () =>
-    [...scope.params.keys(), ...(scope.allowTime ? ["t"] : []), ...(scope.variables ?? []), ...BUILTIN_NAMES].join(", ");
+    [
+      ...scope.params.keys(),
+      ...(scope.allowTime ? ["t"] : []),
+      ...(scope.variables ?? []),
+      ...BUILTIN_NAMES,
+    ].join(", ");
   const toC = (c: Code): string => (c.kind === "c" ? c.js : `C.c(${c.js},0)`);
 
   const gen = (n: MathNode): Code => {
@@ -214,7 +242,9 @@ export function compileNode(node: MathNode, source: string, scope: Scope, path: 
       case "ParenthesisNode":
         return gen(node.content);
       case "ConstantNode": {
-        if (typeof node.value !== "number") fail(`${JSON.stringify(node.value)} is not a number`);
+        if (typeof node.value !== "number") {
+          fail(`${JSON.stringify(node.value)} is not a number`);
+        }
         return { kind: "r", js: `(${String(node.value)})` };
       }
       case "SymbolNode": {
@@ -247,15 +277,27 @@ export function compileNode(node: MathNode, source: string, scope: Scope, path: 
         const cond = gen(node.condition);
         if (cond.kind === "c") fail("a condition must be real");
         const a = gen(node.trueExpr), b = gen(node.falseExpr);
-        if (a.kind === "r" && b.kind === "r") return { kind: "r", js: `(${cond.js}!==0?${a.js}:${b.js})` };
+        if (a.kind === "r" && b.kind === "r") {
+          return { kind: "r", js: `(${cond.js}!==0?${a.js}:${b.js})` };
+        }
         return { kind: "c", js: `(${cond.js}!==0?${toC(a)}:${toC(b)})` };
       }
       case "FunctionNode": {
-        if (node.fn.type !== "SymbolNode") fail("only named functions can be called");
+        if (node.fn.type !== "SymbolNode") {
+          fail("only named functions can be called");
+        }
         const name: string = node.fn.name;
         if (!BUILTIN_NAMES.includes(name) || name in CONSTANTS) {
-          if (scope.params.has(name)) fail(`"${name}" is a parameter, not a function`, `write ${name}*(...) to multiply`);
-          fail(`unknown function "${name}"`, `use one of: ${BUILTIN_NAMES.filter((n) => !(n in CONSTANTS)).join(", ")}`);
+          if (scope.params.has(name)) {
+            fail(
+              `"${name}" is a parameter, not a function`,
+              `write ${name}*(...) to multiply`,
+            );
+          }
+          fail(
+            `unknown function "${name}"`,
+            `use one of: ${BUILTIN_NAMES.filter((n) => !(n in CONSTANTS)).join(", ")}`,
+          );
         }
         return genFunction(name, node.args.map(gen));
       }
@@ -286,10 +328,17 @@ export function compileNode(node: MathNode, source: string, scope: Scope, path: 
     };
     if (fn in binaryReal) {
       if (real) return { kind: "r", js: `(${a.js}${binaryReal[fn]}${b.js})` };
-      const cfn = { add: "add", subtract: "sub", multiply: "mul", divide: "div" }[fn as "add"];
+      const cfn = {
+        add: "add",
+        subtract: "sub",
+        multiply: "mul",
+        divide: "div",
+      }[fn as "add"];
       return { kind: "c", js: `C.${cfn}(${toC(a)},${toC(b)})` };
     }
-    if (fn === "unaryMinus") return real ? { kind: "r", js: `(-${a.js})` } : { kind: "c", js: `C.neg(${a.js})` };
+    if (fn === "unaryMinus") {
+      return real ? { kind: "r", js: `(-${a.js})` } : { kind: "c", js: `C.neg(${a.js})` };
+    }
     if (fn === "unaryPlus") return a;
     if (fn === "pow") {
       if (real) return { kind: "r", js: `Math.pow(${a.js},${b.js})` };
@@ -305,22 +354,33 @@ export function compileNode(node: MathNode, source: string, scope: Scope, path: 
       return { kind: "r", js: `((${a.js}!==0)${j}(${b.js}!==0)?1:0)` };
     }
     if (fn === "not") return { kind: "r", js: `(${a.js}===0?1:0)` };
-    return fail(`the operator "${op}" is not supported`, "use + - * / ^, comparisons, and, or, not");
+    return fail(
+      `the operator "${op}" is not supported`,
+      "use + - * / ^, comparisons, and, or, not",
+    );
   };
 
   const genFunction = (name: string, args: Code[]): Code => {
     const arity = (n: number) => {
-      if (args.length !== n) fail(`${name}() takes ${n} argument${n === 1 ? "" : "s"}, got ${args.length}`);
+      if (args.length !== n) {
+        fail(
+          `${name}() takes ${n} argument${n === 1 ? "" : "s"}, got ${args.length}`,
+        );
+      }
     };
     const realArgs = () => {
-      if (args.some((x) => x.kind === "c")) fail(`${name}() needs real arguments`);
+      if (args.some((x) => x.kind === "c")) {
+        fail(`${name}() needs real arguments`);
+      }
     };
     if (name in COMPLEX_CAPABLE) {
       arity(1);
       const a = args[0]!;
       // Real input that may leave the real line (sqrt/log of a negative) shows up as NaN and is
       // reported by the sampler; complex input goes through complex arithmetic.
-      if (a.kind === "r") return { kind: "r", js: `${COMPLEX_CAPABLE[name]}(${a.js})` };
+      if (a.kind === "r") {
+        return { kind: "r", js: `${COMPLEX_CAPABLE[name]}(${a.js})` };
+      }
       return { kind: "c", js: `C.${name}(${a.js})` };
     }
     const realOnly = REAL_ONLY[name];
@@ -328,7 +388,10 @@ export function compileNode(node: MathNode, source: string, scope: Scope, path: 
       if (realOnly[1] >= 0) arity(realOnly[1]);
       else if (args.length === 0) fail(`${name}() needs at least one argument`);
       realArgs();
-      return { kind: "r", js: `${realOnly[0]}(${args.map((x) => x.js).join(",")})` };
+      return {
+        kind: "r",
+        js: `${realOnly[0]}(${args.map((x) => x.js).join(",")})`,
+      };
     }
     if (PARTS.includes(name)) {
       arity(1);
@@ -352,14 +415,20 @@ export function compileNode(node: MathNode, source: string, scope: Scope, path: 
     if (pulse) {
       arity(pulse.params.length + 1);
       realArgs();
-      return { kind: "r", js: `P.${name}.fn(${args.map((x) => x.js).join(",")})` };
+      return {
+        kind: "r",
+        js: `P.${name}.fn(${args.map((x) => x.js).join(",")})`,
+      };
     }
     return fail(`unknown function "${name}"`);
   };
 
   const code = gen(node);
   const body = `return (${["t", ...(scope.variables ?? [])].join(",")}) => ${code.js};`;
-  const fn = new Function("C", "P", "K", body)(C, PULSES, consts) as (t: number, ...v: number[]) => Value;
+  const fn = new Function("C", "P", "K", body)(C, PULSES, consts) as (
+    t: number,
+    ...v: number[]
+  ) => Value;
   const isComplex = code.kind === "c";
   const sample = isComplex
     ? (times: Float64Array, out: Float64Array) => {

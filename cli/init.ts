@@ -9,12 +9,27 @@ import { UsageError } from "./case_error.ts";
 
 /** The built-in examples: name → file in cases/ and what it shows. */
 export const EXAMPLES: Record<string, { file: string; about: string }> = {
-  "two-level": { file: "two_level.toml", about: "detuned two-level system, constant coupling (smallest complete case)" },
-  "leaky-transmon": { file: "leaky_transmon.toml", about: "driven four-level anharmonic mode, leakage under a Gaussian pulse (the demo)" },
-  ladder: { file: "ladder.toml", about: "three-level ladder, two-photon transition through a detuned middle level" },
-  band: { file: "band_decay.toml", about: "a level decaying into a band of states (golden rule)" },
+  "two-level": {
+    file: "two_level.toml",
+    about: "detuned two-level system, constant coupling (smallest complete case)",
+  },
+  "leaky-transmon": {
+    file: "leaky_transmon.toml",
+    about: "driven four-level anharmonic mode, leakage under a Gaussian pulse (the demo)",
+  },
+  ladder: {
+    file: "ladder.toml",
+    about: "three-level ladder, two-photon transition through a detuned middle level",
+  },
+  band: {
+    file: "band_decay.toml",
+    about: "a level decaying into a band of states (golden rule)",
+  },
   crossing: { file: "swept_crossing.toml", about: "swept avoided crossing" },
-  oscillator: { file: "kicked_oscillator.toml", about: "driven truncated oscillator" },
+  oscillator: {
+    file: "kicked_oscillator.toml",
+    about: "driven truncated oscillator",
+  },
 };
 
 /**
@@ -26,12 +41,17 @@ export const EXAMPLES: Record<string, { file: string; about: string }> = {
  * @returns the path written
  * @throws {UsageError} for an unknown example or an existing file
  */
-export function initCase(name: string, example = "two-level", force = false): string {
+export function initCase(
+  name: string,
+  example = "two-level",
+  force = false,
+): string {
   const chosen = EXAMPLES[example];
   if (!chosen) {
     throw new UsageError(
       `there is no example "${example}"; choose one of:\n` +
-        Object.entries(EXAMPLES).map(([k, v]) => `  ${k.padEnd(15)} ${v.about}`).join("\n"),
+        Object.entries(EXAMPLES).map(([k, v]) => `  ${k.padEnd(15)} ${v.about}`)
+          .join("\n"),
     );
   }
   const path = /\.(toml|json)$/i.test(name) ? name : `${name}.toml`;
@@ -40,8 +60,17 @@ export function initCase(name: string, example = "two-level", force = false): st
     Deno.statSync(path);
     exists = true;
   } catch { /* not there: good */ }
-  if (exists && !force) throw new UsageError(`${path} exists already; pass --force to overwrite it`);
-  const text = Deno.readTextFileSync(new URL(`../cases/${chosen.file}`, import.meta.url));
-  Deno.writeTextFileSync(path, path.toLowerCase().endsWith(".json") ? JSON.stringify(parseToml(text), null, 2) + "\n" : text);
+  if (exists && !force) {
+    throw new UsageError(
+      `${path} exists already; pass --force to overwrite it`,
+    );
+  }
+  const text = Deno.readTextFileSync(
+    new URL(`../cases/${chosen.file}`, import.meta.url),
+  );
+  Deno.writeTextFileSync(
+    path,
+    path.toLowerCase().endsWith(".json") ? JSON.stringify(parseToml(text), null, 2) + "\n" : text,
+  );
   return path;
 }

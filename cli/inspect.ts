@@ -47,7 +47,8 @@ function spectrum(engine: Engine, m: ComplexMatrix, labels: string[]) {
   const dominant = Array.from({ length: d }, (_, k) => {
     let best = 0, at = 0;
     for (let a = 0; a < d; a++) {
-      const p = vectors[2 * (a * d + k)]! ** 2 + vectors[2 * (a * d + k) + 1]! ** 2;
+      const p = vectors[2 * (a * d + k)]! ** 2 +
+        vectors[2 * (a * d + k) + 1]! ** 2;
       if (p > best) [best, at] = [p, a];
     }
     return labels[at]!;
@@ -55,7 +56,11 @@ function spectrum(engine: Engine, m: ComplexMatrix, labels: string[]) {
   return { values, vectors, dominant };
 }
 
-function assembleAt(terms: AssembledTerm[], d: number, t: number): ComplexMatrix {
+function assembleAt(
+  terms: AssembledTerm[],
+  d: number,
+  t: number,
+): ComplexMatrix {
   let sum = new ComplexMatrix(d, d);
   for (const term of terms) {
     let c = term.coef ? toComplex(term.coef.at(t)) : { re: 1, im: 0 };
@@ -79,7 +84,9 @@ export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
   const vTerms = built.terms.filter((t) => t.section === "perturbation");
   const scheme = schemeFor(model);
   const h0TimeDependent = scheme === "time-dependent-h0";
-  const spectra = (h0TimeDependent ? [model.tStart, model.tEnd] : [model.tStart]).map((at) => ({
+  const spectra = (h0TimeDependent ? [model.tStart, model.tEnd] : [model.tStart]).map((
+    at,
+  ) => ({
     at,
     ...spectrum(engine, assembleAt(h0Terms, d, at), space.labels),
   }));
@@ -91,7 +98,12 @@ export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
   const coupling = new Float64Array(d * d);
   for (const term of vTerms) {
     const w = basisH.mul(term.matrix).mul(basis);
-    for (let k = 0; k < d * d; k++) coupling[k] = Math.max(coupling[k]!, Math.hypot(w.data[2 * k]!, w.data[2 * k + 1]!));
+    for (let k = 0; k < d * d; k++) {
+      coupling[k] = Math.max(
+        coupling[k]!,
+        Math.hypot(w.data[2 * k]!, w.data[2 * k + 1]!),
+      );
+    }
   }
   const cutoff = 1e-12 * Math.max(...coupling, 1e-300);
   const bohr: Inspection["bohr"] = [];
@@ -102,12 +114,19 @@ export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
       if (c <= cutoff) continue;
       const omega = values[a]! - values[b]!;
       omegaMax = Math.max(omegaMax, Math.abs(omega));
-      bohr.push({ omega, upper: dominant[a]!, lower: dominant[b]!, coupling: c });
+      bohr.push({
+        omega,
+        upper: dominant[a]!,
+        lower: dominant[b]!,
+        coupling: c,
+      });
     }
   }
   bohr.sort((x, y) => y.coupling - x.coupling || y.omega - x.omega);
   if (h0TimeDependent) {
-    for (const s of spectra) omegaMax = Math.max(omegaMax, s.values[d - 1]! - s.values[0]!);
+    for (const s of spectra) {
+      omegaMax = Math.max(omegaMax, s.values[d - 1]! - s.values[0]!);
+    }
   }
 
   // Norm bound: ‖λV(t)‖ ≤ λ Σ_k |f_k(t)|·‖M_k‖₂, integrated by the trapezoid rule.
@@ -120,7 +139,8 @@ export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
   let integral = 0, vMax = 0, coefRate = 0;
   let previous = 0;
   const allCoefTerms = built.terms;
-  const rateMax = new Float64Array(allCoefTerms.length), absMax = new Float64Array(allCoefTerms.length);
+  const rateMax = new Float64Array(allCoefTerms.length),
+    absMax = new Float64Array(allCoefTerms.length);
   const prevAll = new Float64Array(2 * allCoefTerms.length);
   for (let k = 0; k < points; k++) {
     const t = model.tStart + span * k / (points - 1);
@@ -134,7 +154,8 @@ export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
       if (!term.coef?.usesTime) return;
       const c = toComplex(term.coef.at(t));
       if (k > 0) {
-        const rate = Math.hypot(c.re - prevAll[2 * j]!, c.im - prevAll[2 * j + 1]!) / (span / (points - 1));
+        const rate = Math.hypot(c.re - prevAll[2 * j]!, c.im - prevAll[2 * j + 1]!) /
+          (span / (points - 1));
         rateMax[j] = Math.max(rateMax[j]!, rate);
       }
       absMax[j] = Math.max(absMax[j]!, Math.hypot(c.re, c.im));
@@ -158,7 +179,11 @@ export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
   return {
     dim: d,
     scheme,
-    spectrum: spectra.map(({ at, values, dominant }) => ({ at, values, dominant })),
+    spectrum: spectra.map(({ at, values, dominant }) => ({
+      at,
+      values,
+      dominant,
+    })),
     bohr,
     omegaMax,
     coefRate,
@@ -193,42 +218,90 @@ export function formatInspection(built: BuiltCase, info: Inspection): string {
   const tu = timeUnit ? ` ${timeUnit}` : "";
   const freq = built.units.time ? ` rad/${built.units.time}` : "";
   lines.push(`${built.title}`);
-  lines.push(`  file       ${built.source.file} (sha256 ${built.source.sha256.slice(0, 12)})`);
+  lines.push(
+    `  file       ${built.source.file} (sha256 ${built.source.sha256.slice(0, 12)})`,
+  );
   lines.push(`  units      ${built.units.description}`);
   const subs = space.subsystems.length > 1 || space.subsystems[0]!.name !== "levels"
-    ? ` = ${space.subsystems.map((s) => `${s.name} (${s.kind}, ${s.labels.length})`).join(" ⊗ ")}`
+    ? ` = ${
+      space.subsystems.map((s) => `${s.name} (${s.kind}, ${s.labels.length})`)
+        .join(" ⊗ ")
+    }`
     : "";
   lines.push(`  dimension  ${info.dim}${subs}`);
-  lines.push(`  labels     ${space.labels.slice(0, 24).join(", ")}${space.labels.length > 24 ? ", …" : ""}`);
+  lines.push(
+    `  labels     ${space.labels.slice(0, 24).join(", ")}${space.labels.length > 24 ? ", …" : ""}`,
+  );
   lines.push(`  scheme     ${info.scheme}`);
   if (built.params.size) {
-    lines.push(`  params     ${[...built.params].map(([k, v]) => `${k} = ${typeof v === "number" ? fmt(v) : `${fmt(v.re)}${v.im < 0 ? "-" : "+"}${fmt(Math.abs(v.im))}i`}`).join(", ")}`);
+    lines.push(
+      `  params     ${
+        [...built.params].map(([k, v]) =>
+          `${k} = ${
+            typeof v === "number" ? fmt(v) : `${fmt(v.re)}${v.im < 0 ? "-" : "+"}${fmt(Math.abs(v.im))}i`
+          }`
+        ).join(", ")
+      }`,
+    );
   }
   for (const s of info.spectrum) {
-    const shown = Array.from(s.values.slice(0, 16), (e, k) => `${fmt(e)} (${s.dominant[k]})`).join(", ");
-    lines.push(`  H0 spectrum${info.spectrum.length > 1 ? ` at t = ${fmt(s.at)}` : ""} [${freq.trim() || "angular"}]`);
-    lines.push(`             ${shown}${s.values.length > 16 ? `, … (${s.values.length} levels)` : ""}`);
+    const shown = Array.from(
+      s.values.slice(0, 16),
+      (e, k) => `${fmt(e)} (${s.dominant[k]})`,
+    ).join(", ");
+    lines.push(
+      `  H0 spectrum${info.spectrum.length > 1 ? ` at t = ${fmt(s.at)}` : ""} [${freq.trim() || "angular"}]`,
+    );
+    lines.push(
+      `             ${shown}${s.values.length > 16 ? `, … (${s.values.length} levels)` : ""}`,
+    );
   }
-  lines.push(`  Bohr frequencies coupled by V (E_a − E_b, strongest coupling first):`);
-  if (info.bohr.length === 0) lines.push("             none: V is diagonal in H0's eigenbasis");
+  lines.push(
+    `  Bohr frequencies coupled by V (E_a − E_b, strongest coupling first):`,
+  );
+  if (info.bohr.length === 0) {
+    lines.push("             none: V is diagonal in H0's eigenbasis");
+  }
   for (const b of info.bohr.slice(0, 10)) {
-    lines.push(`             ${b.upper} ↔ ${b.lower}: ω = ${fmt(b.omega)}${freq}, |V| = ${fmt(b.coupling, 4)}`);
+    lines.push(
+      `             ${b.upper} ↔ ${b.lower}: ω = ${fmt(b.omega)}${freq}, |V| = ${fmt(b.coupling, 4)}`,
+    );
   }
-  if (info.bohr.length > 10) lines.push(`             … and ${info.bohr.length - 10} more pairs`);
-  lines.push(`  norm bound x = ∫‖λV(t)‖dt ≤ ${fmt(info.normIntegral, 4)}  (‖λV‖ ≤ ${fmt(info.vMax, 4)}${freq}; the n-th Dyson term is at most xⁿ/n!)`);
+  if (info.bohr.length > 10) {
+    lines.push(`             … and ${info.bohr.length - 10} more pairs`);
+  }
+  lines.push(
+    `  norm bound x = ∫‖λV(t)‖dt ≤ ${fmt(info.normIntegral, 4)}  (‖λV‖ ≤ ${
+      fmt(info.vMax, 4)
+    }${freq}; the n-th Dyson term is at most xⁿ/n!)`,
+  );
   if (info.scheme === "time-independent") {
-    lines.push(`  steps      none: H is time-independent, propagated exactly between ${model.samples} samples (interval ${fmt(info.stepSize)}${tu})`);
+    lines.push(
+      `  steps      none: H is time-independent, propagated exactly between ${model.samples} samples (interval ${
+        fmt(info.stepSize)
+      }${tu})`,
+    );
   } else {
     const phase = info.omegaMax * info.stepSize;
     lines.push(
       `  steps      ${info.steps} of h = ${fmt(info.stepSize)}${tu}` +
-        (info.steps !== model.steps ? ` (${model.steps} asked; rounded up to an even number per sample interval)` : ""),
+        (info.steps !== model.steps
+          ? ` (${model.steps} asked; rounded up to an even number per sample interval)`
+          : ""),
     );
-    lines.push(`             largest |E_a − E_b|·h = ${fmt(phase, 3)} rad per step; fastest coefficient rate × h = ${fmt(info.coefRate * info.stepSize, 3)}`);
+    lines.push(
+      `             largest |E_a − E_b|·h = ${fmt(phase, 3)} rad per step; fastest coefficient rate × h = ${
+        fmt(info.coefRate * info.stepSize, 3)
+      }`,
+    );
     const verdict = info.steps >= info.suggestedSteps ? "enough" : "too few: raise [grid] steps";
-    lines.push(`             suggested ≥ ${info.suggestedSteps} steps (phase per step ≤ ${PHASE_PER_STEP}); ${verdict}`);
+    lines.push(
+      `             suggested ≥ ${info.suggestedSteps} steps (phase per step ≤ ${PHASE_PER_STEP}); ${verdict}`,
+    );
   }
-  lines.push(`  memory     about ${bytes(info.memoryBytes)} (largest part: ${info.memoryLargest})`);
+  lines.push(
+    `  memory     about ${bytes(info.memoryBytes)} (largest part: ${info.memoryLargest})`,
+  );
   for (const w of built.warnings) lines.push(`  warning    ${w}`);
   return lines.join("\n");
 }

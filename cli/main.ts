@@ -44,18 +44,25 @@ function usage(message: string): never {
   throw new UsageError(message);
 }
 
-function parseOrFail(args: string[], options: NonNullable<ParseArgsConfig["options"]>) {
+function parseOrFail(
+  args: string[],
+  options: NonNullable<ParseArgsConfig["options"]>,
+) {
   try {
     return parseArgs({ args, options, allowPositionals: true, strict: true });
   } catch (e) {
-    return usage(`${(e as Error).message.replace(/\. To specify.*$/s, "")}; see \`ordo --help\``);
+    return usage(
+      `${(e as Error).message.replace(/\. To specify.*$/s, "")}; see \`ordo --help\``,
+    );
   }
 }
 
 function integerFlag(value: unknown, flag: string): number | undefined {
   if (value === undefined) return undefined;
   const n = Number(value);
-  if (!Number.isInteger(n)) usage(`${flag} takes a whole number, got "${value}"`);
+  if (!Number.isInteger(n)) {
+    usage(`${flag} takes a whole number, got "${value}"`);
+  }
   return n;
 }
 
@@ -78,13 +85,19 @@ function buildOptions(values: Record<string, unknown>): BuildOptions {
 }
 
 function oneCase(positionals: string[], command: string): string {
-  if (positionals.length !== 1) usage(`${command} takes one case file, e.g. \`ordo ${command} cases/two_level.toml\``);
+  if (positionals.length !== 1) {
+    usage(
+      `${command} takes one case file, e.g. \`ordo ${command} cases/two_level.toml\``,
+    );
+  }
   return positionals[0]!;
 }
 
 async function main(argv: string[]): Promise<number> {
   const [command, ...rest] = argv;
-  if (!command || command === "--help" || command === "-h" || command === "help") {
+  if (
+    !command || command === "--help" || command === "-h" || command === "help"
+  ) {
     console.log(HELP);
     return 0;
   }
@@ -107,27 +120,43 @@ async function main(argv: string[]): Promise<number> {
       const file = oneCase(positionals, "run");
       const built = buildCase(readCase(file), buildOptions(values));
       const at = values.at === undefined ? undefined : Number(values.at);
-      if (at !== undefined && !Number.isFinite(at)) usage(`--at takes a time, got "${values.at}"`);
+      if (at !== undefined && !Number.isFinite(at)) {
+        usage(`--at takes a time, got "${values.at}"`);
+      }
       const engine = await loadEngine();
       const showProgress = !values.quiet && Deno.stderr.isTerminal();
       let lastShown = -1;
-      const outcome = runCase(engine, built, at, showProgress
-        ? (f) => {
-          const pct = Math.floor(f * 100);
-          if (pct !== lastShown) {
-            lastShown = pct;
-            Deno.stderr.writeSync(new TextEncoder().encode(`\rpropagating ${pct}%`));
+      const outcome = runCase(
+        engine,
+        built,
+        at,
+        showProgress
+          ? (f) => {
+            const pct = Math.floor(f * 100);
+            if (pct !== lastShown) {
+              lastShown = pct;
+              Deno.stderr.writeSync(
+                new TextEncoder().encode(`\rpropagating ${pct}%`),
+              );
+            }
           }
-        }
-        : undefined);
-      if (showProgress) Deno.stderr.writeSync(new TextEncoder().encode("\r\x1b[K"));
+          : undefined,
+      );
+      if (showProgress) {
+        Deno.stderr.writeSync(new TextEncoder().encode("\r\x1b[K"));
+      }
       if (values.json) console.log(JSON.stringify(runJson(outcome)));
       else console.log(formatRun(outcome));
       return 0;
     }
     case "inspect": {
-      const { values, positionals } = parseOrFail(rest, { set: { type: "string", multiple: true } });
-      const built = buildCase(readCase(oneCase(positionals, "inspect")), buildOptions(values));
+      const { values, positionals } = parseOrFail(rest, {
+        set: { type: "string", multiple: true },
+      });
+      const built = buildCase(
+        readCase(oneCase(positionals, "inspect")),
+        buildOptions(values),
+      );
       const engine = await loadEngine();
       console.log(formatInspection(built, inspectCase(engine, built)));
       return 0;
@@ -137,9 +166,19 @@ async function main(argv: string[]): Promise<number> {
         example: { type: "string" },
         force: { type: "boolean" },
       });
-      if (positionals.length !== 1) usage("init takes the name of the file to write, e.g. `ordo init my_case`");
-      const path = initCase(positionals[0]!, values.example as string | undefined, Boolean(values.force));
-      console.error(`ordo: wrote ${path}; try \`ordo inspect ${path}\` then \`ordo run ${path}\``);
+      if (positionals.length !== 1) {
+        usage(
+          "init takes the name of the file to write, e.g. `ordo init my_case`",
+        );
+      }
+      const path = initCase(
+        positionals[0]!,
+        values.example as string | undefined,
+        Boolean(values.force),
+      );
+      console.error(
+        `ordo: wrote ${path}; try \`ordo inspect ${path}\` then \`ordo run ${path}\``,
+      );
       return 0;
     }
     case "bench": {
@@ -149,9 +188,13 @@ async function main(argv: string[]): Promise<number> {
     }
     case "sweep":
     case "check":
-      return usage(`\`ordo ${command}\` is not built yet in ordo ${VERSION}; use \`ordo run\` per point for now`);
+      return usage(
+        `\`ordo ${command}\` is not built yet in ordo ${VERSION}; use \`ordo run\` per point for now`,
+      );
     default:
-      return usage(`unknown command "${command}"; commands are run, inspect, init, bench (see \`ordo --help\`)`);
+      return usage(
+        `unknown command "${command}"; commands are run, inspect, init, bench (see \`ordo --help\`)`,
+      );
   }
 }
 

@@ -79,13 +79,31 @@ function lowering(n: number): ComplexMatrix {
   return a;
 }
 
-const SPIN_OPS = ["sx", "sy", "sz", "splus", "sminus", "sigmax", "sigmay", "sigmaz"];
+const SPIN_OPS = [
+  "sx",
+  "sy",
+  "sz",
+  "splus",
+  "sminus",
+  "sigmax",
+  "sigmay",
+  "sigmaz",
+];
 const OSC_OPS = ["a", "adag", "num"];
 /** Names of the operator functions (reserved: no param may use them). */
-export const OPERATOR_FUNCTIONS: readonly string[] = [...SPIN_OPS, ...OSC_OPS, "id", "dag", "ketbra"];
+export const OPERATOR_FUNCTIONS: readonly string[] = [
+  ...SPIN_OPS,
+  ...OSC_OPS,
+  "id",
+  "dag",
+  "ketbra",
+];
 
 /** The local operator `name` on subsystem `sub`, or undefined if it does not apply there. */
-function localOperator(name: string, sub: Subsystem): ComplexMatrix | undefined {
+function localOperator(
+  name: string,
+  sub: Subsystem,
+): ComplexMatrix | undefined {
   const n = sub.labels.length;
   if (name === "id") return ComplexMatrix.identity(n);
   if (sub.kind === "spin" && SPIN_OPS.includes(name)) {
@@ -125,7 +143,10 @@ function embed(space: Space, k: number, local: ComplexMatrix): ComplexMatrix {
   return out;
 }
 
-type OpValue = { kind: "scalar"; z: Complex } | { kind: "op"; m: ComplexMatrix };
+type OpValue = { kind: "scalar"; z: Complex } | {
+  kind: "op";
+  m: ComplexMatrix;
+};
 
 /**
  * Evaluates an `op` string to a matrix on the space.
@@ -156,11 +177,19 @@ export function evaluateOperator(
   const fail = (what: string, fix?: string): never => {
     throw new CaseError(`in "${source}": ${what}`, path, fix);
   };
-  if (/h\.c\./.test(text)) fail('"h.c." can only stand at the end, as "… + h.c."');
+  if (/h\.c\./.test(text)) {
+    fail('"h.c." can only stand at the end, as "… + h.c."');
+  }
   // Ket-bras become calls: |a><b| → ketbra("a", "b").
-  text = text.replace(/\|([^|<>]*)>\s*<([^|<>]*)\|/g, (_m, a: string, b: string) => `ketbra(${JSON.stringify(a.trim())}, ${JSON.stringify(b.trim())})`);
+  text = text.replace(
+    /\|([^|<>]*)>\s*<([^|<>]*)\|/g,
+    (_m, a: string, b: string) => `ketbra(${JSON.stringify(a.trim())}, ${JSON.stringify(b.trim())})`,
+  );
   if (text.includes("|")) {
-    fail("a ket-bra is malformed", 'write it as |a><b| with level labels a and b, e.g. "|e><g|"');
+    fail(
+      "a ket-bra is malformed",
+      'write it as |a><b| with level labels a and b, e.g. "|e><g|"',
+    );
   }
   const node = parseExpression(text, path);
 
@@ -169,7 +198,10 @@ export function evaluateOperator(
     n.traverse((child) => {
       // deno-lint-ignore no-explicit-any
       const c = child as any;
-      if (c.type === "FunctionNode" && c.fn?.type === "SymbolNode" && OPERATOR_FUNCTIONS.includes(c.fn.name)) {
+      if (
+        c.type === "FunctionNode" && c.fn?.type === "SymbolNode" &&
+        OPERATOR_FUNCTIONS.includes(c.fn.name)
+      ) {
         found = true;
       }
     });
@@ -180,7 +212,9 @@ export function evaluateOperator(
     // deno-lint-ignore no-explicit-any
     const arg = args[0] as any;
     if (args.length !== 1 || arg?.type !== "SymbolNode") {
-      fail(`${name}() takes one subsystem name, e.g. ${name}(${space.subsystems[0]?.name ?? "q"})`);
+      fail(
+        `${name}() takes one subsystem name, e.g. ${name}(${space.subsystems[0]?.name ?? "q"})`,
+      );
     }
     const k = space.subsystems.findIndex((s) => s.name === arg.name);
     if (k < 0) {
@@ -208,10 +242,13 @@ export function evaluateOperator(
       local.set(s.labels.indexOf(a), s.labels.indexOf(b), 1);
       return embed(space, k, local);
     }
-    const shown = space.labels.slice(0, 12).join(", ") + (space.labels.length > 12 ? ", …" : "");
+    const shown = space.labels.slice(0, 12).join(", ") +
+      (space.labels.length > 12 ? ", …" : "");
     if (owners.length > 1) {
       return fail(
-        `|${a}><${b}| is ambiguous: subsystems ${owners.map((o) => o.s.name).join(" and ")} both have these labels`,
+        `|${a}><${b}| is ambiguous: subsystems ${
+          owners.map((o) => o.s.name).join(" and ")
+        } both have these labels`,
         `write the full product labels, e.g. |${space.labels[0]}><${space.labels[1] ?? space.labels[0]}|`,
       );
     }
@@ -237,8 +274,11 @@ export function evaluateOperator(
         if (name === "ketbra") {
           // deno-lint-ignore no-explicit-any
           const [a, b] = args as any[];
-          if (args.length !== 2 || a.type !== "ConstantNode" || b.type !== "ConstantNode") {
-            fail('ketbra takes two labels: write |a><b|');
+          if (
+            args.length !== 2 || a.type !== "ConstantNode" ||
+            b.type !== "ConstantNode"
+          ) {
+            fail("ketbra takes two labels: write |a><b|");
           }
           return { kind: "op", m: ketbra(String(a.value), String(b.value)) };
         }
@@ -253,7 +293,9 @@ export function evaluateOperator(
           const fits = sub.kind === "spin" ? SPIN_OPS : sub.kind === "oscillator" ? OSC_OPS : [];
           return fail(
             `${name}() does not apply to ${sub.name}, a subsystem of kind "${sub.kind}"`,
-            fits.length ? `on ${sub.name} use ${fits.join(", ")} or id` : `on ${sub.name} use ket-bras such as |${sub.labels[1] ?? sub.labels[0]}><${sub.labels[0]}|`,
+            fits.length
+              ? `on ${sub.name} use ${fits.join(", ")} or id`
+              : `on ${sub.name} use ket-bras such as |${sub.labels[1] ?? sub.labels[0]}><${sub.labels[0]}|`,
           );
         }
         return { kind: "op", m: embed(space, k, local) };
@@ -271,18 +313,27 @@ export function evaluateOperator(
           case "subtract":
             return { kind: "op", m: asMatrix(x).sub(asMatrix(y)) };
           case "multiply":
-            if (x.kind === "scalar") return { kind: "op", m: asMatrix(y).scale(x.z) };
+            if (x.kind === "scalar") {
+              return { kind: "op", m: asMatrix(y).scale(x.z) };
+            }
             if (y.kind === "scalar") return { kind: "op", m: x.m.scale(y.z) };
             return { kind: "op", m: x.m.mul(y.m) };
           case "divide": {
-            if (y.kind !== "scalar") return fail("cannot divide by an operator");
+            if (y.kind !== "scalar") {
+              return fail("cannot divide by an operator");
+            }
             const d = y.z.re * y.z.re + y.z.im * y.z.im;
-            return { kind: "op", m: asMatrix(x).scale({ re: y.z.re / d, im: -y.z.im / d }) };
+            return {
+              kind: "op",
+              m: asMatrix(x).scale({ re: y.z.re / d, im: -y.z.im / d }),
+            };
           }
           case "pow": {
             const p = y.kind === "scalar" ? y.z : undefined;
             if (!p || p.im !== 0 || !Number.isInteger(p.re) || p.re < 0) {
-              return fail("an operator can only be raised to a whole power ≥ 0, e.g. num(m)^2");
+              return fail(
+                "an operator can only be raised to a whole power ≥ 0, e.g. num(m)^2",
+              );
             }
             return { kind: "op", m: asMatrix(x).power(p.re) };
           }
@@ -290,7 +341,9 @@ export function evaluateOperator(
         return fail(`the operator "${node.op}" cannot act on operators`);
       }
       default:
-        return fail(`${n.type.replace("Node", "").toLowerCase()} syntax cannot hold operators`);
+        return fail(
+          `${n.type.replace("Node", "").toLowerCase()} syntax cannot hold operators`,
+        );
     }
   };
 

@@ -59,7 +59,9 @@ export function parseCase(text: string, file = "<text>"): CaseSource {
     const err = new CaseError(
       `not valid ${format.toUpperCase()}: ${firstLine((e as Error).message)}`,
       [],
-      format === "json" ? "check commas, quotes and brackets" : "check quotes, brackets and `key = value` syntax",
+      format === "json"
+        ? "check commas, quotes and brackets"
+        : "check quotes, brackets and `key = value` syntax",
     );
     err.file = file;
     if (e instanceof TomlError) err.line = e.line;
@@ -70,7 +72,12 @@ export function parseCase(text: string, file = "<text>"): CaseSource {
   if (!result.success) {
     const issue = result.error.issues[0]!;
     const { message, fix } = describeIssue(issue);
-    throw withLocation(new CaseError(message, issue.path, fix), file, text, format);
+    throw withLocation(
+      new CaseError(message, issue.path, fix),
+      file,
+      text,
+      format,
+    );
   }
   const sha256 = createHash("sha256").update(text).digest("hex");
   return { file, text, format, sha256, spec: result.data };
@@ -100,7 +107,12 @@ export function readCase(file: string): CaseSource {
 }
 
 /** Sets file and line on a case error from its key path. */
-export function withLocation(err: CaseError, file: string, text: string, format: "toml" | "json"): CaseError {
+export function withLocation(
+  err: CaseError,
+  file: string,
+  text: string,
+  format: "toml" | "json",
+): CaseError {
   err.file ??= file;
   err.line ??= format === "toml" ? locateToml(text, err.path) : locateJson(text, err.path);
   return err;
@@ -129,8 +141,13 @@ export function locateToml(text: string, path: KeyPath): number | undefined {
   let best: { line: number; depth: number } | undefined;
   const consider = (keyPath: KeyPath, line: number) => {
     let depth = 0;
-    while (depth < keyPath.length && depth < path.length && keyPath[depth] === path[depth]) depth++;
-    if (depth === keyPath.length && depth > 0 && (!best || depth > best.depth)) best = { line, depth };
+    while (
+      depth < keyPath.length && depth < path.length &&
+      keyPath[depth] === path[depth]
+    ) depth++;
+    if (
+      depth === keyPath.length && depth > 0 && (!best || depth > best.depth)
+    ) best = { line, depth };
   };
   const splitKey = (k: string): string[] => k.split(".").map((p) => p.trim().replace(/^["']|["']$/g, ""));
   lines.forEach((raw, idx) => {

@@ -22,10 +22,16 @@ export function sinsq(t: number, start: number, stop: number): number {
  * Flat top with sine-squared ramps: rises over [start, start+ramp], holds 1,
  * falls over [stop−ramp, stop], and is 0 outside [start, stop].
  */
-export function flattop(t: number, start: number, stop: number, ramp: number): number {
+export function flattop(
+  t: number,
+  start: number,
+  stop: number,
+  ramp: number,
+): number {
   if (t < start || t > stop) return 0;
   if (ramp <= 0) return 1;
-  const rise = Math.min(1, (t - start) / ramp), fall = Math.min(1, (stop - t) / ramp);
+  const rise = Math.min(1, (t - start) / ramp),
+    fall = Math.min(1, (stop - t) / ramp);
   const s = Math.sin(0.5 * Math.PI * Math.min(rise, fall));
   return s * s;
 }
@@ -46,10 +52,19 @@ export function box(t: number, start: number, stop: number): number {
 }
 
 /** The pulse library by name, with each shape's parameter names (after t). */
-export const PULSES: Record<string, { fn: (...args: number[]) => number; params: string[] }> = {
-  gauss: { fn: gauss as (...a: number[]) => number, params: ["center", "width"] },
+export const PULSES: Record<
+  string,
+  { fn: (...args: number[]) => number; params: string[] }
+> = {
+  gauss: {
+    fn: gauss as (...a: number[]) => number,
+    params: ["center", "width"],
+  },
   sinsq: { fn: sinsq as (...a: number[]) => number, params: ["start", "stop"] },
-  flattop: { fn: flattop as (...a: number[]) => number, params: ["start", "stop", "ramp"] },
+  flattop: {
+    fn: flattop as (...a: number[]) => number,
+    params: ["start", "stop", "ramp"],
+  },
   chirp: { fn: chirp as (...a: number[]) => number, params: ["w0", "rate"] },
   step: { fn: step as (...a: number[]) => number, params: ["at"] },
   box: { fn: box as (...a: number[]) => number, params: ["start", "stop"] },

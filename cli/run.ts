@@ -5,7 +5,7 @@
  * @module
  */
 
-import { type Analysis, analyse } from "./analysis.ts";
+import { analyse, type Analysis } from "./analysis.ts";
 import type { BuiltCase } from "./build_model.ts";
 import { inspectCase, type Inspection } from "./inspect.ts";
 import { type Engine, populationsAt, type Result, solve } from "../engine/mod.ts";
@@ -43,7 +43,14 @@ export function runCase(
       if (Math.abs(t - at) < best) [best, sample] = [Math.abs(t - at), k];
     });
   }
-  const analysis = analyse(result, built.space.labels, built.targets, info.normIntegral, built.tolerance, sample);
+  const analysis = analyse(
+    result,
+    built.space.labels,
+    built.targets,
+    info.normIntegral,
+    built.tolerance,
+    sample,
+  );
   return { built, info, result, analysis };
 }
 
@@ -54,31 +61,49 @@ function num(x: number, digits = 4): string {
 }
 
 /** The terminal report: header, one table per target, verdict. */
-export function formatRun({ built, info, result, analysis }: RunOutcome): string {
+export function formatRun(
+  { built, info, result, analysis }: RunOutcome,
+): string {
   const out: string[] = [];
   const tu = built.units.time ? ` ${built.units.time}` : "";
   out.push(`ordo ${VERSION} · ${built.title}`);
   out.push(`units   ${built.units.description}`);
   const stepText = result.scheme === "time-independent"
     ? `no time steps (time-independent H: exact exponentials between ${result.times.length} samples)`
-    : `${result.steps} steps of h = ${Number(result.stepSize.toPrecision(4))}${tu}, 4th-order commutator-free exponential integrator`;
-  out.push(`scheme  ${result.scheme}; ${stepText}; Dyson order ≤ ${built.model.order}; λ = ${built.model.strength}`);
-  out.push(`window  t = ${built.model.tStart} … ${built.model.tEnd}${tu}; reporting t = ${Number(analysis.time.toPrecision(6))}${tu}; x = ∫‖λV‖dt ≤ ${num(info.normIntegral, 3)}`);
+    : `${result.steps} steps of h = ${
+      Number(result.stepSize.toPrecision(4))
+    }${tu}, 4th-order commutator-free exponential integrator`;
+  out.push(
+    `scheme  ${result.scheme}; ${stepText}; Dyson order ≤ ${built.model.order}; λ = ${built.model.strength}`,
+  );
+  out.push(
+    `window  t = ${built.model.tStart} … ${built.model.tEnd}${tu}; reporting t = ${
+      Number(analysis.time.toPrecision(6))
+    }${tu}; x = ∫‖λV‖dt ≤ ${num(info.normIntegral, 3)}`,
+  );
   for (const target of analysis.targets) {
     out.push("");
-    out.push(`population of ${target.label}: exact ${target.exact.toPrecision(8)}`);
-    out.push("  order   partial sum     error      bound     consistent   ‖ψn‖/‖ψn−1‖");
+    out.push(
+      `population of ${target.label}: exact ${target.exact.toPrecision(8)}`,
+    );
+    out.push(
+      "  order   partial sum     error      bound     consistent   ‖ψn‖/‖ψn−1‖",
+    );
     for (const row of target.rows) {
       out.push(
-        `  ${String(row.order).padStart(5)}   ${row.population.toPrecision(8).padEnd(12)}  ${num(row.error).padStart(9)}  ${
-          num(row.bound).padStart(9)
-        }   ${row.consistent.toPrecision(6).padStart(11)}   ${num(row.ratio, 3).padStart(9)}`,
+        `  ${String(row.order).padStart(5)}   ${row.population.toPrecision(8).padEnd(12)}  ${
+          num(row.error).padStart(9)
+        }  ${num(row.bound).padStart(9)}   ${row.consistent.toPrecision(6).padStart(11)}   ${
+          num(row.ratio, 3).padStart(9)
+        }`,
       );
     }
   }
   out.push("");
   out.push(`verdict (tolerance ${num(analysis.tolerance, 2)} on populations)`);
-  const refText = result.checkDivisor === 15 ? "step doubling, |P(h) − P(2h)|/15" : "exact by eigen-decomposition vs by Taylor series";
+  const refText = result.checkDivisor === 15
+    ? "step doubling, |P(h) − P(2h)|/15"
+    : "exact by eigen-decomposition vs by Taylor series";
   out.push(
     `  reference error ≈ ${num(analysis.referenceError, 2)} (${refText}): ` +
       (analysis.referenceOk
@@ -101,7 +126,9 @@ export function formatRun({ built, info, result, analysis }: RunOutcome): string
     out.push(`  ${t.label}: ${need}${first}`);
   }
   if (analysis.growing) {
-    out.push("  WARNING: the Dyson terms grow with order here: the series diverges or is at best asymptotic for these parameters");
+    out.push(
+      "  WARNING: the Dyson terms grow with order here: the series diverges or is at best asymptotic for these parameters",
+    );
   }
   for (const w of built.warnings) out.push(`  warning: ${w}`);
   return out.join("\n");
@@ -128,14 +155,19 @@ export function runJson({ built, result, analysis }: RunOutcome): unknown {
     return popsOf(partial);
   });
   const exact = popsOf(result.exact);
-  const last = (m: Record<string, number[]>) => Object.fromEntries(labels.map((l) => [l, m[l]![samples - 1]!]));
+  const last = (m: Record<string, number[]>) =>
+    Object.fromEntries(labels.map((l) => [l, m[l]![samples - 1]!]));
   return {
     ordo: VERSION,
     case: {
       title: built.title,
       file: built.source.file,
       sha256: built.source.sha256,
-      params: Object.fromEntries([...built.params].map(([k, v]) => [k, typeof v === "number" ? v : [v.re, v.im]])),
+      params: Object.fromEntries(
+        [...built.params].map((
+          [k, v],
+        ) => [k, typeof v === "number" ? v : [v.re, v.im]]),
+      ),
     },
     method: {
       scheme: result.scheme,

@@ -14,7 +14,10 @@ import { CaseError } from "./case_error.ts";
 
 const math = create(all!);
 /** Physical constants as mathjs carries them (CODATA values, with units). */
-const constants = math as unknown as Record<"reducedPlanckConstant" | "planckConstant" | "speedOfLight", Unit>;
+const constants = math as unknown as Record<
+  "reducedPlanckConstant" | "planckConstant" | "speedOfLight",
+  Unit
+>;
 
 /** Time units accepted in `[units] time`. */
 export const TIME_UNITS = ["s", "ms", "us", "ns", "ps", "fs", "as"] as const;
@@ -23,7 +26,12 @@ const ENERGY = ["eV", "meV", "ueV", "J"];
 const WAVENUMBER = ["cm^-1"];
 const ANGULAR = TIME_UNITS.map((u) => `rad/${u}`);
 /** Energy or frequency units accepted in `[units] energy`. */
-export const ENERGY_UNITS: readonly string[] = [...CYCLIC, ...ANGULAR, ...ENERGY, ...WAVENUMBER];
+export const ENERGY_UNITS: readonly string[] = [
+  ...CYCLIC,
+  ...ANGULAR,
+  ...ENERGY,
+  ...WAVENUMBER,
+];
 
 /** The convention a case uses, and the factor that puts its Hamiltonian in rad per time unit. */
 export interface UnitConvention {
@@ -44,7 +52,9 @@ export function secondsPer(unit: string): number {
 
 /** Angular frequency in rad/s of one of the energy or frequency units. */
 export function angularPerSecond(unit: string): number {
-  if (CYCLIC.includes(unit)) return 2 * Math.PI * math.unit(1, unit).toNumber("Hz");
+  if (CYCLIC.includes(unit)) {
+    return 2 * Math.PI * math.unit(1, unit).toNumber("Hz");
+  }
   if (ANGULAR.includes(unit)) return 1 / secondsPer(unit.slice(4));
   const hbar = constants.reducedPlanckConstant.toNumber("J s");
   if (ENERGY.includes(unit)) return math.unit(1, unit).toNumber("J") / hbar;
@@ -67,7 +77,9 @@ export function angularPerSecond(unit: string): number {
  * console.assert(Math.abs(u.energyFactor - 2 * Math.PI) < 1e-12);
  * ```
  */
-export function resolveUnits(spec: { time?: string; energy?: string } | undefined): UnitConvention {
+export function resolveUnits(
+  spec: { time?: string; energy?: string } | undefined,
+): UnitConvention {
   const time = spec?.time, energy = spec?.energy;
   if (time !== undefined && !(TIME_UNITS as readonly string[]).includes(time)) {
     throw new CaseError(

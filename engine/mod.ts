@@ -42,11 +42,33 @@ interface Exports {
   arenaReset(): void;
   arenaAlloc(bytes: number): number;
   useSimd(on: number): void;
-  zgemvRef(a: number, d: number, x: number, y: number, r: number, ar: number, ai: number): void;
-  zgemvSimd(a: number, d: number, x: number, y: number, r: number, ar: number, ai: number): void;
+  zgemvRef(
+    a: number,
+    d: number,
+    x: number,
+    y: number,
+    r: number,
+    ar: number,
+    ai: number,
+  ): void;
+  zgemvSimd(
+    a: number,
+    d: number,
+    x: number,
+    y: number,
+    r: number,
+    ar: number,
+    ai: number,
+  ): void;
   peakLoop(iterations: number): number;
   eigh(a: number, n: number, w: number, z: number, work: number): number;
-  init(dim: number, order: number, nH0: number, nV: number, chunk: number): number;
+  init(
+    dim: number,
+    order: number,
+    nH0: number,
+    nV: number,
+    chunk: number,
+  ): number;
   prepare(scheme: number, strength: number): number;
   advance(nsteps: number, tau0: number, h: number): number;
   advanceExact(h: number): number;
@@ -83,7 +105,9 @@ const MESSAGES: Record<number, string> = {
 };
 
 function check(code: number): void {
-  if (code !== 0) throw new EngineError(MESSAGES[code] ?? `engine error ${code}`);
+  if (code !== 0) {
+    throw new EngineError(MESSAGES[code] ?? `engine error ${code}`);
+  }
 }
 
 /**
@@ -110,7 +134,9 @@ async function readWasm(): Promise<Uint8Array<ArrayBuffer>> {
   try {
     return await Deno.readFile(url);
   } catch {
-    throw new EngineError(`the engine is not built (${url.pathname} is missing): run \`deno task build\``);
+    throw new EngineError(
+      `the engine is not built (${url.pathname} is missing): run \`deno task build\``,
+    );
   }
 }
 
@@ -148,7 +174,11 @@ export interface Result {
  * @returns the recorded states
  * @throws {EngineError} if the engine runs out of memory or a factorisation fails
  */
-export function solve(engine: Engine, model: Model, onProgress?: (fraction: number) => void): Result {
+export function solve(
+  engine: Engine,
+  model: Model,
+  onProgress?: (fraction: number) => void,
+): Result {
   const started = performance.now();
   const e = engine.exports;
   const scheme = schemeFor(model);
@@ -164,13 +194,22 @@ export function solve(engine: Engine, model: Model, onProgress?: (fraction: numb
   writeTerms(e.bufH0Terms(), h0);
   writeTerms(e.bufVTerms(), v);
   new Float64Array(mem(), e.bufInitial(), 2 * d).set(model.initial);
-  const schemeCode = { "time-independent": 0, "interaction-picture": 1, "time-dependent-h0": 2 }[scheme];
+  const schemeCode = {
+    "time-independent": 0,
+    "interaction-picture": 1,
+    "time-dependent-h0": 2,
+  }[scheme];
   check(e.prepare(schemeCode, model.strength));
 
   const times = new Float64Array(samples);
   const interval = (model.tEnd - model.tStart) / (samples - 1);
-  for (let k = 0; k < samples; k++) times[k] = k === samples - 1 ? model.tEnd : model.tStart + k * interval;
-  const terms = Array.from({ length: r }, () => new Float64Array(samples * 2 * d));
+  for (let k = 0; k < samples; k++) {
+    times[k] = k === samples - 1 ? model.tEnd : model.tStart + k * interval;
+  }
+  const terms = Array.from(
+    { length: r },
+    () => new Float64Array(samples * 2 * d),
+  );
   const exact = new Float64Array(samples * 2 * d);
   const checkStates = new Float64Array(samples * 2 * d);
   const rec = new Float64Array(mem(), e.bufRecord(), (r + 2) * 2 * d);
@@ -210,12 +249,25 @@ export function solve(engine: Engine, model: Model, onProgress?: (fraction: numb
   const h = interval / per;
   const all = [...h0, ...v];
   const kt = all.length;
-  const fine = new Float64Array(mem(), e.bufCoefFine(), CHUNK_STEPS * 2 * kt * 2);
-  const coarse = new Float64Array(mem(), e.bufCoefCoarse(), CHUNK_STEPS * kt * 2);
+  const fine = new Float64Array(
+    mem(),
+    e.bufCoefFine(),
+    CHUNK_STEPS * 2 * kt * 2,
+  );
+  const coarse = new Float64Array(
+    mem(),
+    e.bufCoefCoarse(),
+    CHUNK_STEPS * kt * 2,
+  );
   const c1 = 0.5 - Math.sqrt(3) / 6, c2 = 0.5 + Math.sqrt(3) / 6;
-  const fineTimes = new Float64Array(2 * CHUNK_STEPS), coarseTimes = new Float64Array(CHUNK_STEPS);
+  const fineTimes = new Float64Array(2 * CHUNK_STEPS),
+    coarseTimes = new Float64Array(CHUNK_STEPS);
   const values = new Float64Array(4 * CHUNK_STEPS);
-  const fill = (buffer: Float64Array, nodeTimes: Float64Array, count: number) => {
+  const fill = (
+    buffer: Float64Array,
+    nodeTimes: Float64Array,
+    count: number,
+  ) => {
     all.forEach((term, k) => {
       const c = term.coefficient;
       if (c.kind === "constant") {
@@ -272,7 +324,9 @@ export function solve(engine: Engine, model: Model, onProgress?: (fraction: numb
 function sumTerms(terms: OperatorTerm[], d: number): OperatorTerm {
   const m = new Float64Array(2 * d * d);
   for (const t of terms) {
-    if (t.coefficient.kind !== "constant") throw new EngineError("cannot sum a time-dependent term");
+    if (t.coefficient.kind !== "constant") {
+      throw new EngineError("cannot sum a time-dependent term");
+    }
     const { re, im } = t.coefficient;
     for (let k = 0; k < m.length; k += 2) {
       m[k]! += re * t.matrix[k]! - im * t.matrix[k + 1]!;
@@ -290,10 +344,17 @@ function sumTerms(terms: OperatorTerm[], d: number): OperatorTerm {
  * @param d the dimension
  * @returns ascending eigenvalues and the eigenvectors as columns (row-major, interleaved)
  */
-export function eigh(engine: Engine, matrix: Float64Array, d: number): { values: Float64Array; vectors: Float64Array } {
+export function eigh(
+  engine: Engine,
+  matrix: Float64Array,
+  d: number,
+): { values: Float64Array; vectors: Float64Array } {
   const e = engine.exports;
   e.arenaReset();
-  const a = e.arenaAlloc(16 * d * d), w = e.arenaAlloc(8 * d), z = e.arenaAlloc(16 * d * d), work = e.arenaAlloc(64 * d);
+  const a = e.arenaAlloc(16 * d * d),
+    w = e.arenaAlloc(8 * d),
+    z = e.arenaAlloc(16 * d * d),
+    work = e.arenaAlloc(64 * d);
   if (!a || !w || !z || !work) check(1);
   new Float64Array(e.memory.buffer, a, 2 * d * d).set(matrix);
   check(e.eigh(a, d, w, z, work) === 0 ? 0 : 2);
@@ -304,7 +365,11 @@ export function eigh(engine: Engine, matrix: Float64Array, d: number): { values:
 }
 
 /** Populations |ψ_a|² of the state at sample k of a sample-major state array. */
-export function populationsAt(states: Float64Array, d: number, k: number): Float64Array {
+export function populationsAt(
+  states: Float64Array,
+  d: number,
+  k: number,
+): Float64Array {
   const out = new Float64Array(d);
   for (let a = 0; a < d; a++) {
     const re = states[2 * (k * d + a)]!, im = states[2 * (k * d + a) + 1]!;

@@ -53,12 +53,19 @@ export function isTimeDependent(c: Coefficient): boolean {
 }
 
 /** The scheme a model calls for. */
-export type Scheme = "time-independent" | "interaction-picture" | "time-dependent-h0";
+export type Scheme =
+  | "time-independent"
+  | "interaction-picture"
+  | "time-dependent-h0";
 
 /** Picks the scheme: no t anywhere, constant H0 with V(t), or H0(t). */
 export function schemeFor(model: Model): Scheme {
-  if (model.unperturbed.some((t) => isTimeDependent(t.coefficient))) return "time-dependent-h0";
-  if (model.perturbation.some((t) => isTimeDependent(t.coefficient))) return "interaction-picture";
+  if (model.unperturbed.some((t) => isTimeDependent(t.coefficient))) {
+    return "time-dependent-h0";
+  }
+  if (model.perturbation.some((t) => isTimeDependent(t.coefficient))) {
+    return "interaction-picture";
+  }
   return "time-independent";
 }
 
@@ -75,14 +82,28 @@ export const MEMORY_LIMIT_BYTES = 3 * 1024 ** 3;
 export const CHUNK_STEPS = 256;
 
 /** Estimated engine memory for a model, in bytes, with its largest part named. */
-export function estimateMemory(model: Model): { bytes: number; largest: string } {
+export function estimateMemory(
+  model: Model,
+): { bytes: number; largest: string } {
   const d = model.dim, n1 = model.order + 1;
   const terms = model.unperturbed.length + model.perturbation.length;
   const parts: [string, number][] = [
-    [`recorded states: ${model.samples} samples × ${n1 + 2} vectors × d = ${d} × 16 B`, model.samples * (n1 + 2) * d * 16],
-    [`operators: ${terms + 8} matrices of d² = ${d * d} × 16 B`, (terms + 8) * d * d * 16],
-    [`block generator work space: ${6 * (n1 + 1)} vectors`, 6 * (n1 + 1) * d * 16 * 4],
-    [`coefficient chunk: ${CHUNK_STEPS} steps × 4 nodes × ${terms} terms`, CHUNK_STEPS * 4 * terms * 16],
+    [
+      `recorded states: ${model.samples} samples × ${n1 + 2} vectors × d = ${d} × 16 B`,
+      model.samples * (n1 + 2) * d * 16,
+    ],
+    [
+      `operators: ${terms + 8} matrices of d² = ${d * d} × 16 B`,
+      (terms + 8) * d * d * 16,
+    ],
+    [
+      `block generator work space: ${6 * (n1 + 1)} vectors`,
+      6 * (n1 + 1) * d * 16 * 4,
+    ],
+    [
+      `coefficient chunk: ${CHUNK_STEPS} steps × 4 nodes × ${terms} terms`,
+      CHUNK_STEPS * 4 * terms * 16,
+    ],
   ];
   const bytes = parts.reduce((s, p) => s + p[1], 0) + 2 * 65536;
   const largest = parts.reduce((a, b) => (b[1] > a[1] ? b : a))[0];

@@ -8,7 +8,10 @@
 import { AssertionError, deepStrictEqual, ok, strictEqual } from "node:assert/strict";
 
 /** Fails unless the condition holds. */
-export function assert(condition: unknown, message = "assertion failed"): asserts condition {
+export function assert(
+  condition: unknown,
+  message = "assertion failed",
+): asserts condition {
   ok(condition, message);
 }
 
@@ -18,7 +21,11 @@ export function assertEqual<T>(actual: T, expected: T, message?: string): void {
 }
 
 /** Fails unless the values are deeply equal. */
-export function assertDeepEqual<T>(actual: T, expected: T, message?: string): void {
+export function assertDeepEqual<T>(
+  actual: T,
+  expected: T,
+  message?: string,
+): void {
   deepStrictEqual(actual, expected, message);
 }
 
@@ -31,12 +38,23 @@ export function assertThrows<E extends Error>(
   try {
     fn();
   } catch (e) {
-    if (!(e instanceof errorClass)) throw new AssertionError({ message: `expected ${errorClass.name}, got ${e}` });
+    if (!(e instanceof errorClass)) {
+      throw new AssertionError({
+        message: `expected ${errorClass.name}, got ${e}`,
+      });
+    }
     const text = (e as Error).message;
-    if (pattern && !(typeof pattern === "string" ? text.includes(pattern) : pattern.test(text))) {
-      throw new AssertionError({ message: `error message "${text}" does not match ${pattern}` });
+    if (
+      pattern &&
+      !(typeof pattern === "string" ? text.includes(pattern) : pattern.test(text))
+    ) {
+      throw new AssertionError({
+        message: `error message "${text}" does not match ${pattern}`,
+      });
     }
     return e as E;
   }
-  throw new AssertionError({ message: `expected ${errorClass.name} to be thrown` });
+  throw new AssertionError({
+    message: `expected ${errorClass.name} to be thrown`,
+  });
 }

@@ -27,7 +27,11 @@ order = 6
 `;
 
 /** Runs inspect on BASE with one replacement and checks code 2 and message parts. */
-async function expectError(replace: [string | RegExp, string][], parts: (string | RegExp)[], command = "inspect") {
+async function expectError(
+  replace: [string | RegExp, string][],
+  parts: (string | RegExp)[],
+  command = "inspect",
+) {
   let text = BASE;
   for (const [from, to] of replace) {
     const next = text.replace(from, to);
@@ -41,7 +45,10 @@ async function expectError(replace: [string | RegExp, string][], parts: (string 
   assert(stderr.includes(file), `names the file: ${stderr}`);
   assert(!/\n\s+at /.test(stderr), `no stack trace: ${stderr}`);
   for (const part of parts) {
-    assert(typeof part === "string" ? stderr.includes(part) : part.test(stderr), `message contains ${part}: ${stderr}`);
+    assert(
+      typeof part === "string" ? stderr.includes(part) : part.test(stderr),
+      `message contains ${part}: ${stderr}`,
+    );
   }
 }
 
@@ -51,15 +58,26 @@ Deno.test("the base case is valid", async () => {
 });
 
 Deno.test("inspect rejects an unknown start label, listing the labels", async () => {
-  await expectError([['state = "g"', 'state = "x"']], ["start.state", 'unknown label "x"', "labels are: g, e", ":14:"]);
+  await expectError([['state = "g"', 'state = "x"']], [
+    "start.state",
+    'unknown label "x"',
+    "labels are: g, e",
+    ":14:",
+  ]);
 });
 
 Deno.test("inspect rejects an unknown target label", async () => {
-  await expectError([["order = 6", 'order = 6\ntargets = ["e", "q"]']], ["series.targets[1]", 'unknown target label "q"']);
+  await expectError([["order = 6", 'order = 6\ntargets = ["e", "q"]']], [
+    "series.targets[1]",
+    'unknown target label "q"',
+  ]);
 });
 
 Deno.test("inspect rejects a matrix with the wrong number of rows", async () => {
-  await expectError([['matrix = [[0, 0], [0, "delta"]]', "matrix = [[0, 0, 0], [0, 1, 0], [0, 0, 1]]"]], [
+  await expectError([[
+    'matrix = [[0, 0], [0, "delta"]]',
+    "matrix = [[0, 0, 0], [0, 1, 0], [0, 0, 1]]",
+  ]], [
     "unperturbed.matrix",
     "has 3 rows, but the space has dimension 2",
     ":8:",
@@ -67,18 +85,26 @@ Deno.test("inspect rejects a matrix with the wrong number of rows", async () => 
 });
 
 Deno.test("inspect rejects a non-square matrix", async () => {
-  await expectError([['matrix = [[0, "g"], ["g", 0]]', 'matrix = [[0, "g", 0], ["g", 0]]']], [
+  await expectError([[
+    'matrix = [[0, "g"], ["g", 0]]',
+    'matrix = [[0, "g", 0], ["g", 0]]',
+  ]], [
     "perturbation.terms[0].matrix[0]",
     "must be square",
   ]);
 });
 
 Deno.test("inspect rejects mismatched dimensions between levels and matrices", async () => {
-  await expectError([['names = ["g", "e"]', 'names = ["g", "e", "f"]']], ["has 2 rows, but the space has dimension 3"]);
+  await expectError([['names = ["g", "e"]', 'names = ["g", "e", "f"]']], [
+    "has 2 rows, but the space has dimension 3",
+  ]);
 });
 
 Deno.test("inspect rejects a non-Hermitian perturbation, naming the largest |A−A†| and where", async () => {
-  await expectError([['matrix = [[0, "g"], ["g", 0]]', 'matrix = [[0, "g"], [0.3, 0]]']], [
+  await expectError([[
+    'matrix = [[0, "g"], ["g", 0]]',
+    'matrix = [[0, "g"], [0.3, 0]]',
+  ]], [
     "not Hermitian",
     "largest |A−A†| is 0.250 at (g, e)",
     "hc = true",
@@ -86,51 +112,89 @@ Deno.test("inspect rejects a non-Hermitian perturbation, naming the largest |A�
 });
 
 Deno.test("inspect rejects a complex coefficient without its conjugate partner, at a time", async () => {
-  await expectError([['coef = "1"', 'coef = "exp(-i*t)"']], ["not Hermitian", "at t = "]);
+  await expectError([['coef = "1"', 'coef = "exp(-i*t)"']], [
+    "not Hermitian",
+    "at t = ",
+  ]);
 });
 
 Deno.test("inspect rejects a NaN parameter, naming it", async () => {
-  await expectError([["g = 0.05", 'g = "sqrt(-1) * 0 + log(0)"']], ["params.g", "param g evaluates to NaN"]);
+  await expectError([["g = 0.05", 'g = "sqrt(-1) * 0 + log(0)"']], [
+    "params.g",
+    "param g evaluates to NaN",
+  ]);
 });
 
 Deno.test("inspect rejects a coefficient that is not finite at some t, naming the time", async () => {
-  await expectError([['coef = "1"', 'coef = "1/(t - 15)"']], ["perturbation.terms[0].coef", "at t = 15"]);
+  await expectError([['coef = "1"', 'coef = "1/(t - 15)"']], [
+    "perturbation.terms[0].coef",
+    "at t = 15",
+  ]);
 });
 
 Deno.test("inspect rejects t_end not after t_start", async () => {
-  await expectError([["t_end = 30", "t_end = 0"]], ["grid.t_end", "t_end = 0 is not after t_start = 0", ":17:"]);
+  await expectError([["t_end = 30", "t_end = 0"]], [
+    "grid.t_end",
+    "t_end = 0 is not after t_start = 0",
+    ":17:",
+  ]);
 });
 
 Deno.test("inspect rejects steps below 1", async () => {
-  await expectError([["steps = 400", "steps = 0"]], ["grid.steps", "at least 1 integrator step"]);
+  await expectError([["steps = 400", "steps = 0"]], [
+    "grid.steps",
+    "at least 1 integrator step",
+  ]);
 });
 
 Deno.test("inspect rejects a negative order", async () => {
-  await expectError([["order = 6", "order = -1"]], ["series.order", "outside 0…40"]);
+  await expectError([["order = 6", "order = -1"]], [
+    "series.order",
+    "outside 0…40",
+  ]);
 });
 
 Deno.test("inspect rejects an expression that does not parse", async () => {
-  await expectError([['coef = "1"', 'coef = "2*(t"']], ["perturbation.terms[0].coef", "cannot parse the expression"]);
+  await expectError([['coef = "1"', 'coef = "2*(t"']], [
+    "perturbation.terms[0].coef",
+    "cannot parse the expression",
+  ]);
 });
 
 Deno.test("inspect rejects an unknown name in an expression, listing the known names", async () => {
-  await expectError([['coef = "1"', 'coef = "omega*t"']], ['unknown name "omega"', "use one of: delta, g, t, pi"]);
+  await expectError([['coef = "1"', 'coef = "omega*t"']], [
+    'unknown name "omega"',
+    "use one of: delta, g, t, pi",
+  ]);
 });
 
 Deno.test("inspect refuses a case whose memory estimate exceeds the limit, before allocating", async () => {
-  await expectError([["samples = 101", "samples = 100000001"]], ["GiB", "32-bit WebAssembly", "record fewer samples"]);
+  await expectError([["samples = 101", "samples = 100000001"]], [
+    "GiB",
+    "32-bit WebAssembly",
+    "record fewer samples",
+  ]);
 });
 
 Deno.test("inspect rejects invalid TOML with its line", async () => {
-  await expectError([["steps = 400", "steps = = 400"]], ["not valid TOML", ":18:"]);
+  await expectError([["steps = 400", "steps = = 400"]], [
+    "not valid TOML",
+    ":18:",
+  ]);
 });
 
 Deno.test("inspect rejects an unknown key, listing the known ones", async () => {
-  await expectError([["t_end = 30", "t_end = 30\ntend = 5"]], ['unknown key "tend"', "known keys here: t_start, t_end, steps, samples"]);
+  await expectError([["t_end = 30", "t_end = 30\ntend = 5"]], [
+    'unknown key "tend"',
+    "known keys here: t_start, t_end, steps, samples",
+  ]);
 });
 
 Deno.test("inspect rejects a value of the wrong type", async () => {
-  await expectError([["steps = 400", 'steps = "many"']], ["grid.steps", "expected number, got string"]);
+  await expectError([["steps = 400", 'steps = "many"']], [
+    "grid.steps",
+    "expected number, got string",
+  ]);
 });
 
 Deno.test("run reports a missing file with exit code 2", async () => {
@@ -142,13 +206,22 @@ Deno.test("run reports a missing file with exit code 2", async () => {
 Deno.test("unknown commands and flags exit with code 2", async () => {
   assertEqual((await runOrdo(["frobnicate"])).code, 2);
   assertEqual((await runOrdo(["run", "--bogus", "x.toml"])).code, 2);
-  assertEqual((await runOrdo(["run", tempCase(BASE), "--order", "two"])).code, 2);
+  assertEqual(
+    (await runOrdo(["run", tempCase(BASE), "--order", "two"])).code,
+    2,
+  );
 });
 
 Deno.test("ordo as a subprocess prints no stack trace for bad input", async () => {
   const file = tempCase(BASE.replace("steps = 400", "steps = 0"));
   const out = await new Deno.Command(Deno.execPath(), {
-    args: ["run", "-A", new URL("../cli/main.ts", import.meta.url).pathname, "run", file],
+    args: [
+      "run",
+      "-A",
+      new URL("../cli/main.ts", import.meta.url).pathname,
+      "run",
+      file,
+    ],
     stdout: "piped",
     stderr: "piped",
   }).output();

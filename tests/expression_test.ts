@@ -9,7 +9,11 @@ import { CaseError } from "../cli/case_error.ts";
 import { chirp, flattop, gauss, sinsq } from "../cli/pulses.ts";
 
 const reference = create(all!);
-const params = new Map<string, number | { re: number; im: number }>([["g", 0.3], ["w", 2.5], ["z", { re: 0.5, im: -1.5 }]]);
+const params = new Map<string, number | { re: number; im: number }>([
+  ["g", 0.3],
+  ["w", 2.5],
+  ["z", { re: 0.5, im: -1.5 }],
+]);
 const scope: Scope = { params, allowTime: true };
 
 const EXPRESSIONS = [
@@ -40,8 +44,18 @@ Deno.test("compileExpression() agrees with mathjs evaluate on real and complex e
       });
       const m = typeof mine === "number" ? { re: mine, im: 0 } : mine;
       const c = reference.complex(theirs);
-      assertClose(m.re, c.re, { abs: 1e-13, rel: 1e-13 }, `${source} at t=${t} (re)`);
-      assertClose(m.im, c.im, { abs: 1e-13, rel: 1e-13 }, `${source} at t=${t} (im)`);
+      assertClose(
+        m.re,
+        c.re,
+        { abs: 1e-13, rel: 1e-13 },
+        `${source} at t=${t} (re)`,
+      );
+      assertClose(
+        m.im,
+        c.im,
+        { abs: 1e-13, rel: 1e-13 },
+        `${source} at t=${t} (im)`,
+      );
     }
   }
 });
@@ -61,12 +75,27 @@ Deno.test("sample() fills interleaved values that match at()", () => {
 Deno.test("pulse shapes follow their formulas", () => {
   // Gaussian with standard deviation w: exp(−(t−c)²/(2w²)).
   assertClose(gauss(3, 1, 2), Math.exp(-0.5), { rel: 1e-15 });
-  assertClose(sinsq(5, 0, 10), 1, { abs: 1e-15 }, "sin² window peaks in the middle");
+  assertClose(
+    sinsq(5, 0, 10),
+    1,
+    { abs: 1e-15 },
+    "sin² window peaks in the middle",
+  );
   assertClose(sinsq(0, 0, 10), 0, { abs: 1e-15 });
   assertClose(sinsq(2.5, 0, 10), 0.5, { abs: 1e-15 });
-  assertClose(flattop(0.5, 0, 10, 1), 0.5, { abs: 1e-15 }, "half-way up the ramp");
+  assertClose(
+    flattop(0.5, 0, 10, 1),
+    0.5,
+    { abs: 1e-15 },
+    "half-way up the ramp",
+  );
   assertClose(flattop(5, 0, 10, 1), 1, { abs: 0 });
-  assertClose(flattop(9.5, 0, 10, 1), 0.5, { abs: 1e-15 }, "half-way down the ramp");
+  assertClose(
+    flattop(9.5, 0, 10, 1),
+    0.5,
+    { abs: 1e-15 },
+    "half-way down the ramp",
+  );
   assertClose(flattop(11, 0, 10, 1), 0, { abs: 0 });
   assertClose(chirp(2, 1, 0.5), Math.cos(2 + 0.25 * 4), { abs: 1e-15 });
   const f = compileExpression("step(t, 1) + box(t, 2, 3)", scope, ["coef"]);
@@ -76,17 +105,27 @@ Deno.test("pulse shapes follow their formulas", () => {
 Deno.test("compileExpression() refuses what the restricted language does not allow", () => {
   const bad: [string, string][] = [
     ["import({x: 1})", "unknown function"],
-    ["evaluate(\"1+1\")", "unknown function"],
+    ['evaluate("1+1")', "unknown function"],
     ["f(x) = x", "syntax is not supported"],
     ["z.re", "syntax is not supported"],
     ["[1, 2]", "syntax is not supported"],
-    ["createUnit(\"foo\")", "unknown function"],
-    ["\"text\"", "is not a number"],
+    ['createUnit("foo")', "unknown function"],
+    ['"text"', "is not a number"],
     ["5 cm", "unknown name"],
     ["gauss(t, 1)", "takes 3 arguments"],
     ["gauss(t, z, 1)", "needs real arguments"],
-    ["omega * t", "unknown name \"omega\""],
+    ["omega * t", 'unknown name "omega"'],
   ];
-  for (const [source, message] of bad) assertThrows(() => compileExpression(source, scope, ["coef"]), CaseError, message);
-  assertThrows(() => compileExpression("2*t", { params, allowTime: false }, ["params", "x"]), CaseError, "t cannot appear here");
+  for (const [source, message] of bad) {
+    assertThrows(
+      () => compileExpression(source, scope, ["coef"]),
+      CaseError,
+      message,
+    );
+  }
+  assertThrows(
+    () => compileExpression("2*t", { params, allowTime: false }, ["params", "x"]),
+    CaseError,
+    "t cannot appear here",
+  );
 });

@@ -20,9 +20,9 @@ export function assertClose(
   const diff = Math.abs(actual - expected);
   if (!(diff <= allowed)) {
     throw new AssertionError({
-      message: `${what ? what + ": " : ""}got ${actual}, expected ${expected} (difference ${diff.toExponential(3)} > allowed ${
-        allowed.toExponential(3)
-      })`,
+      message: `${what ? what + ": " : ""}got ${actual}, expected ${expected} (difference ${
+        diff.toExponential(3)
+      } > allowed ${allowed.toExponential(3)})`,
     });
   }
 }
@@ -35,7 +35,9 @@ export function testEngine(): Promise<Engine> {
 }
 
 /** Runs `ordo ARGS` in-process, capturing what it prints. */
-export async function runOrdo(args: string[]): Promise<{ code: number; stdout: string; stderr: string }> {
+export async function runOrdo(
+  args: string[],
+): Promise<{ code: number; stdout: string; stderr: string }> {
   const out: string[] = [], err: string[] = [];
   const log = console.log, error = console.error;
   console.log = (...a: unknown[]) => out.push(a.join(" "));
@@ -69,7 +71,11 @@ export function seeded(seed: number): () => number {
 }
 
 /** A random Hermitian d×d matrix (interleaved, row-major) with entries of size about `scale`. */
-export function randomHermitian(d: number, random: () => number, scale = 1): Float64Array {
+export function randomHermitian(
+  d: number,
+  random: () => number,
+  scale = 1,
+): Float64Array {
   const m = new Float64Array(2 * d * d);
   for (let i = 0; i < d; i++) {
     m[2 * (i * d + i)] = scale * (2 * random() - 1);

@@ -15,12 +15,20 @@ const real = (min: number, max: number) => fc.double({ min, max, noNaN: true }).
 const caseArbitrary = fc.integer({ min: 2, max: 4 }).chain((d) =>
   fc.record({
     title: fc.string({ maxLength: 20 }),
-    params: fc.dictionary(fc.constantFrom("alpha", "beta", "kappa", "mu"), real(-5, 5), {
-      maxKeys: 3,
+    params: fc.dictionary(
+      fc.constantFrom("alpha", "beta", "kappa", "mu"),
+      real(-5, 5),
+      {
+        maxKeys: 3,
+      },
+    ),
+    levels: fc.constant({
+      names: Array.from({ length: d }, (_, k) => `L${k}`),
     }),
-    levels: fc.constant({ names: Array.from({ length: d }, (_, k) => `L${k}`) }),
     unperturbed: fc.array(real(-10, 10), { minLength: d, maxLength: d })
-      .map((diag) => ({ matrix: diag.map((e, i) => diag.map((_, j) => (i === j ? e : 0))) })),
+      .map((diag) => ({
+        matrix: diag.map((e, i) => diag.map((_, j) => (i === j ? e : 0))),
+      })),
     perturbation: fc.array(fc.tuple(real(-1, 1), real(-1, 1)), {
       minLength: d * d,
       maxLength: d * d,
@@ -29,7 +37,9 @@ const caseArbitrary = fc.integer({ min: 2, max: 4 }).chain((d) =>
         matrix: Array.from({ length: d }, (_, i) =>
           Array.from({ length: d }, (_, j) => {
             const [re, im] = entries[Math.min(i, j) * d + Math.max(i, j)]!;
-            if (i === j) return re;
+            if (i === j) {
+              return re;
+            }
             return [re, i < j ? im : 0 - im];
           })),
         coef: "cos(t)",
@@ -48,7 +58,9 @@ const caseArbitrary = fc.integer({ min: 2, max: 4 }).chain((d) =>
 
 Deno.test("parseCase() reads every example in cases/", () => {
   for (const entry of Deno.readDirSync(new URL("../cases/", import.meta.url))) {
-    const c = readCase(new URL(`../cases/${entry.name}`, import.meta.url).pathname);
+    const c = readCase(
+      new URL(`../cases/${entry.name}`, import.meta.url).pathname,
+    );
     const built = buildCase(c);
     assert(built.model.dim >= 2, entry.name);
   }
@@ -61,7 +73,11 @@ Deno.test("random valid cases round-trip through TOML and JSON to the same model
       const json = parseCase(JSON.stringify(spec), "random.json");
       assertDeepEqual(toml.spec, json.spec);
       const plain = (x: unknown) => JSON.parse(JSON.stringify(x));
-      assertDeepEqual(plain(toml.spec), plain(spec), "the parsed case equals the written one");
+      assertDeepEqual(
+        plain(toml.spec),
+        plain(spec),
+        "the parsed case equals the written one",
+      );
       const a = buildCase(toml).model, b = buildCase(json).model;
       assertEqual(a.dim, spec.levels.names.length);
       assertDeepEqual(a.perturbation[0]!.matrix, b.perturbation[0]!.matrix);
@@ -70,8 +86,12 @@ Deno.test("random valid cases round-trip through TOML and JSON to the same model
       spec.perturbation.terms[0]!.matrix.forEach((row, i) =>
         row.forEach((entry, j) => {
           const [re, im] = typeof entry === "number" ? [entry, 0] : entry as [number, number];
-          assertClose(a.perturbation[0]!.matrix[2 * (i * d + j)]!, re, { abs: 0 });
-          assertClose(a.perturbation[0]!.matrix[2 * (i * d + j) + 1]!, im, { abs: 0 });
+          assertClose(a.perturbation[0]!.matrix[2 * (i * d + j)]!, re, {
+            abs: 0,
+          });
+          assertClose(a.perturbation[0]!.matrix[2 * (i * d + j) + 1]!, im, {
+            abs: 0,
+          });
         })
       );
     }),
@@ -86,8 +106,15 @@ function loadOrCaseError(text: string, file: string): void {
     buildCase(parseCase(text, file));
   } catch (e) {
     caseErrors++;
-    if (!(e instanceof CaseError)) throw new Error(`not a CaseError: ${(e as Error)?.stack ?? e}\n--- case ---\n${text}`);
-    assert(e.message.length > 0 && e.report().startsWith(file), `message names the file: ${e.report()}`);
+    if (!(e instanceof CaseError)) {
+      throw new Error(
+        `not a CaseError: ${(e as Error)?.stack ?? e}\n--- case ---\n${text}`,
+      );
+    }
+    assert(
+      e.message.length > 0 && e.report().startsWith(file),
+      `message names the file: ${e.report()}`,
+    );
   }
 }
 
@@ -97,54 +124,90 @@ const junk = fc.oneof(
   fc.double(),
   fc.integer(),
   fc.boolean(),
-  fc.array(fc.oneof(fc.integer(), fc.string({ maxLength: 3 })), { maxLength: 3 }),
+  fc.array(fc.oneof(fc.integer(), fc.string({ maxLength: 3 })), {
+    maxLength: 3,
+  }),
   fc.constant({}),
-  fc.constantFrom("sqrt(-1)", "1/0", "t", "nan", "|g><e|", "log(0)", "g(", "[[1]]"),
+  fc.constantFrom(
+    "sqrt(-1)",
+    "1/0",
+    "t",
+    "nan",
+    "|g><e|",
+    "log(0)",
+    "g(",
+    "[[1]]",
+  ),
 );
 
 Deno.test("random corruptions of valid cases give a CaseError, never a crash", () => {
   caseErrors = 0;
   fc.assert(
-    fc.property(caseArbitrary, fc.array(fc.nat()), junk, fc.boolean(), (spec, picks, value, remove) => {
-      // Walk a random key path into the case and replace (or delete) what is there.
-      // deno-lint-ignore no-explicit-any
-      const copy: any = structuredClone(spec);
-      // deno-lint-ignore no-explicit-any
-      let node: any = copy;
-      let i = 0;
-      while (true) {
-        const keys = Object.keys(node);
-        if (keys.length === 0) break;
-        const key = keys[(picks[i++ % Math.max(picks.length, 1)] ?? 0) % keys.length]!;
-        const child = node[key];
-        if (child === null || typeof child !== "object" || i > 4 || (picks[i] ?? 0) % 3 === 0) {
-          if (remove) delete node[key];
-          else node[key] = value;
-          break;
+    fc.property(
+      caseArbitrary,
+      fc.array(fc.nat()),
+      junk,
+      fc.boolean(),
+      (spec, picks, value, remove) => {
+        // Walk a random key path into the case and replace (or delete) what is there.
+        // deno-lint-ignore no-explicit-any
+        const copy: any = structuredClone(spec);
+        // deno-lint-ignore no-explicit-any
+        let node: any = copy;
+        let i = 0;
+        while (true) {
+          const keys = Object.keys(node);
+          if (keys.length === 0) break;
+          const key = keys[(picks[i++ % Math.max(picks.length, 1)] ?? 0) % keys.length]!;
+          const child = node[key];
+          if (
+            child === null || typeof child !== "object" || i > 4 ||
+            (picks[i] ?? 0) % 3 === 0
+          ) {
+            if (remove) delete node[key];
+            else node[key] = value;
+            break;
+          }
+          node = child;
         }
-        node = child;
-      }
-      const text = JSON.stringify(copy);
-      loadOrCaseError(text, "corrupt.json");
-      let toml: string | undefined;
-      try {
-        toml = stringify(copy);
-      } catch { /* not expressible in TOML (null): JSON covered it */ }
-      if (toml !== undefined) loadOrCaseError(toml, "corrupt.toml");
-    }),
+        const text = JSON.stringify(copy);
+        loadOrCaseError(text, "corrupt.json");
+        let toml: string | undefined;
+        try {
+          toml = stringify(copy);
+        } catch { /* not expressible in TOML (null): JSON covered it */ }
+        if (toml !== undefined) loadOrCaseError(toml, "corrupt.toml");
+      },
+    ),
     { numRuns: 300 },
   );
-  assert(caseErrors > 100, `the corruptions were mostly rejected (${caseErrors} case errors)`);
+  assert(
+    caseErrors > 100,
+    `the corruptions were mostly rejected (${caseErrors} case errors)`,
+  );
 });
 
 Deno.test("random edits of case text give a CaseError, never a crash", () => {
   caseErrors = 0;
-  const base = Deno.readTextFileSync(new URL("../cases/leaky_transmon.toml", import.meta.url));
+  const base = Deno.readTextFileSync(
+    new URL("../cases/leaky_transmon.toml", import.meta.url),
+  );
   fc.assert(
-    fc.property(fc.nat({ max: base.length - 1 }), fc.nat({ max: 12 }), fc.string({ maxLength: 6 }), (at, cut, insert) => {
-      loadOrCaseError(base.slice(0, at) + insert + base.slice(at + cut), "edited.toml");
-    }),
+    fc.property(
+      fc.nat({ max: base.length - 1 }),
+      fc.nat({ max: 12 }),
+      fc.string({ maxLength: 6 }),
+      (at, cut, insert) => {
+        loadOrCaseError(
+          base.slice(0, at) + insert + base.slice(at + cut),
+          "edited.toml",
+        );
+      },
+    ),
     { numRuns: 300 },
   );
-  assert(caseErrors > 30, `some edits were rejected (${caseErrors} case errors)`);
+  assert(
+    caseErrors > 30,
+    `some edits were rejected (${caseErrors} case errors)`,
+  );
 });

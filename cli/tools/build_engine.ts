@@ -53,7 +53,9 @@ if (Deno.args.includes("--force") || outputTime() <= newestSource()) {
     stderr: "inherit",
   }).output();
   if (code !== 0) {
-    console.error("ordo: the engine did not compile (see the compiler output above)");
+    console.error(
+      "ordo: the engine did not compile (see the compiler output above)",
+    );
     Deno.exit(3);
   }
   console.error(`ordo: built ${output.pathname}`);

@@ -1,0 +1,87 @@
+/**
+ * Helpers for engine tests: build a model from case text and solve it, and
+ * read amplitudes and populations out of a result.
+ *
+ * @module
+ */
+
+import { buildCase, type BuildOptions, type BuiltCase } from "../cli/build_model.ts";
+import { parseCase } from "../cli/parse_case.ts";
+import { type Result, solve } from "../engine/mod.ts";
+import { testEngine } from "./helpers.ts";
+
+/** Builds and solves case text. */
+export async function solveText(
+  text: string,
+  options: BuildOptions = {},
+): Promise<{ built: BuiltCase; result: Result }> {
+  const built = buildCase(parseCase(text, "test.toml"), options);
+  const result = solve(await testEngine(), built.model);
+  return { built, result };
+}
+
+/** Amplitude of basis state a at sample k. */
+export function amplitude(
+  states: Float64Array,
+  d: number,
+  k: number,
+  a: number,
+): { re: number; im: number } {
+  return { re: states[2 * (k * d + a)]!, im: states[2 * (k * d + a) + 1]! };
+}
+
+/** |amplitude|². */
+export function population(
+  states: Float64Array,
+  d: number,
+  k: number,
+  a: number,
+): number {
+  const z = amplitude(states, d, k, a);
+  return z.re * z.re + z.im * z.im;
+}
+
+/** The partial sum ψ0 + … + ψn as a state array. */
+export function partialSum(result: Result, n: number): Float64Array {
+  const out = new Float64Array(result.exact.length);
+  for (let m = 0; m <= n; m++) {
+    result.terms[m]!.forEach((x, k) => (out[k]! += x));
+  }
+  return out;
+}
+
+/** Largest |a_k − b_k| over two state arrays. */
+export function maxDifference(a: Float64Array, b: Float64Array): number {
+  let m = 0;
+  for (let k = 0; k < a.length; k++) m = Math.max(m, Math.abs(a[k]! - b[k]!));
+  return m;
+}
+
+/** A two-level case: H0 = delta·|e><e|, V = g·coef·(|e><g| + h.c.). */
+export function twoLevel(
+  delta: number,
+  g: number,
+  tEnd: number,
+  opts: { coef?: string; steps?: number; samples?: number; order?: number } = {},
+) {
+  return `
+[params]
+delta = ${delta}
+g = ${g}
+[levels]
+names = ["g", "e"]
+[unperturbed]
+op = "delta*|e><e|"
+[perturbation]
+op = "g*|e><g| + h.c."
+${opts.coef ? `coef = "${opts.coef}"` : ""}
+[start]
+state = "g"
+[grid]
+t_end = ${tEnd}
+steps = ${opts.steps ?? 1}
+samples = ${opts.samples ?? 11}
+[series]
+order = ${opts.order ?? 4}
+`;
+}

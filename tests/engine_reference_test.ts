@@ -1,0 +1,315 @@
+// The engine against mathjs, a general-purpose reference library: matrix
+// exponentials (expm), the Van Loan block exponential, eigenvalues; and the
+// SIMD micro-kernel against the scalar reference kernel and plain JS.
+import { all, type Complex as MathComplex, create, type Matrix } from "mathjs";
+import { assert } from "./assert.ts";
+import { assertClose, randomHermitian, seeded, testEngine } from "./helpers.ts";
+import { eigh, solve } from "../engine/mod.ts";
+
+const math = create(all!);
+const one = { kind: "constant", re: 1, im: 0 } as const;
+
+function toMath(m: Float64Array, d: number): Matrix {
+  return math.matrix(
+    Array.from(
+      { length: d },
+      (_, i) =>
+        Array.from(
+          { length: d },
+          (_, j) => math.complex(m[2 * (i * d + j)]!, m[2 * (i * d + j) + 1]!),
+        ),
+    ),
+  );
+}
+
+function entry(m: Matrix, i: number, j: number): MathComplex {
+  return math.complex(m.get([i, j]) as MathComplex);
+}
+
+Deno.test("time-independent d=5: Σψn matches mathjs expm(−iHt)ψ0 and each ψn the Van Loan block exponential, to 1e-10", async () => {
+  const engine = await testEngine();
+  const random = seeded(7);
+  const d = 5, order = 5, t = 1.7;
+  const h0 = randomHermitian(d, random, 1.0); // non-diagonal
+  const v = randomHermitian(d, random, 0.1);
+  const psi0 = new Float64Array(2 * d);
+  psi0[0] = 0.6;
+  psi0[3] = 0.8; // 0.6|0⟩ + 0.8i|1⟩
+  const result = solve(engine, {
+    dim: d,
+    unperturbed: [{ matrix: h0, coefficient: one }],
+    perturbation: [{ matrix: v, coefficient: one }],
+    strength: 1,
+    initial: psi0,
+    tStart: 0,
+    tEnd: t,
+    steps: 1,
+    samples: 2,
+    order,
+  });
+  assert(result.scheme === "time-independent");
+  // Exact: expm(−iHt)ψ0 with H = H0 + V.
+  const H = math.add(toMath(h0, d), toMath(v, d)) as Matrix;
+  const U = math.expm(math.multiply(math.complex(0, -t), H) as Matrix);
+  const psiVec = math.matrix(
+    Array.from(
+      { length: d },
+      (_, a) => [math.complex(psi0[2 * a]!, psi0[2 * a + 1]!)],
+    ),
+  );
+  const exact = math.multiply(U, psiVec) as Matrix;
+  // Van Loan: A = I⊗H0 + S⊗V (lower block bidiagonal); exp(−iAt)(ψ0, 0, …, 0) has ψn in block n.
+  const n1 = order + 1, D = d * n1;
+  const A = math.zeros(D, D) as Matrix;
+  for (let b = 0; b < n1; b++) {
+    for (let i = 0; i < d; i++) {
+      for (let j = 0; j < d; j++) {
+        A.set(
+          [b * d + i, b * d + j],
+          math.complex(h0[2 * (i * d + j)]!, h0[2 * (i * d + j) + 1]!),
+        );
+        if (b > 0) {
+          A.set(
+            [b * d + i, (b - 1) * d + j],
+            math.complex(v[2 * (i * d + j)]!, v[2 * (i * d + j) + 1]!),
+          );
+        }
+      }
+    }
+  }
+  const block = math.expm(math.multiply(math.complex(0, -t), A) as Matrix);
+  const sum = new Float64Array(2 * d);
+  for (let n = 0; n <= order; n++) {
+    for (let a = 0; a < d; a++) {
+      // column 0..d−1 of the block exponential applied to ψ0: Σ_j E[n·d+a, j]·ψ0_j
+      let re = 0, im = 0;
+      for (let j = 0; j < d; j++) {
+        const e = entry(block, n * d + a, j);
+        re += e.re * psi0[2 * j]! - e.im * psi0[2 * j + 1]!;
+        im += e.re * psi0[2 * j + 1]! + e.im * psi0[2 * j]!;
+      }
+      assertClose(
+        result.terms[n]![2 * (d + a)]!,
+        re,
+        { abs: 1e-10 },
+        `ψ${n}[${a}] re`,
+      );
+      assertClose(
+        result.terms[n]![2 * (d + a) + 1]!,
+        im,
+        { abs: 1e-10 },
+        `ψ${n}[${a}] im`,
+      );
+      sum[2 * a]! += result.terms[n]![2 * (d + a)]!;
+      sum[2 * a + 1]! += result.terms[n]![2 * (d + a) + 1]!;
+    }
+  }
+  for (let a = 0; a < d; a++) {
+    const e = math.complex(exact.get([a, 0]) as MathComplex);
+    // ‖V‖t ≈ 0.5 here, so the tail beyond order 5 is about 0.5⁶/6! ≈ 2e-5: compare the engine's exact state,
+    // and the partial sum to the same tail bound.
+    assertClose(
+      result.exact[2 * (d + a)]!,
+      e.re,
+      { abs: 1e-10 },
+      `exact[${a}] re`,
+    );
+    assertClose(
+      result.exact[2 * (d + a) + 1]!,
+      e.im,
+      { abs: 1e-10 },
+      `exact[${a}] im`,
+    );
+    assertClose(sum[2 * a]!, e.re, { abs: 1e-4 }, `Σψn[${a}] re`);
+  }
+});
+
+Deno.test("time-independent d=5 with ‖V‖t small: Σψn to order 12 matches mathjs expm to 1e-10", async () => {
+  const engine = await testEngine();
+  const random = seeded(11);
+  const d = 5, t = 2.0;
+  const h0 = randomHermitian(d, random, 1.0);
+  const v = randomHermitian(d, random, 0.05); // x = ‖V‖t ≲ 0.3: tail after order 12 < 0.3¹³/13! ≈ 3e-17
+  const psi0 = new Float64Array(2 * d);
+  psi0[4] = 1;
+  const result = solve(engine, {
+    dim: d,
+    unperturbed: [{ matrix: h0, coefficient: one }],
+    perturbation: [{ matrix: v, coefficient: one }],
+    strength: 1,
+    initial: psi0,
+    tStart: 0,
+    tEnd: t,
+    steps: 1,
+    samples: 3,
+    order: 12,
+  });
+  const H = math.add(toMath(h0, d), toMath(v, d)) as Matrix;
+  for (const k of [1, 2]) {
+    const U = math.expm(
+      math.multiply(math.complex(0, -result.times[k]!), H) as Matrix,
+    );
+    for (let a = 0; a < d; a++) {
+      let re = 0, im = 0;
+      for (const term of result.terms) {
+        re += term[2 * (k * d + a)]!;
+        im += term[2 * (k * d + a) + 1]!;
+      }
+      const e = entry(U, a, 2); // ψ0 = |2⟩
+      assertClose(re, e.re, { abs: 1e-10 }, `re at k=${k}, a=${a}`);
+      assertClose(im, e.im, { abs: 1e-10 }, `im at k=${k}, a=${a}`);
+    }
+  }
+});
+
+Deno.test("eigh() agrees with mathjs eigs on real symmetric matrices and has small residuals on complex Hermitian ones", async () => {
+  const engine = await testEngine();
+  const random = seeded(3);
+  for (const d of [1, 2, 5, 12, 40]) {
+    // Real symmetric: eigenvalues against mathjs.
+    const real = randomHermitian(d, random, 1);
+    for (let k = 1; k < real.length; k += 2) real[k] = 0;
+    const mine = eigh(engine, real, d).values;
+    const rows = Array.from(
+      { length: d },
+      (_, i) => Array.from({ length: d }, (_, j) => real[2 * (i * d + j)]!),
+    );
+    const theirs = (math.eigs(rows).values as number[]).slice().sort((a, b) => a - b);
+    theirs.forEach((x, k) => assertClose(mine[k]!, x, { abs: 1e-12 * d }, `d=${d} eigenvalue ${k}`));
+    // Complex Hermitian: residual ‖A z − λ z‖ and orthonormality Z†Z = I.
+    const a = randomHermitian(d, random, 1);
+    const { values, vectors } = eigh(engine, a, d);
+    for (let k = 0; k < d; k++) {
+      if (k > 0) assert(values[k]! >= values[k - 1]!, "ascending");
+      for (let i = 0; i < d; i++) {
+        let re = 0, im = 0;
+        for (let j = 0; j < d; j++) {
+          const ar = a[2 * (i * d + j)]!, ai = a[2 * (i * d + j) + 1]!;
+          const zr = vectors[2 * (j * d + k)]!,
+            zi = vectors[2 * (j * d + k) + 1]!;
+          re += ar * zr - ai * zi;
+          im += ar * zi + ai * zr;
+        }
+        assertClose(re, values[k]! * vectors[2 * (i * d + k)]!, {
+          abs: 1e-12 * d,
+        }, `residual re d=${d}`);
+        assertClose(im, values[k]! * vectors[2 * (i * d + k) + 1]!, {
+          abs: 1e-12 * d,
+        }, `residual im d=${d}`);
+      }
+      for (let l = 0; l < d; l++) {
+        let re = 0, im = 0;
+        for (let j = 0; j < d; j++) {
+          const xr = vectors[2 * (j * d + k)]!,
+            xi = vectors[2 * (j * d + k) + 1]!;
+          const yr = vectors[2 * (j * d + l)]!,
+            yi = vectors[2 * (j * d + l) + 1]!;
+          re += xr * yr + xi * yi;
+          im += xr * yi - xi * yr;
+        }
+        assertClose(re, k === l ? 1 : 0, { abs: 1e-12 * d }, `Z†Z re d=${d}`);
+        assertClose(im, 0, { abs: 1e-12 * d }, `Z†Z im d=${d}`);
+      }
+    }
+  }
+});
+
+Deno.test("eigh() handles degenerate and diagonal matrices", async () => {
+  const engine = await testEngine();
+  const d = 4;
+  const diag = new Float64Array(2 * d * d);
+  [3, -1, 3, 0].forEach((e, k) => (diag[2 * (k * d + k)] = e));
+  const { values } = eigh(engine, diag, d);
+  [-1, 0, 3, 3].forEach((e, k) => assertClose(values[k]!, e, { abs: 1e-15 }));
+});
+
+Deno.test("the SIMD kernel agrees with the reference kernel to 1e-14 relative, and both with plain JS", async () => {
+  const { exports: e } = await testEngine();
+  const random = seeded(5);
+  for (const d of [1, 2, 3, 8, 17, 64]) {
+    for (const r of [1, 2, 3, 4, 5, 7]) {
+      e.arenaReset();
+      const a = e.arenaAlloc(16 * d * d),
+        x = e.arenaAlloc(16 * d * r),
+        y1 = e.arenaAlloc(16 * d * r),
+        y2 = e.arenaAlloc(16 * d * r);
+      const view = (p: number, n: number) => new Float64Array(e.memory.buffer, p, n);
+      const A = view(a, 2 * d * d), X = view(x, 2 * d * r);
+      A.forEach((_, k) => (A[k] = 2 * random() - 1));
+      X.forEach((_, k) => (X[k] = 2 * random() - 1));
+      const y0 = Float64Array.from(
+        { length: 2 * d * r },
+        () => 2 * random() - 1,
+      );
+      view(y1, 2 * d * r).set(y0);
+      view(y2, 2 * d * r).set(y0);
+      const [ar, ai] = [0.3, -1.7];
+      e.zgemvRef(a, d, x, y1, r, ar, ai);
+      e.zgemvSimd(a, d, x, y2, r, ar, ai);
+      const Y1 = view(y1, 2 * d * r), Y2 = view(y2, 2 * d * r);
+      for (let v = 0; v < r; v++) {
+        for (let i = 0; i < d; i++) {
+          // plain JS: y += α Σ_j A_ij x_j
+          let sr = 0, si = 0;
+          for (let j = 0; j < d; j++) {
+            const pr = A[2 * (i * d + j)]!, pi = A[2 * (i * d + j) + 1]!;
+            const xr = X[2 * (v * d + j)]!, xi = X[2 * (v * d + j) + 1]!;
+            sr += pr * xr - pi * xi;
+            si += pr * xi + pi * xr;
+          }
+          const k = 2 * (v * d + i);
+          const js = [
+            y0[k]! + ar * sr - ai * si,
+            y0[k + 1]! + ar * si + ai * sr,
+          ];
+          const scale = Math.max(1, Math.hypot(js[0]!, js[1]!));
+          for (const c of [0, 1]) {
+            assertClose(Y2[k + c]!, Y1[k + c]!, {
+              abs: 1e-14 * scale * Math.sqrt(d),
+            }, `simd vs ref d=${d} r=${r}`);
+            assertClose(Y1[k + c]!, js[c]!, {
+              abs: 1e-14 * scale * Math.sqrt(d),
+            }, `ref vs JS d=${d} r=${r}`);
+          }
+        }
+      }
+    }
+  }
+});
+
+Deno.test("the selected kernel does not change results: a run with the reference kernel matches the SIMD run", async () => {
+  const engine = await testEngine();
+  const random = seeded(9);
+  const d = 6;
+  const model = {
+    dim: d,
+    unperturbed: [{ matrix: randomHermitian(d, random, 1), coefficient: one }],
+    perturbation: [{
+      matrix: randomHermitian(d, random, 0.2),
+      coefficient: {
+        kind: "sampled" as const,
+        sample: (ts: Float64Array, out: Float64Array) =>
+          ts.forEach((
+            t,
+            k,
+          ) => ((out[2 * k] = Math.cos(t)), (out[2 * k + 1] = 0))),
+      },
+    }],
+    strength: 1,
+    initial: Float64Array.from({ length: 2 * d }, (_, k) => (k === 0 ? 1 : 0)),
+    tStart: 0,
+    tEnd: 5,
+    steps: 200,
+    samples: 3,
+    order: 4,
+  };
+  const simd = solve(engine, model);
+  engine.exports.useSimd(0);
+  try {
+    const ref = solve(engine, model);
+    simd.exact.forEach((x, k) => assertClose(x, ref.exact[k]!, { abs: 1e-13 }));
+    simd.terms[4]!.forEach((x, k) => assertClose(x, ref.terms[4]![k]!, { abs: 1e-13 }));
+  } finally {
+    engine.exports.useSimd(1);
+  }
+});
