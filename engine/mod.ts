@@ -60,7 +60,7 @@ interface Exports {
     ar: number,
     ai: number,
   ): void;
-  peakLoop(iterations: number): number;
+  peakLoop(iterations: number, x0: number, dy: number): number;
   eigh(a: number, n: number, w: number, z: number, work: number): number;
   init(
     dim: number,

@@ -1,0 +1,10 @@
+/**
+ * Runs the benchmark's 10⁶-step memory probe in its own process and prints
+ * its peak resident memory as JSON. Used by `ordo bench`.
+ *
+ * @module
+ */
+import { loadEngine } from "../engine/mod.ts";
+import { memoryProbe } from "./bench.ts";
+
+memoryProbe(await loadEngine());
