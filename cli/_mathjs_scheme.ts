@@ -34,7 +34,9 @@ export function mathjsScheme(model: BaselineModel, steps: number, totalSteps: nu
   const toMatrix = (m: number[][][]) =>
     math.matrix(m.map((row) => row.map(([re, im]) => math.complex(re!, im!))));
   const eig = math.eigs(toMatrix(model.h0));
-  const energies = (eig.values as Matrix).toArray().map((x) => math.re(x as Complex) as number);
+  const energies = (eig.values as Matrix).toArray().map((x) =>
+    typeof x === "number" ? x : math.complex(x as Complex).re
+  );
   const vectors = math.matrix(
     Array.from(
       { length: d },

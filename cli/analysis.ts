@@ -34,6 +34,10 @@ export interface TargetVerdict {
   minOrder: number | null;
   /** Relative error of the first-order partial sum (NaN when exact is 0). */
   firstOrderRelative: number;
+  /** The lowest order whose partial sum is not zero on this target (null if none is). */
+  leadingOrder: number | null;
+  /** Relative error of the partial sum at the leading order (NaN when exact is 0 or no leading order). */
+  leadingRelative: number;
 }
 
 /** Everything `run` reports about one time. */
@@ -149,12 +153,16 @@ export function analyse(
     // No order is called converged below what the reference itself can resolve.
     const hit = referenceOk ? rows.find((r) => r.error <= tolerance) : undefined;
     const first = rows[1];
+    // Leading order: the first partial sum that is not zero at round-off level (relative to the exact value).
+    const lead = rows.find((r) => r.population > 1e-14 * Math.max(exact, 1e-300));
     return {
       label,
       exact,
       rows,
       minOrder: hit ? hit.order : null,
       firstOrderRelative: first && exact > 0 ? first.error / exact : NaN,
+      leadingOrder: lead ? lead.order : null,
+      leadingRelative: lead && exact > 0 ? lead.error / exact : NaN,
     };
   });
   const top = termNorms.length;

@@ -60,6 +60,12 @@ function num(x: number, digits = 4): string {
   return x.toExponential(digits - 1);
 }
 
+/** A population with 8 significant digits, fixed or exponential by size. */
+function pop(x: number): string {
+  if (x === 0) return "0";
+  return Math.abs(x) >= 1e-3 ? x.toPrecision(8) : x.toExponential(7);
+}
+
 /** The terminal report: header, one table per target, verdict. */
 export function formatRun(
   { built, info, result, analysis }: RunOutcome,
@@ -83,17 +89,13 @@ export function formatRun(
   );
   for (const target of analysis.targets) {
     out.push("");
-    out.push(
-      `population of ${target.label}: exact ${target.exact.toPrecision(8)}`,
-    );
-    out.push(
-      "  order   partial sum     error      bound     consistent   ‖ψn‖/‖ψn−1‖",
-    );
+    out.push(`population of ${target.label}: exact ${pop(target.exact)}`);
+    out.push("  order  partial sum      error      bound      consistent     ‖ψn‖/‖ψn−1‖");
     for (const row of target.rows) {
       out.push(
-        `  ${String(row.order).padStart(5)}   ${row.population.toPrecision(8).padEnd(12)}  ${
+        `  ${String(row.order).padStart(5)}  ${pop(row.population).padEnd(15)}  ${
           num(row.error).padStart(9)
-        }  ${num(row.bound).padStart(9)}   ${row.consistent.toPrecision(6).padStart(11)}   ${
+        }  ${num(row.bound).padStart(9)}  ${pop(row.consistent).padStart(14)}  ${
           num(row.ratio, 3).padStart(9)
         }`,
       );
@@ -115,13 +117,16 @@ export function formatRun(
       ? `no order up to ${built.model.order} meets the tolerance`
       : `order ${t.minOrder} meets the tolerance`;
     let first = "";
-    if (!Number.isNaN(t.firstOrderRelative)) {
-      const pct = (t.firstOrderRelative * 100).toPrecision(3);
-      first = t.firstOrderRelative <= 0.01
-        ? `; first order is within 1% (${pct}%)`
-        : t.firstOrderRelative <= 0.1
-        ? `; first order is within 10% but not 1% (${pct}%)`
-        : `; first order is OFF by ${pct}%`;
+    const pct = (x: number) => `${(x * 100).toPrecision(3)}%`;
+    const judge = (x: number) =>
+      x <= 0.01
+        ? `within 1% (${pct(x)})`
+        : x <= 0.1
+        ? `within 10% but not 1% (${pct(x)})`
+        : `OFF by ${pct(x)}`;
+    if (!Number.isNaN(t.firstOrderRelative)) first = `; first order is ${judge(t.firstOrderRelative)}`;
+    if (t.leadingOrder !== null && t.leadingOrder > 1 && !Number.isNaN(t.leadingRelative)) {
+      first += ` (it is zero here: the leading order is ${t.leadingOrder}, ${judge(t.leadingRelative)})`;
     }
     out.push(`  ${t.label}: ${need}${first}`);
   }
@@ -194,6 +199,7 @@ export function runJson({ built, result, analysis }: RunOutcome): unknown {
         label: t.label,
         exact: t.exact,
         min_order: t.minOrder,
+        leading_order: t.leadingOrder,
         first_order_relative_error: Number.isNaN(t.firstOrderRelative) ? null : t.firstOrderRelative,
         orders: t.rows.map((r) => ({
           order: r.order,
