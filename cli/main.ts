@@ -16,6 +16,7 @@ import { EXAMPLES, initCase } from "./init.ts";
 import { formatRun, runCase, runJson } from "./run.ts";
 import { EngineError, loadEngine } from "../engine/mod.ts";
 import { VERSION } from "./version.ts";
+import { progressBar } from "./progress.ts";
 
 const HELP = `ordo ${VERSION}: how far is each Dyson order from the exact evolution?
 
@@ -124,29 +125,20 @@ async function main(argv: string[]): Promise<number> {
         usage(`--at takes a time, got "${values.at}"`);
       }
       const engine = await loadEngine();
-      const showProgress = !values.quiet && Deno.stderr.isTerminal();
-      let lastShown = -1;
-      const outcome = runCase(
-        engine,
-        built,
-        at,
-        showProgress
-          ? (f) => {
-            const pct = Math.floor(f * 100);
-            if (pct !== lastShown) {
-              lastShown = pct;
-              Deno.stderr.writeSync(
-                new TextEncoder().encode(`\rpropagating ${pct}%`),
-              );
-            }
-          }
-          : undefined,
-      );
-      if (showProgress) {
-        Deno.stderr.writeSync(new TextEncoder().encode("\r\x1b[K"));
+      const progress = values.quiet ? undefined : progressBar("propagating");
+      let outcome;
+      try {
+        outcome = runCase(engine, built, at, progress?.update);
+      } finally {
+        progress?.stop();
       }
       if (values.json) console.log(JSON.stringify(runJson(outcome)));
       else console.log(formatRun(outcome));
+      if (values.out) {
+        const { writeReport } = await import("./report.ts");
+        const files = await writeReport(outcome, String(values.out));
+        console.error(`ordo: wrote ${files.join(", ")}`);
+      }
       return 0;
     }
     case "inspect": {

@@ -1,0 +1,38 @@
+/**
+ * Progress on stderr, shown only on a terminal (never in pipes, files or CI).
+ *
+ * @module
+ */
+
+import cliProgress from "cli-progress";
+import process from "node:process";
+
+/** A progress display: update with the fraction done, then stop. */
+export interface Progress {
+  update(fraction: number): void;
+  stop(): void;
+}
+
+/**
+ * A progress bar with rate and ETA when stderr is a terminal; undefined otherwise.
+ *
+ * @param what the word in front of the bar
+ * @param total the number of items (default: percent)
+ * @returns the bar, or undefined off a terminal
+ */
+export function progressBar(what: string, total = 100): Progress | undefined {
+  if (!Deno.stderr.isTerminal()) return undefined;
+  const bar = new cliProgress.SingleBar({
+    format: `${what} [{bar}] {percentage}% | {value}/{total} | ETA {eta_formatted}`,
+    stream: process.stderr,
+    hideCursor: true,
+    clearOnComplete: true,
+    barsize: 30,
+    noTTYOutput: false,
+  }, cliProgress.Presets.shades_classic);
+  bar.start(total, 0);
+  return {
+    update: (fraction) => bar.update(Math.round(fraction * total)),
+    stop: () => bar.stop(),
+  };
+}

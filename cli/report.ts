@@ -1,0 +1,161 @@
+/**
+ * `ordo run --out DIR`: the result as files — `result.json` (the JSON
+ * contract), `populations.csv` (tidy: time, label, source, population) and
+ * `report.html`, a self-contained page with SVG plots. Every file carries its
+ * provenance: ordo version, case hash, parameters, scheme and steps.
+ *
+ * @module
+ */
+
+import { join } from "node:path";
+import { lineSvg, type Point } from "./plots.ts";
+import { formatRun, runJson, type RunOutcome } from "./run.ts";
+import { VERSION } from "./version.ts";
+
+/** The JSON result's shape, as far as the report reads it. */
+interface ResultJson {
+  labels: string[];
+  times: number[];
+  exact: Record<string, number[]>;
+  series: Record<string, number[]>[];
+  analysis: {
+    targets: {
+      label: string;
+      orders: { order: number; error: number; bound: number }[];
+    }[];
+  };
+}
+
+/** One line of provenance. */
+export function provenance(outcome: RunOutcome): string {
+  const { built, result } = outcome;
+  const params = [...built.params].map(([k, v]) =>
+    `${k}=${typeof v === "number" ? v : `${v.re}${v.im >= 0 ? "+" : ""}${v.im}i`}`
+  )
+    .join(" ");
+  return `ordo ${VERSION}; case ${built.source.file} sha256 ${built.source.sha256}; params ${
+    params || "(none)"
+  }; ` +
+    `scheme ${result.scheme}; steps ${result.steps}; order ${built.model.order}; λ ${built.model.strength}`;
+}
+
+/** The tidy CSV: one row per (time, label, source), with provenance as leading `#` lines. */
+export function populationsCsv(outcome: RunOutcome, json: ResultJson): string {
+  const lines = [`# ${provenance(outcome)}`, "time,label,source,population"];
+  json.times.forEach((t, k) => {
+    for (const label of json.labels) {
+      lines.push(`${t},${csvField(label)},exact,${json.exact[label]![k]}`);
+      json.series.forEach((s, n) => lines.push(`${t},${csvField(label)},order${n},${s[label]![k]}`));
+    }
+  });
+  return lines.join("\n") + "\n";
+}
+
+function csvField(s: string): string {
+  return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+}
+
+function escapeHtml(s: string): string {
+  return s.replace(/&/g, "&amp;").replace(/</g, "&lt;").replace(/>/g, "&gt;");
+}
+
+/** The plots of one target: populations, error against order, error against time. */
+async function targetPlots(outcome: RunOutcome, json: ResultJson, label: string): Promise<string[]> {
+  const unit = outcome.built.units.time ? ` (${outcome.built.units.time})` : "";
+  const orders = json.series.map((_, n) => `order ${n}`);
+  const populations: Point[] = [];
+  // Exact last, so that its dashed black line is drawn over the partial sums.
+  json.series.forEach((s, n) =>
+    json.times.forEach((t, k) => populations.push({ x: t, y: s[label]![k]!, series: `order ${n}` }))
+  );
+  json.times.forEach((t, k) => populations.push({ x: t, y: json.exact[label]![k]!, series: "exact" }));
+  const analysis = json.analysis.targets.find((t) => t.label === label)!;
+  const byOrder: Point[] = analysis.orders.flatMap((o) => [
+    { x: o.order, y: o.error, series: "error" },
+    { x: o.order, y: o.bound, series: "a-priori bound" },
+  ]);
+  const overTime: Point[] = [];
+  json.series.forEach((s, n) =>
+    json.times.forEach((t, k) =>
+      overTime.push({ x: t, y: Math.abs(s[label]![k]! - json.exact[label]![k]!), series: `order ${n}` })
+    )
+  );
+  return [
+    await lineSvg({
+      title: `population of ${label}: exact and partial sums`,
+      xTitle: `time${unit}`,
+      yTitle: "population",
+      points: populations,
+      order: ["exact", ...orders],
+      black: ["exact"],
+      dashed: ["exact"],
+    }),
+    await lineSvg({
+      title: `population error of ${label} at t = ${
+        Number(outcome.analysis.time.toPrecision(6))
+      } against order`,
+      xTitle: "Dyson order n",
+      yTitle: "|P_n − P_exact|",
+      logY: true,
+      points: byOrder,
+      dashed: ["a-priori bound"],
+      order: ["error", "a-priori bound"],
+      floor: 1e-16,
+    }),
+    await lineSvg({
+      title: `population error of ${label} against time, per order`,
+      xTitle: `time${unit}`,
+      yTitle: "|P_n − P_exact|",
+      logY: true,
+      points: overTime,
+      order: orders,
+      floor: 1e-16,
+    }),
+  ];
+}
+
+/**
+ * Writes result.json, populations.csv and report.html into dir.
+ *
+ * @param outcome a finished run
+ * @param dir the output folder (created if missing)
+ * @returns the paths written
+ */
+export async function writeReport(outcome: RunOutcome, dir: string): Promise<string[]> {
+  Deno.mkdirSync(dir, { recursive: true });
+  const json = runJson(outcome) as ResultJson & Record<string, unknown>;
+  const files = [join(dir, "result.json"), join(dir, "populations.csv"), join(dir, "report.html")];
+  Deno.writeTextFileSync(
+    files[0]!,
+    JSON.stringify({ ...json, provenance: provenance(outcome) }, null, 1) + "\n",
+  );
+  Deno.writeTextFileSync(files[1]!, populationsCsv(outcome, json));
+  const sections: string[] = [];
+  for (const label of json.labels) {
+    const svgs = await targetPlots(outcome, json, label);
+    sections.push(`<h2>${escapeHtml(label)}</h2>\n${svgs.map((s) => `<figure>${s}</figure>`).join("\n")}`);
+  }
+  const html = `<!doctype html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta name="generator" content="ordo ${VERSION}">
+<title>${escapeHtml(outcome.built.title)} — ordo report</title>
+<style>
+body { font-family: system-ui, sans-serif; max-width: 60rem; margin: 2rem auto; padding: 0 1rem; color: #222; }
+pre { background: #f6f6f6; padding: 0.8rem; overflow-x: auto; font-size: 0.8rem; }
+figure { margin: 1rem 0; }
+.provenance { font-size: 0.8rem; color: #555; }
+</style>
+</head>
+<body>
+<h1>${escapeHtml(outcome.built.title)}</h1>
+<p class="provenance">${escapeHtml(provenance(outcome))}</p>
+<pre>${escapeHtml(formatRun(outcome))}</pre>
+${sections.join("\n")}
+</body>
+</html>
+`;
+  Deno.writeTextFileSync(files[2]!, html);
+  return files;
+}

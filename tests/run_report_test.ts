@@ -1,0 +1,153 @@
+// `ordo run`: the JSON contract on every example, the CSV and the report's
+// SVGs, and the verdict logic on constructed cases.
+import { XMLParser, XMLValidator } from "fast-xml-parser";
+import { assert, assertDeepEqual, assertEqual } from "./assert.ts";
+import { assertClose, runOrdo, tempCase } from "./helpers.ts";
+import { twoLevel } from "./engine_helpers.ts";
+
+const CASES = [...Deno.readDirSync(new URL("../cases/", import.meta.url))].map((e) =>
+  new URL(`../cases/${e.name}`, import.meta.url).pathname
+).sort();
+
+// deno-lint-ignore no-explicit-any
+async function runJson(args: string[]): Promise<any> {
+  const { code, stdout, stderr } = await runOrdo(["run", ...args, "--json", "--quiet"]);
+  assertEqual(code, 0, stderr);
+  return JSON.parse(stdout); // stdout holds the JSON and nothing else
+}
+
+Deno.test("run --json satisfies the result contract for every example", async () => {
+  assert(CASES.length >= 5, "at least five examples");
+  for (const file of CASES) {
+    const r = await runJson([file]);
+    assertEqual(r.ordo, "0.1.0");
+    assert(typeof r.case.title === "string" && /^[0-9a-f]{64}$/.test(r.case.sha256), file);
+    assert(typeof r.case.params === "object");
+    assert(
+      typeof r.method.scheme === "string" && Number.isInteger(r.method.steps) &&
+        Number.isInteger(r.method.order),
+    );
+    assert(typeof r.method.reference_error === "number");
+    const samples = r.times.length;
+    assert(samples >= 2 && r.times[0] < r.times[samples - 1], "times ascend");
+    assertEqual(r.series.length, r.method.order + 1, "one series entry per order");
+    for (const label of r.labels) {
+      assertEqual(r.exact[label].length, samples, `${file}: exact[${label}]`);
+      assertEqual(r.final.exact[label], r.exact[label][samples - 1], "final.exact is the last sample");
+      r.series.forEach((s: Record<string, number[]>, n: number) => {
+        assertEqual(s[label]!.length, samples);
+        assertEqual(r.final.series[n][label], s[label]![samples - 1], "final.series is the last sample");
+      });
+      for (const p of r.exact[label]) assert(p >= 0 && p <= 1 + 1e-12, "populations are probabilities");
+    }
+  }
+});
+
+Deno.test("run --out writes result.json, a tidy populations.csv that round-trips, and a report whose SVGs parse", async () => {
+  const dir = Deno.makeTempDirSync();
+  const file = new URL("../cases/two_level.toml", import.meta.url).pathname;
+  const { code, stderr } = await runOrdo(["run", file, "--out", dir, "--quiet"]);
+  assertEqual(code, 0, stderr);
+  const result = JSON.parse(Deno.readTextFileSync(`${dir}/result.json`));
+  assert(result.provenance.includes(result.case.sha256), "provenance in result.json");
+  // CSV: provenance line, header, then one row per (time, label, source).
+  const lines = Deno.readTextFileSync(`${dir}/populations.csv`).trim().split("\n");
+  assert(
+    lines[0]!.startsWith("# ordo 0.1.0") && lines[0]!.includes(result.case.sha256),
+    "provenance in the CSV",
+  );
+  assertEqual(lines[1], "time,label,source,population");
+  const rows = lines.slice(2).map((l) => l.split(","));
+  assertEqual(rows.length, result.times.length * result.labels.length * (result.series.length + 1));
+  for (const [time, label, source, population] of rows) {
+    const k = result.times.indexOf(Number(time));
+    assert(k >= 0, `time ${time} is a recorded time`);
+    const expected = source === "exact"
+      ? result.exact[label!][k]
+      : result.series[Number(source!.slice(5))][label!][k];
+    assertEqual(Number(population), expected, `${time},${label},${source}`);
+  }
+  // The report: self-contained, SVGs that parse, one line path per plotted series.
+  const html = Deno.readTextFileSync(`${dir}/report.html`);
+  assert(!/<script[^>]*src=|<link[^>]*href="http/.test(html), "no network resources");
+  assert(html.includes(result.case.sha256), "provenance in the report");
+  const svgs = html.match(/<svg[\s\S]*?<\/svg>/g) ?? [];
+  assertEqual(svgs.length, 3 * result.labels.length, "three plots per target");
+  const expectedSeries = [result.series.length + 1, 2, result.series.length];
+  svgs.forEach((svg, k) => {
+    assertEqual(XMLValidator.validate(svg), true, `SVG ${k} is well-formed XML`);
+    const tree = new XMLParser({ ignoreAttributes: false, attributeNamePrefix: "" }).parse(svg);
+    let linePaths = 0;
+    // deno-lint-ignore no-explicit-any
+    const walk = (node: any, inLine: boolean) => {
+      if (Array.isArray(node)) return node.forEach((n) => walk(n, inLine));
+      if (node === null || typeof node !== "object") return;
+      const here = inLine || (typeof node.class === "string" && node.class.includes("mark-line"));
+      for (const [key, value] of Object.entries(node)) {
+        if (key === "path" && here) linePaths += Array.isArray(value) ? value.length : 1;
+        else walk(value, here);
+      }
+    };
+    walk(tree, false);
+    assertEqual(linePaths, expectedSeries[k % 3], `SVG ${k}: one path per series`);
+  });
+});
+
+Deno.test("the verdict finds the order needed and says first order is off by more than 10%", async () => {
+  const r = await runJson([new URL("../cases/two_level.toml", import.meta.url).pathname]);
+  const e = r.analysis.targets[0];
+  assertEqual(e.label, "e");
+  assert(e.first_order_relative_error > 0.1, `first order off by ${e.first_order_relative_error}`);
+  assertEqual(e.min_order, 5);
+  const { stdout } = await runOrdo([
+    "run",
+    new URL("../cases/two_level.toml", import.meta.url).pathname,
+    "--quiet",
+  ]);
+  assert(
+    stdout.includes("first order is OFF by 22.0%") && stdout.includes("order 5 meets the tolerance"),
+    stdout,
+  );
+});
+
+Deno.test("the verdict calls a weak coupling converged at low order with first order within 1%", async () => {
+  const r = await runJson([tempCase(twoLevel(1, 0.002, 30, { order: 4 }))]);
+  const e = r.analysis.targets.find((t: { label: string }) => t.label === "e");
+  assert(e.first_order_relative_error < 0.01, String(e.first_order_relative_error));
+  assert(e.min_order !== null && e.min_order <= 2, String(e.min_order));
+  assertEqual(r.analysis.growing_terms, false);
+});
+
+Deno.test("the verdict warns when the Dyson terms grow with order", async () => {
+  // x = ∫‖V‖dt = 2·10 = 20: term norms grow like 20ⁿ/n! up to n ≈ 20.
+  const text = tempCase(twoLevel(1, 2, 10, { order: 6 }));
+  const r = await runJson([text]);
+  assertEqual(r.analysis.growing_terms, true);
+  const { stdout } = await runOrdo(["run", text, "--quiet"]);
+  assert(stdout.includes("WARNING: the Dyson terms grow with order"), stdout);
+});
+
+Deno.test("the verdict refuses to call an order converged when the reference is too coarse", async () => {
+  // A fast drive with far too few steps: the step-doubling estimate is large.
+  const text = tempCase(twoLevel(5, 0.3, 20, { coef: "cos(5*t)", steps: 20, samples: 3, order: 8 }));
+  const r = await runJson([text]);
+  assertEqual(r.analysis.reference_ok, false);
+  for (const t of r.analysis.targets) assertEqual(t.min_order, null);
+  const { stdout } = await runOrdo(["run", text, "--quiet"]);
+  assert(stdout.includes("TOO LARGE to judge orders"), stdout);
+});
+
+Deno.test("run flags override the case: --order, --steps, --set, --targets, --at", async () => {
+  const file = new URL("../cases/two_level.toml", import.meta.url).pathname;
+  const r = await runJson([file, "--order", "3", "--set", "g=0.01", "--targets", "g,e", "--at", "15"]);
+  assertEqual(r.method.order, 3);
+  assertEqual(r.case.params.g, 0.01);
+  assertDeepEqual(r.labels, ["g", "e"]);
+  assertClose(r.analysis.time, 15, { abs: 0.16 }, "reported at the recorded time nearest to 15");
+  const steps = await runJson([
+    new URL("../cases/kicked_oscillator.toml", import.meta.url).pathname,
+    "--steps",
+    "400",
+  ]);
+  assertEqual(steps.method.steps, 400);
+});
