@@ -211,3 +211,42 @@ Deno.test("random edits of case text give a CaseError, never a crash", () => {
     `some edits were rejected (${caseErrors} case errors)`,
   );
 });
+
+Deno.test("every example assembles to a Hermitian H0 and V at every sampled time (with hc partners)", () => {
+  for (const entry of Deno.readDirSync(new URL("../cases/", import.meta.url))) {
+    const built = buildCase(readCase(new URL(`../cases/${entry.name}`, import.meta.url).pathname));
+    const { model } = built;
+    const d = model.dim;
+    const times = Float64Array.from(
+      { length: 7 },
+      (_, k) => model.tStart + (model.tEnd - model.tStart) * k / 6,
+    );
+    for (const part of [model.unperturbed, model.perturbation]) {
+      const sum = new Float64Array(2 * d * d * times.length);
+      for (const term of part) {
+        const c = new Float64Array(2 * times.length);
+        if (term.coefficient.kind === "constant") {
+          for (let k = 0; k < times.length; k++) {
+            [c[2 * k], c[2 * k + 1]] = [term.coefficient.re, term.coefficient.im];
+          }
+        } else term.coefficient.sample(times, c);
+        for (let k = 0; k < times.length; k++) {
+          for (let e = 0; e < d * d; e++) {
+            const mr = term.matrix[2 * e]!, mi = term.matrix[2 * e + 1]!;
+            sum[2 * (k * d * d + e)]! += c[2 * k]! * mr - c[2 * k + 1]! * mi;
+            sum[2 * (k * d * d + e) + 1]! += c[2 * k]! * mi + c[2 * k + 1]! * mr;
+          }
+        }
+      }
+      for (let k = 0; k < times.length; k++) {
+        for (let i = 0; i < d; i++) {
+          for (let j = 0; j < d; j++) {
+            const a = 2 * (k * d * d + i * d + j), b = 2 * (k * d * d + j * d + i);
+            assertClose(sum[a]!, sum[b]!, { abs: 1e-12 }, `${entry.name} re (${i},${j})`);
+            assertClose(sum[a + 1]!, -sum[b + 1]!, { abs: 1e-12 }, `${entry.name} im (${i},${j})`);
+          }
+        }
+      }
+    }
+  }
+});
