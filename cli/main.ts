@@ -94,6 +94,100 @@ function oneCase(positionals: string[], command: string): string {
   return positionals[0]!;
 }
 
+async function sweepCommand(rest: string[]): Promise<number> {
+  const { values, positionals } = parseOrFail(rest, {
+    out: { type: "string" },
+    workers: { type: "string" },
+    vary: { type: "string", multiple: true },
+    resume: { type: "boolean" },
+    shard: { type: "string" },
+    merge: { type: "string" },
+    "emit-array": { type: "string" },
+    shards: { type: "string" },
+    order: { type: "string" },
+    steps: { type: "string" },
+    set: { type: "string", multiple: true },
+    targets: { type: "string" },
+    quiet: { type: "boolean" },
+  });
+  const { emitArrayScript, Interrupted, mergeShards, runSweep } = await import("./sweep.ts");
+  const { parseShard, parseVary } = await import("./sweep_grid.ts");
+  if (values.merge !== undefined) {
+    const n = await mergeShards(String(values.merge));
+    console.log(`merged ${n} points into ${values.merge}/points.csv (report: ${values.merge}/report.html)`);
+    return 0;
+  }
+  const file = oneCase(positionals, "sweep");
+  if (values.out === undefined) {
+    usage("sweep needs --out DIR, the folder for points.csv, sweep.json and report.html");
+  }
+  const out = String(values.out);
+  const vary = ((values.vary as string[] | undefined) ?? []).map(parseVary);
+  if (values["emit-array"] !== undefined) {
+    const shards = integerFlag(values.shards, "--shards");
+    if (!shards || shards < 1) usage("--emit-array needs --shards N, the number of array tasks");
+    // Pass the flags that shape the sweep on to every shard.
+    const passed = ["--vary", "--set", "--order", "--steps", "--targets"];
+    const extra: string[] = [];
+    rest.forEach((arg, k) => {
+      if (passed.includes(arg) && rest[k + 1] !== undefined) extra.push(arg, rest[k + 1]!);
+    });
+    emitArrayScript(String(values["emit-array"]), file, out, shards!, extra);
+    console.log(
+      `wrote ${values["emit-array"]}: submit it with \`bash ${values["emit-array"]}\` on the cluster`,
+    );
+    return 0;
+  }
+  const workers = integerFlag(values.workers, "--workers") ?? navigator.hardwareConcurrency;
+  if (workers < 1) usage("--workers takes a whole number ≥ 1");
+  try {
+    const r = await runSweep(file, {
+      out,
+      workers,
+      resume: Boolean(values.resume),
+      shard: values.shard === undefined ? undefined : parseShard(String(values.shard)),
+      vary,
+      build: buildOptions(values),
+      quiet: Boolean(values.quiet),
+    });
+    const rate = r.written / Math.max(r.seconds, 1e-9);
+    console.log(
+      `sweep: ${r.written} points in ${r.seconds.toFixed(1)} s (${rate.toFixed(1)} points/s, ${
+        r.reusedSeries ? "λ only: series reused" : `${workers} worker${workers > 1 ? "s" : ""}`
+      })` + (r.skipped ? `; ${r.skipped} were already done` : "") +
+        `; ${r.skipped + r.written} of ${r.total} in ${out}`,
+    );
+    return 0;
+  } catch (e) {
+    if (e instanceof Interrupted) {
+      console.error(`ordo: interrupted; every finished point is in ${out}; continue with --resume`);
+      return 130;
+    }
+    throw e;
+  }
+}
+
+async function checkCommand(rest: string[]): Promise<number> {
+  const { values, positionals } = parseOrFail(rest, {
+    workers: { type: "string" },
+    vary: { type: "string", multiple: true },
+    order: { type: "string" },
+    steps: { type: "string" },
+    set: { type: "string", multiple: true },
+    quiet: { type: "boolean" },
+  });
+  const { runCheck, formatCheck } = await import("./check.ts");
+  const { parseVary } = await import("./sweep_grid.ts");
+  const report = await runCheck(oneCase(positionals, "check"), {
+    workers: integerFlag(values.workers, "--workers") ?? navigator.hardwareConcurrency,
+    vary: ((values.vary as string[] | undefined) ?? []).map(parseVary),
+    build: buildOptions(values),
+    quiet: Boolean(values.quiet),
+  });
+  console.log(formatCheck(report));
+  return report.approximations.every((a) => a.pass) ? 0 : 1;
+}
+
 async function main(argv: string[]): Promise<number> {
   const [command, ...rest] = argv;
   if (
@@ -179,10 +273,9 @@ async function main(argv: string[]): Promise<number> {
       return 0;
     }
     case "sweep":
+      return await sweepCommand(rest);
     case "check":
-      return usage(
-        `\`ordo ${command}\` is not built yet in ordo ${VERSION}; use \`ordo run\` per point for now`,
-      );
+      return await checkCommand(rest);
     default:
       return usage(
         `unknown command "${command}"; commands are run, inspect, init, bench (see \`ordo --help\`)`,

@@ -1,0 +1,184 @@
+/**
+ * Evaluating sweep points: one case, many parameter values. Used by the
+ * sweep workers and by `ordo check`. A point's result is the exact and
+ * partial-sum populations of every target at the final time, and the
+ * smallest order within tolerance.
+ *
+ * @module
+ */
+
+import { analyse } from "./analysis.ts";
+import { buildCase, type BuildOptions, type BuiltCase } from "./build_model.ts";
+import { parseCase, withLocation } from "./parse_case.ts";
+import { CaseError } from "./case_error.ts";
+import { compileExpression } from "./expression.ts";
+import { STRENGTH } from "./sweep_grid.ts";
+import { type Engine, populationsAt, type Result, solve } from "../engine/mod.ts";
+
+/** What every point shares. */
+export interface SweepSetup {
+  /** The case text and file name (parsed once per evaluator). */
+  text: string;
+  file: string;
+  /** Overrides common to all points. */
+  options: BuildOptions;
+  /** The swept names, in grid order. */
+  axes: string[];
+  /** Formulas to evaluate at each point's final time (for `ordo check`). */
+  formulas?: string[];
+}
+
+/** One evaluated point. */
+export interface PointResult {
+  index: number;
+  values: number[];
+  /** Per target: exact population at the final time. */
+  exact: number[];
+  /** Per target, per order n = 0…N: partial-sum population at the final time. */
+  orders: number[][];
+  /** Per target: smallest order within tolerance, or null. */
+  minOrder: (number | null)[];
+  /** The setup's formulas at the final time, in order. */
+  formulas: number[];
+}
+
+/** Builds and solves the points of one sweep with one engine. */
+export class PointEvaluator {
+  readonly #engine: Engine;
+  readonly #setup: SweepSetup;
+  readonly #source;
+  /** The case as built with the common overrides (labels, targets, tolerance). */
+  readonly base: BuiltCase;
+
+  /**
+   * @param engine an engine instance (one per worker)
+   * @param setup the sweep's shared setup
+   */
+  constructor(engine: Engine, setup: SweepSetup) {
+    this.#engine = engine;
+    this.#setup = setup;
+    this.#source = parseCase(setup.text, setup.file);
+    this.base = buildCase(this.#source, setup.options);
+  }
+
+  /** The case built at one point's values. */
+  build(values: number[]): BuiltCase {
+    const set = { ...this.#setup.options.set };
+    let strength: number | undefined;
+    this.#setup.axes.forEach((name, a) => {
+      if (name === STRENGTH) strength = values[a]!;
+      else set[name] = String(values[a]!);
+    });
+    const built = buildCase(this.#source, { ...this.#setup.options, set });
+    if (strength !== undefined) built.model.strength = strength;
+    return built;
+  }
+
+  /** Evaluates one point. */
+  evaluate(index: number, values: number[]): PointResult {
+    const built = this.build(values);
+    return {
+      ...summarise(index, values, built, solve(this.#engine, built.model)),
+      formulas: this.#formulas(built),
+    };
+  }
+
+  #formulas(built: BuiltCase): number[] {
+    return (this.#setup.formulas ?? []).map((formula, k) => {
+      const path = ["approx", k, "formula"];
+      const value = compileExpression(formula, { params: built.params, allowTime: true }, path).at(
+        built.model.tEnd,
+      );
+      if (typeof value !== "number" || !Number.isFinite(value)) {
+        throw withLocation(
+          new CaseError(
+            `formula gives ${JSON.stringify(value)} at t = ${built.model.tEnd}`,
+            path,
+            "a formula must give a finite real number (a population)",
+          ),
+          this.#source.file,
+          this.#source.text,
+          this.#source.format,
+        );
+      }
+      return value;
+    });
+  }
+
+  /**
+   * Evaluates a sweep over λ alone, reusing the series: the Dyson terms do not
+   * depend on λ, so they are computed once (at λ = 1) and only the exact
+   * propagation (order 0) runs per point.
+   */
+  evaluateStrengths(points: { index: number; values: number[] }[], onPoint: (r: PointResult) => void): void {
+    const built = this.build([1]);
+    const series = solve(this.#engine, built.model);
+    for (const { index, values } of points) {
+      const lambda = values[0]!;
+      const model = { ...built.model, strength: lambda, order: 0 };
+      const exactRun = solve(this.#engine, model);
+      const result: Result = {
+        ...series,
+        terms: series.terms.map((t, n) => t.map((x) => lambda ** n * x)),
+        exact: exactRun.exact,
+        check: exactRun.check,
+      };
+      const point = { ...built, model: { ...built.model, strength: lambda } };
+      onPoint({ ...summarise(index, values, point, result), formulas: this.#formulas(point) });
+    }
+  }
+}
+
+function summarise(
+  index: number,
+  values: number[],
+  built: BuiltCase,
+  result: Result,
+): Omit<PointResult, "formulas"> {
+  const d = built.model.dim, last = result.times.length - 1;
+  const targets = built.targets.map((l) => built.space.labels.indexOf(l));
+  const exactPop = populationsAt(result.exact, d, last);
+  const partial = new Float64Array(2 * d);
+  const orders = targets.map(() => [] as number[]);
+  result.terms.forEach((term) => {
+    for (let k = 0; k < 2 * d; k++) partial[k]! += term[last * 2 * d + k]!;
+    const pops = populationsAt(partial, d, 0);
+    targets.forEach((a, j) => orders[j]!.push(pops[a]!));
+  });
+  const analysis = analyse(result, built.space.labels, built.targets, 0, built.tolerance);
+  return {
+    index,
+    values,
+    exact: targets.map((a) => exactPop[a]!),
+    orders,
+    minOrder: analysis.targets.map((t) => t.minOrder),
+  };
+}
+
+/** The CSV header of a sweep: swept names, per target exact and orders, then min orders. */
+export function csvHeader(axes: string[], targets: string[], order: number): string {
+  const cols = [...axes];
+  for (const t of targets) {
+    cols.push(`exact:${t}`);
+    for (let n = 0; n <= order; n++) cols.push(`order${n}:${t}`);
+  }
+  for (const t of targets) cols.push(`min_order:${t}`);
+  return cols.map(csvQuote).join(",");
+}
+
+/** One CSV row (numbers in shortest round-trip form). */
+export function csvRow(r: PointResult): string {
+  const cells = r.values.map(String);
+  r.exact.forEach((e, j) => cells.push(String(e), ...r.orders[j]!.map(String)));
+  for (const m of r.minOrder) cells.push(m === null ? "" : String(m));
+  return cells.join(",");
+}
+
+/** The identity of a point in a CSV row: its swept values as written. */
+export function rowKey(row: string, axes: number): string {
+  return row.split(",").slice(0, axes).join(",");
+}
+
+function csvQuote(s: string): string {
+  return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+}

@@ -1,0 +1,289 @@
+/**
+ * The validity maps of a sweep, `DIR/report.html`: for one swept parameter,
+ * the error of every order against it; for two, heatmaps of the smallest order
+ * within tolerance and of the first-order error, with the tolerance contour.
+ *
+ * @module
+ */
+
+import { join } from "node:path";
+import * as vega from "vega";
+import { compile, type TopLevelSpec } from "vega-lite";
+import { lineSvg, palette, type Point } from "./plots.ts";
+import type { Grid } from "./sweep_grid.ts";
+import { VERSION } from "./version.ts";
+
+/** What the report needs to know of the sweep besides its rows. */
+export interface SweepInfo {
+  title: string;
+  targets: string[];
+  order: number;
+  tolerance: number;
+}
+
+interface ParsedRow {
+  values: number[];
+  exact: number[];
+  orders: number[][];
+  minOrder: (number | null)[];
+}
+
+function parseRows(rows: string[], grid: Grid, info: SweepInfo): ParsedRow[] {
+  const a = grid.axes.length, n1 = info.order + 1, t = info.targets.length;
+  return rows.map((row) => {
+    const cells = row.split(",");
+    const num = (k: number) => Number(cells[k]);
+    const exact: number[] = [], orders: number[][] = [];
+    for (let j = 0; j < t; j++) {
+      const base = a + j * (n1 + 1);
+      exact.push(num(base));
+      orders.push(Array.from({ length: n1 }, (_, n) => num(base + 1 + n)));
+    }
+    const minOrder = Array.from({ length: t }, (_, j) => {
+      const c = cells[a + t * (n1 + 1) + j]!;
+      return c === "" ? null : Number(c);
+    });
+    return { values: cells.slice(0, a).map(Number), exact, orders, minOrder };
+  });
+}
+
+/** Cell edges around the values of an axis (geometric means on a log axis). */
+function edges(values: number[], log: boolean): number[] {
+  const f = log ? Math.log : (x: number) => x, g = log ? Math.exp : (x: number) => x;
+  const v = values.map(f);
+  if (v.length === 1) return [g(v[0]! - 0.5), g(v[0]! + 0.5)];
+  const mids = v.slice(1).map((x, k) => 0.5 * (x + v[k]!));
+  return [2 * v[0]! - mids[0]!, ...mids, 2 * v[v.length - 1]! - mids[mids.length - 1]!].map(g);
+}
+
+/**
+ * Segments of the contour where field = level on a grid (marching squares),
+ * in the axes' own coordinates (interpolated linearly in log10 of the field
+ * and in each axis, or its logarithm on a log axis).
+ */
+export function contourSegments(
+  xs: number[],
+  ys: number[],
+  field: (i: number, j: number) => number,
+  level: number,
+  logX: boolean,
+  logY: boolean,
+): { x: number; y: number; x2: number; y2: number }[] {
+  const out: { x: number; y: number; x2: number; y2: number }[] = [];
+  const lx = (v: number) => (logX ? Math.log(v) : v), ly = (v: number) => (logY ? Math.log(v) : v);
+  const ux = (v: number) => (logX ? Math.exp(v) : v), uy = (v: number) => (logY ? Math.exp(v) : v);
+  const at = (i: number, j: number) => Math.log10(Math.max(field(i, j), 1e-300)) - Math.log10(level);
+  for (let i = 0; i + 1 < xs.length; i++) {
+    for (let j = 0; j + 1 < ys.length; j++) {
+      const corners: [number, number][] = [[i, j], [i + 1, j], [i + 1, j + 1], [i, j + 1]];
+      const crossings: { x: number; y: number }[] = [];
+      for (let e = 0; e < 4; e++) {
+        const [ai, aj] = corners[e]!, [bi, bj] = corners[(e + 1) % 4]!;
+        const fa = at(ai, aj), fb = at(bi, bj);
+        if ((fa < 0) !== (fb < 0)) {
+          const s = fa / (fa - fb);
+          crossings.push({
+            x: ux(lx(xs[ai]!) + s * (lx(xs[bi]!) - lx(xs[ai]!))),
+            y: uy(ly(ys[aj]!) + s * (ly(ys[bj]!) - ly(ys[aj]!))),
+          });
+        }
+      }
+      for (let c = 0; c + 1 < crossings.length; c += 2) {
+        out.push({
+          x: crossings[c]!.x,
+          y: crossings[c]!.y,
+          x2: crossings[c + 1]!.x,
+          y2: crossings[c + 1]!.y,
+        });
+      }
+    }
+  }
+  return out;
+}
+
+async function render(spec: TopLevelSpec): Promise<string> {
+  const view = new vega.View(vega.parse(compile(spec).spec), { renderer: "none" });
+  const svg = await view.toSVG();
+  view.finalize();
+  return svg;
+}
+
+function isLog(values: number[]): boolean {
+  if (values.length < 3 || values.some((v) => v <= 0)) return false;
+  const r = values[1]! / values[0]!;
+  return Math.abs(values[2]! / values[1]! - r) < 1e-9 * r && Math.abs(r - 1) > 1e-9 &&
+    Math.abs((values[2]! - values[1]!) - (values[1]! - values[0]!)) >
+      1e-9 * Math.abs(values[1]! - values[0]!);
+}
+
+async function heatmap(
+  title: string,
+  grid: Grid,
+  cells: { x: number; y: number; value: number | string }[],
+  color: Record<string, unknown>,
+  contour?: { x: number; y: number; x2: number; y2: number }[],
+): Promise<string> {
+  const [ax, ay] = [grid.axes[0]!, grid.axes[1]!];
+  const logX = isLog(ax.values), logY = isLog(ay.values);
+  const ex = edges(ax.values, logX), ey = edges(ay.values, logY);
+  const values = cells.map((c) => {
+    const i = ax.values.indexOf(c.x), j = ay.values.indexOf(c.y);
+    return { x: ex[i], x2: ex[i + 1], y: ey[j], y2: ey[j + 1], value: c.value };
+  });
+  const scale = (log: boolean, e: number[]) => ({
+    type: log ? "log" : "linear",
+    domain: [e[0], e[e.length - 1]],
+    nice: false,
+    zero: false,
+  });
+  const layers: unknown[] = [{
+    data: { values },
+    mark: { type: "rect" },
+    encoding: {
+      x: { field: "x", type: "quantitative", title: ax.name, scale: scale(logX, ex) },
+      x2: { field: "x2" },
+      y: { field: "y", type: "quantitative", title: ay.name, scale: scale(logY, ey) },
+      y2: { field: "y2" },
+      color: { field: "value", ...color },
+    },
+  }];
+  if (contour && contour.length > 0) {
+    layers.push({
+      data: { values: contour },
+      mark: { type: "rule", color: "white", strokeWidth: 2.5 },
+      encoding: {
+        x: { field: "x", type: "quantitative" },
+        y: { field: "y", type: "quantitative" },
+        x2: { field: "x2" },
+        y2: { field: "y2" },
+      },
+    });
+  }
+  return await render({
+    $schema: "https://vega.github.io/schema/vega-lite/v5.json",
+    title,
+    width: 420,
+    height: 360,
+    background: "white",
+    layer: layers,
+  } as TopLevelSpec);
+}
+
+/**
+ * Writes DIR/report.html for a finished sweep.
+ *
+ * @param dir the sweep folder
+ * @param grid the grid
+ * @param info targets, order, tolerance, title
+ * @param rows the CSV rows (without header)
+ * @returns the path written
+ */
+export async function writeSweepReport(
+  dir: string,
+  grid: Grid,
+  info: SweepInfo,
+  rows: string[],
+): Promise<string> {
+  const parsed = parseRows(rows, grid, info);
+  const figures: string[] = [];
+  const note: string[] = [];
+  if (grid.axes.length === 1) {
+    const axis = grid.axes[0]!;
+    for (const [j, target] of info.targets.entries()) {
+      const points: Point[] = [];
+      for (const r of parsed) {
+        r.orders[j]!.forEach((p, n) =>
+          points.push({ x: r.values[0]!, y: Math.abs(p - r.exact[j]!), series: `order ${n}` })
+        );
+        points.push({ x: r.values[0]!, y: info.tolerance, series: "tolerance" });
+      }
+      const orders = Array.from({ length: info.order + 1 }, (_, n) => `order ${n}`);
+      figures.push(
+        await lineSvg({
+          title: `population error of ${target} against ${axis.name}, per order`,
+          xTitle: axis.name,
+          yTitle: "|P_n − P_exact| at the final time",
+          logY: true,
+          floor: 1e-16,
+          points,
+          order: [...orders, "tolerance"],
+          dashed: ["tolerance"],
+          black: ["tolerance"],
+        }),
+      );
+    }
+  } else if (grid.axes.length >= 2) {
+    if (grid.axes.length > 2) {
+      note.push(
+        `Maps show ${grid.axes[0]!.name} × ${grid.axes[1]!.name} with ${
+          grid.axes.slice(2).map((a) => `${a.name} = ${a.values[0]}`).join(", ")
+        }.`,
+      );
+    }
+    const fixed = parsed.filter((r) => r.values.slice(2).every((v, k) => v === grid.axes[k + 2]!.values[0]));
+    for (const [j, target] of info.targets.entries()) {
+      const labels = [...Array.from({ length: info.order + 1 }, (_, n) => String(n)), "none"];
+      figures.push(
+        await heatmap(
+          `smallest order within ${info.tolerance.toExponential(0)} for ${target}`,
+          grid,
+          fixed.map((r) => ({
+            x: r.values[0]!,
+            y: r.values[1]!,
+            value: r.minOrder[j] === null ? "none" : String(r.minOrder[j]),
+          })),
+          {
+            type: "ordinal",
+            title: "order",
+            scale: { domain: labels, range: [...palette(labels.length - 1), "#bbbbbb"] },
+          },
+        ),
+      );
+      const error = new Map(
+        fixed.map((r) => [`${r.values[0]},${r.values[1]}`, Math.abs(r.orders[j]![1]! - r.exact[j]!)]),
+      );
+      const [ax, ay] = [grid.axes[0]!, grid.axes[1]!];
+      const contour = contourSegments(
+        ax.values,
+        ay.values,
+        (i, k) => error.get(`${ax.values[i]},${ay.values[k]}`) ?? NaN,
+        info.tolerance,
+        isLog(ax.values),
+        isLog(ay.values),
+      );
+      figures.push(
+        await heatmap(
+          `first-order population error of ${target} (white: the tolerance ${
+            info.tolerance.toExponential(0)
+          })`,
+          grid,
+          fixed.map((r) => ({
+            x: r.values[0]!,
+            y: r.values[1]!,
+            value: Math.max(error.get(`${r.values[0]},${r.values[1]}`)!, 1e-16),
+          })),
+          { type: "quantitative", title: "|P₁ − P|", scale: { type: "log", scheme: "viridis" } },
+          contour,
+        ),
+      );
+    }
+  }
+  const path = join(dir, "report.html");
+  Deno.writeTextFileSync(
+    path,
+    `<!doctype html>
+<html lang="en"><head><meta charset="utf-8"><meta name="generator" content="ordo ${VERSION}">
+<title>${info.title} — ordo sweep</title>
+<style>body{font-family:system-ui,sans-serif;max-width:60rem;margin:2rem auto;padding:0 1rem;color:#222} figure{margin:1rem 0}</style>
+</head><body>
+<h1>${info.title.replace(/</g, "&lt;")}</h1>
+<p>ordo ${VERSION}; ${parsed.length} points over ${
+      grid.axes.map((a) => `${a.name} (${a.values.length})`).join(" × ") || "one point"
+    }; tolerance ${info.tolerance}.</p>
+${note.map((n) => `<p>${n}</p>`).join("\n")}
+${figures.map((f) => `<figure>${f}</figure>`).join("\n")}
+</body></html>
+`,
+  );
+  return path;
+}
