@@ -15,17 +15,7 @@
 import { type Engine, loadEngine, type Model, solve } from "../engine/mod.ts";
 import { type BaselineModel, mathjsScheme } from "./_mathjs_scheme.ts";
 import { compileExpression } from "./expression.ts";
-
-function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { seeded } from "./seeded.ts";
 
 /** A random Hermitian matrix as [re, im] entries, entries of size `scale`. */
 function hermitian(d: number, random: () => number, scale: number): number[][][] {

@@ -133,7 +133,9 @@ export async function writeReport(outcome: RunOutcome, dir: string): Promise<str
   const sections: string[] = [];
   for (const label of json.labels) {
     const svgs = await targetPlots(outcome, json, label);
-    sections.push(`<h2>${escapeHtml(label)}</h2>\n${svgs.map((s) => `<figure>${s}</figure>`).join("\n")}`);
+    sections.push(
+      `<h2>target ${escapeHtml(label)}</h2>\n${svgs.map((s) => `<figure>${s}</figure>`).join("\n")}`,
+    );
   }
   const html = `<!doctype html>
 <html lang="en">

@@ -189,6 +189,7 @@ export function runJson({ built, result, analysis }: RunOutcome): unknown {
     exact,
     series,
     final: { exact: last(exact), series: series.map(last) },
+    warnings: built.warnings,
     analysis: {
       time: analysis.time,
       tolerance: analysis.tolerance,

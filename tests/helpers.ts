@@ -8,6 +8,7 @@
 import { AssertionError } from "node:assert/strict";
 import { cli } from "../cli/main.ts";
 import { type Engine, loadEngine } from "../engine/mod.ts";
+export { seeded } from "../cli/seeded.ts";
 
 /** Fails unless |actual − expected| ≤ abs + rel·|expected|. */
 export function assertClose(
@@ -56,18 +57,6 @@ export function tempCase(text: string, ext = ".toml"): string {
   const path = Deno.makeTempFileSync({ suffix: ext });
   Deno.writeTextFileSync(path, text);
   return path;
-}
-
-/** A seeded pseudo-random generator (mulberry32), for reproducible random matrices. */
-export function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
 }
 
 /** A random Hermitian d×d matrix (interleaved, row-major) with entries of size about `scale`. */
