@@ -23,16 +23,21 @@ export interface Progress {
 export function progressBar(what: string, total = 100): Progress | undefined {
   if (!Deno.stderr.isTerminal()) return undefined;
   const bar = new cliProgress.SingleBar({
-    format: `${what} [{bar}] {percentage}% | {value}/{total} | ETA {eta_formatted}`,
+    format: `${what} [{bar}] {percentage}% | {value}/{total} | {rate}/s | ETA {eta_formatted}`,
     stream: process.stderr,
     hideCursor: true,
     clearOnComplete: true,
     barsize: 30,
     noTTYOutput: false,
   }, cliProgress.Presets.shades_classic);
-  bar.start(total, 0);
+  const started = performance.now();
+  bar.start(total, 0, { rate: "0" });
   return {
-    update: (fraction) => bar.update(Math.round(fraction * total)),
+    update: (fraction) => {
+      const value = Math.round(fraction * total);
+      const rate = value / Math.max((performance.now() - started) / 1000, 1e-3);
+      bar.update(value, { rate: rate >= 10 ? rate.toFixed(0) : rate.toFixed(1) });
+    },
     stop: () => bar.stop(),
   };
 }

@@ -126,9 +126,18 @@ async function heatmap(
   const [ax, ay] = [grid.axes[0]!, grid.axes[1]!];
   const logX = isLog(ax.values), logY = isLog(ay.values);
   const ex = edges(ax.values, logX), ey = edges(ay.values, logY);
+  // Each cell reaches 2% into its upper neighbours, hiding the seams renderers leave between adjacent cells.
+  const widen = (e: number[], k: number, log: boolean) =>
+    log ? e[k + 1]! * (e[k + 1]! / e[k]!) ** 0.02 : e[k + 1]! + 0.02 * (e[k + 1]! - e[k]!);
   const values = cells.map((c) => {
     const i = ax.values.indexOf(c.x), j = ay.values.indexOf(c.y);
-    return { x: ex[i], x2: ex[i + 1], y: ey[j], y2: ey[j + 1], value: c.value };
+    return {
+      x: ex[i],
+      x2: i + 1 < ax.values.length ? widen(ex, i, logX) : ex[i + 1],
+      y: ey[j],
+      y2: j + 1 < ay.values.length ? widen(ey, j, logY) : ey[j + 1],
+      value: c.value,
+    };
   });
   const scale = (log: boolean, e: number[]) => ({
     type: log ? "log" : "linear",
