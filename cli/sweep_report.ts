@@ -260,9 +260,15 @@ export async function writeSweepReport(
         isLog(ax.values),
         isLog(ay.values),
       );
+      const within = [...error.values()].filter((e) => e <= info.tolerance).length;
+      const where = within === 0
+        ? "nowhere within"
+        : within === error.size
+        ? "everywhere within"
+        : "white: the contour of";
       figures.push(
         await heatmap(
-          `first-order population error of ${target} (white: the tolerance ${
+          `first-order population error of ${target} (${where} the tolerance ${
             info.tolerance.toExponential(0)
           })`,
           grid,
