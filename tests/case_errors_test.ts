@@ -230,3 +230,28 @@ Deno.test("ordo as a subprocess prints no stack trace for bad input", async () =
   assert(stderr.startsWith("ordo: "), stderr);
   assert(!stderr.includes("    at "), stderr);
 });
+
+Deno.test("inspect works on every example and reports the items a run depends on", async () => {
+  for (const entry of Deno.readDirSync(new URL("../cases/", import.meta.url))) {
+    const { code, stdout, stderr } = await runOrdo([
+      "inspect",
+      new URL(`../cases/${entry.name}`, import.meta.url).pathname,
+    ]);
+    assertEqual(code, 0, `${entry.name}: ${stderr}`);
+    for (
+      const item of [
+        "dimension",
+        "H0 spectrum",
+        "Bohr frequencies coupled by V",
+        "norm bound x = ∫‖λV(t)‖dt",
+        "steps",
+        "memory",
+      ]
+    ) {
+      assert(stdout.includes(item), `${entry.name} reports ${item}:\n${stdout}`);
+    }
+    if (!stdout.includes("H is time-independent")) {
+      assert(/suggested ≥ \d+ steps/.test(stdout), `${entry.name}: step suggestion`);
+    }
+  }
+});
