@@ -93,6 +93,7 @@ const MAX_ORDER = 40;
  * @throws {CaseError} with file, key path and line, for anything invalid
  * @example
  * ```ts
+ * import { ok as assert } from "node:assert/strict";
  * import { parseCase } from "./parse_case.ts";
  * import { buildCase } from "./build_model.ts";
  * const text = `
@@ -111,7 +112,7 @@ const MAX_ORDER = 40;
  * order = 2
  * `;
  * const built = buildCase(parseCase(text, "x.toml"));
- * console.assert(built.model.dim === 2);
+ * assert(built.model.dim === 2);
  * ```
  */
 export function buildCase(

@@ -201,9 +201,10 @@ export function parseExpression(source: string, path: KeyPath): MathNode {
  * @returns the compiled expression
  * @example
  * ```ts
+ * import { ok as assert } from "node:assert/strict";
  * import { compileExpression } from "./expression.ts";
  * const f = compileExpression("g*cos(w*t)", { params: new Map([["g", 2], ["w", 0]]), allowTime: true }, ["coef"]);
- * console.assert(f.at(1) === 2);
+ * assert(f.at(1) === 2);
  * ```
  */
 export function compileExpression(

@@ -158,10 +158,11 @@ type OpValue = { kind: "scalar"; z: Complex } | {
  * @returns the matrix and whether a trailing `+ h.c.` asked for the conjugate
  * @example
  * ```ts
+ * import { ok as assert } from "node:assert/strict";
  * import { evaluateOperator, productSpace } from "./operators.ts";
  * const space = productSpace([{ name: "atom", kind: "levels", labels: ["g", "e"] }]);
  * const { matrix } = evaluateOperator("0.5*|e><g| + h.c.", space, { params: new Map(), allowTime: false }, ["op"]);
- * console.assert(matrix.get(1, 0).re === 0.5);
+ * assert(matrix.get(1, 0).re === 0.5);
  * ```
  */
 export function evaluateOperator(

@@ -33,6 +33,7 @@ export interface CaseSource {
  * @throws {CaseError} with file and line set, when the text is not a valid case
  * @example
  * ```ts
+ * import { ok as assert } from "node:assert/strict";
  * import { parseCase } from "./parse_case.ts";
  * const c = parseCase(`
  * [unperturbed]
@@ -47,7 +48,7 @@ export interface CaseSource {
  * [series]
  * order = 2
  * `, "two_level.toml");
- * console.assert(c.spec.series.order === 2);
+ * assert(c.spec.series.order === 2);
  * ```
  */
 export function parseCase(text: string, file = "<text>"): CaseSource {

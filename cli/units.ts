@@ -72,9 +72,10 @@ export function angularPerSecond(unit: string): number {
  * @returns the convention and its scale factor
  * @example
  * ```ts
+ * import { ok as assert } from "node:assert/strict";
  * import { resolveUnits } from "./units.ts";
  * const u = resolveUnits({ time: "ns", energy: "GHz" });
- * console.assert(Math.abs(u.energyFactor - 2 * Math.PI) < 1e-12);
+ * assert(Math.abs(u.energyFactor - 2 * Math.PI) < 1e-12);
  * ```
  */
 export function resolveUnits(

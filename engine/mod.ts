@@ -9,6 +9,7 @@
  *
  * @example
  * ```ts
+ * import { ok as assert } from "node:assert/strict";
  * import { loadEngine, solve } from "./mod.ts";
  * const engine = await loadEngine();
  * // Two levels split by 1, coupled by 0.05, from the lower one (ħ = 1).
@@ -20,7 +21,7 @@
  *   initial: new Float64Array([1, 0, 0, 0]),
  *   tStart: 0, tEnd: 10, steps: 100, samples: 11, order: 4,
  * });
- * console.assert(result.exact.length === 11 * 4);
+ * assert(result.exact.length === 11 * 4);
  * ```
  *
  * @module
