@@ -31,9 +31,10 @@ import { resolveUnits, type UnitConvention } from "./units.ts";
 import {
   type Coefficient,
   estimateMemory,
-  MEMORY_LIMIT_BYTES,
   type Model,
   type OperatorTerm,
+  RECORD_LIMIT_BYTES,
+  WASM_LIMIT_BYTES,
 } from "../engine/model.ts";
 
 /** Command-line overrides of a case. */
@@ -139,25 +140,6 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   const space = buildSpace(source);
   const relocate = (err: CaseError) => withLocation(err, source.file, source.text, source.format);
 
-  const terms = [
-    ...assembleSection(
-      "unperturbed",
-      spec.unperturbed,
-      space,
-      params,
-      units,
-      relocate,
-    ),
-    ...assembleSection(
-      "perturbation",
-      spec.perturbation,
-      space,
-      params,
-      units,
-      relocate,
-    ),
-  ];
-
   // Grid.
   const constant = (v: number | string, path: KeyPath): number => {
     if (typeof v === "number") return v;
@@ -212,6 +194,55 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   const strength = spec.series.strength ?? 1;
   const tolerance = spec.series.tolerance ?? 1e-6;
 
+  // Refuse before allocating: the term counts are known from the case (a conjugate partner counts double).
+  const termCount = (name: "unperturbed" | "perturbation") =>
+    sectionTerms(name, spec[name]).reduce(
+      (n, { term }) => n + (term.hc || /h\.c\.?\s*$/.test(term.op ?? "") ? 2 : 1),
+      0,
+    );
+  const memory = estimateMemory({
+    dim: space.dim,
+    order,
+    samples,
+    unperturbed: Array(termCount("unperturbed")),
+    perturbation: Array(termCount("perturbation")),
+  });
+  if (memory.wasmBytes > WASM_LIMIT_BYTES) {
+    throw new CaseError(
+      `the engine would need about ${gib(memory.wasmBytes)} GiB (mostly ${memory.largest}), ` +
+        `more than the ${gib(WASM_LIMIT_BYTES)} GiB it can address (32-bit WebAssembly memory)`,
+      [],
+      "shrink the space (fewer levels or a lower oscillator cutoff) or lower [series] order",
+    );
+  }
+  if (memory.recordBytes > RECORD_LIMIT_BYTES) {
+    throw new CaseError(
+      `the recorded states would take about ${gib(memory.recordBytes)} GiB (${memory.largest}), ` +
+        `more than the ${gib(RECORD_LIMIT_BYTES)} GiB ordo allows for them`,
+      ["grid", "samples"],
+      "record fewer samples (the integrator steps do not cost memory), or lower [series] order",
+    );
+  }
+
+  const terms = [
+    ...assembleSection(
+      "unperturbed",
+      spec.unperturbed,
+      space,
+      params,
+      units,
+      relocate,
+    ),
+    ...assembleSection(
+      "perturbation",
+      spec.perturbation,
+      space,
+      params,
+      units,
+      relocate,
+    ),
+  ];
+
   // Hermiticity and finiteness of the assembled parts at a few times.
   const checkTimes = Array.from(
     { length: 9 },
@@ -257,15 +288,6 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
     samples,
     order,
   };
-  const memory = estimateMemory(model);
-  if (memory.bytes > MEMORY_LIMIT_BYTES) {
-    throw new CaseError(
-      `the run needs about ${gib(memory.bytes)} GiB (mostly ${memory.largest}), ` +
-        `more than the ${gib(MEMORY_LIMIT_BYTES)} GiB the engine can address (32-bit WebAssembly memory)`,
-      ["grid", "samples"],
-      "record fewer samples, lower [series] order, or shrink the space",
-    );
-  }
   return {
     source,
     title: spec.title ?? source.file,

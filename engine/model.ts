@@ -75,37 +75,51 @@ export function stepsPerSample(model: Model): number {
   return per % 2 === 0 ? per : per + 1;
 }
 
-/** The memory limit of the engine: 32-bit WebAssembly addresses at most 4 GiB; we keep headroom. */
-export const MEMORY_LIMIT_BYTES = 3 * 1024 ** 3;
+/** WebAssembly memory the engine may use: 32-bit addresses reach 4 GiB; we keep headroom. */
+export const WASM_LIMIT_BYTES = 3 * 1024 ** 3;
+
+/** Memory the recorded states may take in the host (JavaScript) heap. */
+export const RECORD_LIMIT_BYTES = 8 * 1024 ** 3;
 
 /** Steps whose coefficient samples are held at once (the input arrives in chunks of this many). */
 export const CHUNK_STEPS = 256;
 
-/** Estimated engine memory for a model, in bytes, with its largest part named. */
+/** Estimated memory of a run, in bytes: inside the engine and for the recorded states, each with its largest part. */
+export interface MemoryEstimate {
+  wasmBytes: number;
+  recordBytes: number;
+  /** wasm + records. */
+  bytes: number;
+  /** The largest part, described. */
+  largest: string;
+}
+
+/**
+ * Estimates a run's memory from the engine's allocations (engine/assembly/schemes.ts `init`)
+ * and the recorded states.
+ */
 export function estimateMemory(
-  model: Model,
-): { bytes: number; largest: string } {
-  const d = model.dim, n1 = model.order + 1;
-  const terms = model.unperturbed.length + model.perturbation.length;
-  const parts: [string, number][] = [
+  model: Pick<Model, "dim" | "order" | "samples"> & { unperturbed: unknown[]; perturbation: unknown[] },
+): MemoryEstimate {
+  const d = model.dim, r = model.order + 1;
+  const terms = Math.max(model.unperturbed.length, 1) + Math.max(model.perturbation.length, 1);
+  const matrices = terms + 10, vectors = 3 * r + 2 * (r + 2) + 8;
+  const parts: [string, number, "wasm" | "record"][] = [
+    [`engine operators: ${matrices} matrices of d² = ${d * d} complex`, matrices * d * d * 16, "wasm"],
+    [`engine state: ${vectors} vectors of d = ${d} complex`, vectors * d * 16, "wasm"],
     [
-      `recorded states: ${model.samples} samples × ${n1 + 2} vectors × d = ${d} × 16 B`,
-      model.samples * (n1 + 2) * d * 16,
+      `coefficient chunk: ${CHUNK_STEPS} steps × 3 nodes × ${terms} terms`,
+      CHUNK_STEPS * 3 * terms * 16,
+      "wasm",
     ],
     [
-      `operators: ${terms + 8} matrices of d² = ${d * d} × 16 B`,
-      (terms + 8) * d * d * 16,
-    ],
-    [
-      `block generator work space: ${6 * (n1 + 1)} vectors`,
-      6 * (n1 + 1) * d * 16 * 4,
-    ],
-    [
-      `coefficient chunk: ${CHUNK_STEPS} steps × 4 nodes × ${terms} terms`,
-      CHUNK_STEPS * 4 * terms * 16,
+      `recorded states: ${model.samples} samples × ${r + 2} vectors × d = ${d} complex`,
+      model.samples * (r + 2) * d * 16,
+      "record",
     ],
   ];
-  const bytes = parts.reduce((s, p) => s + p[1], 0) + 2 * 65536;
+  const sum = (kind: string) => parts.filter((p) => p[2] === kind).reduce((s, p) => s + p[1], 0);
+  const wasmBytes = sum("wasm") + 2 * 65536, recordBytes = sum("record");
   const largest = parts.reduce((a, b) => (b[1] > a[1] ? b : a))[0];
-  return { bytes, largest };
+  return { wasmBytes, recordBytes, bytes: wasmBytes + recordBytes, largest };
 }

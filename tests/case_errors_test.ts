@@ -171,7 +171,7 @@ Deno.test("inspect rejects an unknown name in an expression, listing the known n
 Deno.test("inspect refuses a case whose memory estimate exceeds the limit, before allocating", async () => {
   await expectError([["samples = 101", "samples = 100000001"]], [
     "GiB",
-    "32-bit WebAssembly",
+    "recorded states",
     "record fewer samples",
   ]);
 });
@@ -254,4 +254,14 @@ Deno.test("inspect works on every example and reports the items a run depends on
       assert(/suggested ≥ \d+ steps/.test(stdout), `${entry.name}: step suggestion`);
     }
   }
+});
+
+Deno.test("inspect refuses a space too large for the engine's memory, before building any matrix", async () => {
+  const text = BASE.replace('names = ["g", "e"]', "count = 6000")
+    .replace('matrix = [[0, 0], [0, "delta"]]', 'matrix = { entry = "row == col ? row : 0" }')
+    .replace('matrix = [[0, "g"], ["g", 0]]', 'matrix = { entry = "g" }');
+  // Assembling would evaluate 6000² entries into several 576 MB matrices; the refusal comes first.
+  const { code, stderr } = await runOrdo(["inspect", tempCase(text)]);
+  assertEqual(code, 2, stderr);
+  assert(stderr.includes("32-bit WebAssembly memory") && stderr.includes("shrink the space"), stderr);
 });
