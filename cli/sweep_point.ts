@@ -86,7 +86,11 @@ export class PointEvaluator {
   #formulas(built: BuiltCase): number[] {
     return (this.#setup.formulas ?? []).map((formula, k) => {
       const path = ["approx", k, "formula"];
-      const value = compileExpression(formula, { params: built.params, allowTime: true }, path).at(
+      const value = compileExpression(formula, {
+        // Formulas may use λ as `strength` beside the params.
+        params: new Map([...built.params, [STRENGTH, built.model.strength]]),
+        allowTime: true,
+      }, path).at(
         built.model.tEnd,
       );
       if (typeof value !== "number" || !Number.isFinite(value)) {
