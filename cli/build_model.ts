@@ -258,6 +258,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   }
 
   const initial = startState(source, space, constScope, warnings);
+  guardExactWork(terms, tEnd - tStart, strength);
 
   const targets = options.targets ?? spec.series.targets ?? space.labels;
   targets.forEach((label, k) => {
@@ -594,6 +595,37 @@ function assembleSection(
     }
   }
   return out;
+}
+
+/** Taylor sub-steps the time-independent scheme may take before a case is called unreasonable. */
+const MAX_SUBSTEPS = 1e7;
+
+/**
+ * A time-independent case is propagated exactly by Taylor sub-steps of ‖H‖·h ≤ 2; refuse one so long
+ * (‖H‖·T in the tens of millions) that it would run for hours, rather than appear to hang.
+ */
+function guardExactWork(terms: AssembledTerm[], span: number, strength: number): void {
+  if (terms.some((t) => t.coef?.usesTime)) return;
+  let norm = 0;
+  for (const t of terms) {
+    const c = t.coef ? Math.hypot(toComplex(t.coef.at(0)).re, toComplex(t.coef.at(0)).im) : 1;
+    let row = 0;
+    for (let i = 0; i < t.matrix.rows; i++) {
+      let sum = 0;
+      for (let j = 0; j < t.matrix.cols; j++) sum += Math.hypot(t.matrix.get(i, j).re, t.matrix.get(i, j).im);
+      row = Math.max(row, sum);
+    }
+    norm += c * row * (t.section === "perturbation" ? Math.max(1, Math.abs(strength)) : 1);
+  }
+  const substeps = norm * span / 2;
+  if (substeps > MAX_SUBSTEPS) {
+    throw new CaseError(
+      `‖H‖·(t_end − t_start) ≈ ${norm.toPrecision(3)} × ${span.toPrecision(3)} would need about ` +
+        `${substeps.toPrecision(2)} exact Taylor sub-steps`,
+      ["grid", "t_end"],
+      "shorten the window, or check the units: energies this large for this long are rarely meant",
+    );
+  }
 }
 
 function firstNonFinite(m: ComplexMatrix): string | undefined {

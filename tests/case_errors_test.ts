@@ -265,3 +265,11 @@ Deno.test("inspect refuses a space too large for the engine's memory, before bui
   assertEqual(code, 2, stderr);
   assert(stderr.includes("32-bit WebAssembly memory") && stderr.includes("shrink the space"), stderr);
 });
+
+Deno.test("inspect refuses a time-independent case whose exact propagation would run for hours", async () => {
+  await expectError([["t_end = 30", "t_end = 1e9"]], [
+    "grid.t_end",
+    "exact Taylor sub-steps",
+    "shorten the window",
+  ]);
+});
