@@ -38,29 +38,16 @@ import {
 
 export * from "./model.ts";
 
+/** A micro-kernel: Y[v] += α·A·X[v] for r vectors (addresses in wasm memory). */
+type Kernel = (a: number, d: number, x: number, y: number, r: number, ar: number, ai: number) => void;
+
 interface Exports {
   memory: WebAssembly.Memory;
   arenaReset(): void;
   arenaAlloc(bytes: number): number;
   useSimd(on: number): void;
-  zgemvRef(
-    a: number,
-    d: number,
-    x: number,
-    y: number,
-    r: number,
-    ar: number,
-    ai: number,
-  ): void;
-  zgemvSimd(
-    a: number,
-    d: number,
-    x: number,
-    y: number,
-    r: number,
-    ar: number,
-    ai: number,
-  ): void;
+  zgemvRef: Kernel;
+  zgemvSimd: Kernel;
   peakLoop(iterations: number, x0: number, dy: number): number;
   eigh(a: number, n: number, w: number, z: number, work: number): number;
   init(

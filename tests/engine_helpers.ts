@@ -7,7 +7,7 @@
 
 import { buildCase, type BuildOptions, type BuiltCase } from "../cli/build_model.ts";
 import { parseCase } from "../cli/parse_case.ts";
-import { type Result, solve } from "../engine/mod.ts";
+import { type Model, type Result, solve } from "../engine/mod.ts";
 import { testEngine } from "./helpers.ts";
 
 /** Builds and solves case text. */
@@ -84,4 +84,28 @@ samples = ${opts.samples ?? 11}
 [series]
 order = ${opts.order ?? 4}
 `;
+}
+
+/** A time-independent model straight from matrices (interleaved, row-major): H0, V, ψ0 on [0, t]. */
+export function constantModel(
+  h0: Float64Array,
+  v: Float64Array,
+  initial: Float64Array,
+  t: number,
+  samples: number,
+  order: number,
+): Model {
+  const one = { kind: "constant", re: 1, im: 0 } as const;
+  return {
+    dim: initial.length / 2,
+    unperturbed: [{ matrix: h0, coefficient: one }],
+    perturbation: [{ matrix: v, coefficient: one }],
+    strength: 1,
+    initial,
+    tStart: 0,
+    tEnd: t,
+    steps: 1,
+    samples,
+    order,
+  };
 }

@@ -2,7 +2,14 @@
 import { assert } from "./assert.ts";
 import { assertClose, testEngine } from "./helpers.ts";
 import { solve } from "../engine/mod.ts";
-import { maxDifference, partialSum, population, solveText, twoLevel } from "./engine_helpers.ts";
+import {
+  constantModel,
+  maxDifference,
+  partialSum,
+  population,
+  solveText,
+  twoLevel,
+} from "./engine_helpers.ts";
 
 // --- constant coupling switched on at t = 0 ---------------------------------
 // First-order transition probability P⁽¹⁾(t) = 4|V|² sin²(ωt/2)/ω² (the sinc²
@@ -59,27 +66,19 @@ Deno.test("first order of a constant coupling is the sinc² form through the tim
 Deno.test("the first-order peak grows as t² and narrows as 1/t, carrying weight 2π|V|²t (golden-rule limit)", async () => {
   const g = 0.01;
   const engine = await testEngine();
-  const one = { kind: "constant", re: 1, im: 0 } as const;
   // Straight through the library API: H0 = δ|e⟩⟨e|, V = g σx, from |g⟩, first order at time t.
   const p1 = (delta: number, t: number) => {
-    const result = solve(engine, {
-      dim: 2,
-      unperturbed: [{
-        matrix: new Float64Array([0, 0, 0, 0, 0, 0, delta, 0]),
-        coefficient: one,
-      }],
-      perturbation: [{
-        matrix: new Float64Array([0, 0, g, 0, g, 0, 0, 0]),
-        coefficient: one,
-      }],
-      strength: 1,
-      initial: new Float64Array([1, 0, 0, 0]),
-      tStart: 0,
-      tEnd: t,
-      steps: 1,
-      samples: 2,
-      order: 1,
-    });
+    const result = solve(
+      engine,
+      constantModel(
+        new Float64Array([0, 0, 0, 0, 0, 0, delta, 0]),
+        new Float64Array([0, 0, g, 0, g, 0, 0, 0]),
+        new Float64Array([1, 0, 0, 0]),
+        t,
+        2,
+        1,
+      ),
+    );
     return population(result.terms[1]!, 2, 1, 1);
   };
   for (const t of [50, 100, 200]) {

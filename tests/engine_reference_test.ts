@@ -5,6 +5,7 @@ import { all, type Complex as MathComplex, create, type Matrix } from "mathjs";
 import { assert } from "./assert.ts";
 import { assertClose, randomHermitian, seeded, testEngine } from "./helpers.ts";
 import { eigh, solve } from "../engine/mod.ts";
+import { constantModel } from "./engine_helpers.ts";
 
 const math = create(all!);
 const one = { kind: "constant", re: 1, im: 0 } as const;
@@ -35,18 +36,7 @@ Deno.test("time-independent d=5: Σψn matches mathjs expm(−iHt)ψ0 and each �
   const psi0 = new Float64Array(2 * d);
   psi0[0] = 0.6;
   psi0[3] = 0.8; // 0.6|0⟩ + 0.8i|1⟩
-  const result = solve(engine, {
-    dim: d,
-    unperturbed: [{ matrix: h0, coefficient: one }],
-    perturbation: [{ matrix: v, coefficient: one }],
-    strength: 1,
-    initial: psi0,
-    tStart: 0,
-    tEnd: t,
-    steps: 1,
-    samples: 2,
-    order,
-  });
+  const result = solve(engine, constantModel(h0, v, psi0, t, 2, order));
   assert(result.scheme === "time-independent");
   // Exact: expm(−iHt)ψ0 with H = H0 + V.
   const H = math.add(toMath(h0, d), toMath(v, d)) as Matrix;
@@ -132,18 +122,7 @@ Deno.test("time-independent d=5 with ‖V‖t small: Σψn to order 12 matches m
   const v = randomHermitian(d, random, 0.05); // x = ‖V‖t ≲ 0.3: tail after order 12 < 0.3¹³/13! ≈ 3e-17
   const psi0 = new Float64Array(2 * d);
   psi0[4] = 1;
-  const result = solve(engine, {
-    dim: d,
-    unperturbed: [{ matrix: h0, coefficient: one }],
-    perturbation: [{ matrix: v, coefficient: one }],
-    strength: 1,
-    initial: psi0,
-    tStart: 0,
-    tEnd: t,
-    steps: 1,
-    samples: 3,
-    order: 12,
-  });
+  const result = solve(engine, constantModel(h0, v, psi0, t, 3, 12));
   const H = math.add(toMath(h0, d), toMath(v, d)) as Matrix;
   for (const k of [1, 2]) {
     const U = math.expm(
