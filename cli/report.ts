@@ -26,6 +26,9 @@ interface ResultJson {
   };
 }
 
+/** Targets beyond this many are left out of the plots (not of the data files). */
+const MAX_PLOTTED_TARGETS = 12;
+
 /** One line of provenance. */
 export function provenance(outcome: RunOutcome): string {
   const { built, result } = outcome;
@@ -131,7 +134,13 @@ export async function writeReport(outcome: RunOutcome, dir: string): Promise<str
   );
   Deno.writeTextFileSync(files[1]!, populationsCsv(outcome, json));
   const sections: string[] = [];
-  for (const label of json.labels) {
+  const plotted = json.labels.slice(0, MAX_PLOTTED_TARGETS);
+  if (plotted.length < json.labels.length) {
+    sections.push(
+      `<p>Plots for the first ${MAX_PLOTTED_TARGETS} of ${json.labels.length} targets; the rest are in result.json and populations.csv (choose targets with --targets).</p>`,
+    );
+  }
+  for (const label of plotted) {
     const svgs = await targetPlots(outcome, json, label);
     sections.push(
       `<h2>target ${escapeHtml(label)}</h2>\n${svgs.map((s) => `<figure>${s}</figure>`).join("\n")}`,

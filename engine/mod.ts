@@ -120,11 +120,19 @@ export async function loadEngine(wasm?: BufferSource): Promise<Engine> {
 async function readWasm(): Promise<Uint8Array<ArrayBuffer>> {
   const url = new URL("./ordo.wasm", import.meta.url);
   try {
-    return await Deno.readFile(url);
+    // deno-lint-ignore no-explicit-any
+    const deno = (globalThis as any).Deno;
+    if (deno) return await deno.readFile(url);
+    if (url.protocol === "file:") {
+      // Node: read from disk (its fetch does not take file: URLs).
+      const { readFile } = await import("node:fs/promises");
+      return new Uint8Array(await readFile(url));
+    }
+    const response = await fetch(url); // browsers
+    if (!response.ok) throw new Error(`${response.status}`);
+    return new Uint8Array(await response.arrayBuffer());
   } catch {
-    throw new EngineError(
-      `the engine is not built (${url.pathname} is missing): run \`deno task build\``,
-    );
+    throw new EngineError(`the engine is not built (${url.href} cannot be read): run \`deno task build\``);
   }
 }
 
