@@ -151,3 +151,20 @@ Deno.test("run flags override the case: --order, --steps, --set, --targets, --at
   ]);
   assertEqual(steps.method.steps, 400);
 });
+
+// The tail of the Dyson series obeys ‖Σ_{m>n} ψm‖ ≤ e^x − Σ_{m≤n} xᵐ/m!, x = ∫‖λV‖dt (each term is bounded by
+// xⁿ/n!, a standard estimate of the time-ordered exponential), so a population error never exceeds ε(2+ε).
+Deno.test("every example's population errors stay under the a-priori bound at every order", async () => {
+  for (const file of CASES) {
+    const r = await runJson([file]);
+    for (const t of r.analysis.targets) {
+      for (const o of t.orders) {
+        // allowance: the discretisation error of the shared grid, far below every bound here
+        assert(
+          o.error <= o.bound + 1e-9,
+          `${file} ${t.label} order ${o.order}: error ${o.error} > bound ${o.bound}`,
+        );
+      }
+    }
+  }
+});
