@@ -7,7 +7,7 @@
  */
 
 import { join } from "node:path";
-import { UsageError } from "./case_error.ts";
+import { CaseError, UsageError } from "./case_error.ts";
 import type { BuildOptions } from "./build_model.ts";
 import { readCase } from "./parse_case.ts";
 import { type Axis, buildGrid, type Grid, pointValues, shardPoints, STRENGTH } from "./sweep_grid.ts";
@@ -107,7 +107,9 @@ export async function evaluatePool(
         } else {
           const job = points.find((p) => p.index === msg.index);
           const where = job ? ` (at ${setup.axes.map((a, j) => `${a} = ${job.values[j]}`).join(", ")})` : "";
-          stop(new UsageError(`${msg.message}${where}`));
+          // The point goes on the first line, before the report's "fix:" line.
+          const [first, ...more] = String(msg.message).split("\n");
+          stop(new UsageError([`${first}${where}`, ...more].join("\n")));
         }
       };
       w.onerror = (e) => {
@@ -192,7 +194,15 @@ export async function runSweep(
     axes: grid.axes.map((a) => a.name),
   };
   const evaluator = new PointEvaluator(await loadEngine(), setup);
-  evaluator.build(pointValues(grid, 0)); // fail early on the first point, with the case's own message
+  // Fail early on the first point, with the case's own message and the point's values.
+  try {
+    evaluator.build(pointValues(grid, 0));
+  } catch (e) {
+    if (e instanceof CaseError) {
+      e.message += ` (at ${setup.axes.map((a, j) => `${a} = ${pointValues(grid, 0)[j]}`).join(", ")})`;
+    }
+    throw e;
+  }
   const header = csvHeader(setup.axes, evaluator.base.targets, evaluator.base.model.order);
   const manifest = manifestOf(source.sha256, grid, options.build, evaluator);
 
