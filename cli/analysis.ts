@@ -91,7 +91,7 @@ function stateNorm(states: Float64Array, d: number, k: number): number {
  * @param result the engine's result
  * @param labels the basis labels
  * @param targets the labels to report
- * @param normIntegral x = ∫‖λV‖dt up to the end of the window (the bound uses x scaled to the time)
+ * @param normIntegral x = ∫‖λV‖dt from the start up to the reported time
  * @param tolerance absolute tolerance on populations
  * @param sample which recorded time (default: the last)
  * @returns the table and verdict
@@ -108,7 +108,6 @@ export function analyse(
   const k = sample;
   const orders = result.terms.length;
   const termNorms = result.terms.map((t) => stateNorm(t, d, k));
-  // x over the whole window bounds every earlier time too.
   const x = normIntegral;
 
   let referenceError = 0;

@@ -29,8 +29,12 @@ export interface Inspection {
   coefRate: number;
   /** Largest ‖λV(t)‖₂ bound over the window. */
   vMax: number;
-  /** x = ∫‖λV(s)‖ds (an upper bound from the triangle inequality over terms). */
+  /** x = ∫‖λV(s)‖ds over the window (an upper bound from the triangle inequality over terms). */
   normIntegral: number;
+  /** The same integral from t_start to each of `normTimes` (for the bound at earlier times). */
+  normCumulative: Float64Array;
+  /** The times of `normCumulative`, evenly spaced over the window. */
+  normTimes: Float64Array;
   /** Integrator steps the run will take and its step size. */
   steps: number;
   stepSize: number;
@@ -137,6 +141,7 @@ export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
   const points = Math.min(200_001, Math.max(4001, 4 * model.steps + 1));
   const span = model.tEnd - model.tStart;
   let integral = 0, vMax = 0, coefRate = 0;
+  const normTimes = new Float64Array(points), normCumulative = new Float64Array(points);
   let previous = 0;
   const allCoefTerms = built.terms;
   const rateMax = new Float64Array(allCoefTerms.length),
@@ -165,6 +170,8 @@ export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
     norm *= Math.abs(model.strength);
     vMax = Math.max(vMax, norm);
     if (k > 0) integral += 0.5 * (norm + previous) * span / (points - 1);
+    normTimes[k] = t;
+    normCumulative[k] = integral;
     previous = norm;
   }
   allCoefTerms.forEach((_t, j) => {
@@ -189,6 +196,8 @@ export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
     coefRate,
     vMax,
     normIntegral: integral,
+    normCumulative,
+    normTimes,
     steps,
     stepSize: timeIndependent ? span / (model.samples - 1) : span / steps,
     suggestedSteps: timeIndependent ? 0 : Math.ceil(span * fastest / PHASE_PER_STEP),
@@ -304,4 +313,15 @@ export function formatInspection(built: BuiltCase, info: Inspection): string {
   );
   for (const w of built.warnings) lines.push(`  warning    ${w}`);
   return lines.join("\n");
+}
+
+/** x = ∫‖λV‖ds from t_start to t, interpolated from the inspection's cumulative integral. */
+export function normIntegralAt(info: Inspection, t: number): number {
+  const { normTimes: ts, normCumulative: xs } = info;
+  if (t >= ts[ts.length - 1]!) return xs[xs.length - 1]!;
+  if (t <= ts[0]!) return 0;
+  const step = (ts[ts.length - 1]! - ts[0]!) / (ts.length - 1);
+  const k = Math.min(ts.length - 2, Math.floor((t - ts[0]!) / step));
+  // x grows monotonically; take the larger neighbour so the bound stays a bound
+  return xs[k + 1]!;
 }

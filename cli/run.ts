@@ -7,7 +7,7 @@
 
 import { analyse, type Analysis } from "./analysis.ts";
 import type { BuiltCase } from "./build_model.ts";
-import { inspectCase, type Inspection } from "./inspect.ts";
+import { inspectCase, type Inspection, normIntegralAt } from "./inspect.ts";
 import { type Engine, populationsAt, type Result, solve } from "../engine/mod.ts";
 import { VERSION } from "./version.ts";
 
@@ -43,14 +43,9 @@ export function runCase(
       if (Math.abs(t - at) < best) [best, sample] = [Math.abs(t - at), k];
     });
   }
-  const analysis = analyse(
-    result,
-    built.space.labels,
-    built.targets,
-    info.normIntegral,
-    built.tolerance,
-    sample,
-  );
+  // The tail bound at the reported time uses x = ∫‖λV‖ds up to that time.
+  const x = normIntegralAt(info, result.times[sample]!);
+  const analysis = analyse(result, built.space.labels, built.targets, x, built.tolerance, sample);
   return { built, info, result, analysis };
 }
 
@@ -85,7 +80,7 @@ export function formatRun(
   out.push(
     `window  t = ${built.model.tStart} … ${built.model.tEnd}${tu}; reporting t = ${
       Number(analysis.time.toPrecision(6))
-    }${tu}; x = ∫‖λV‖dt ≤ ${num(info.normIntegral, 3)}`,
+    }${tu}; x = ∫‖λV‖dt ≤ ${num(normIntegralAt(info, analysis.time), 3)}`,
   );
   for (const target of analysis.targets) {
     out.push("");
