@@ -1,9 +1,12 @@
 // `ordo run`: the JSON contract on every example, the CSV and the report's
 // SVGs, and the verdict logic on constructed cases.
 import { XMLParser, XMLValidator } from "fast-xml-parser";
+import { all, type Complex, create, type Matrix } from "mathjs";
 import { assert, assertDeepEqual, assertEqual } from "./assert.ts";
 import { assertClose, runOrdo, tempCase } from "./helpers.ts";
 import { twoLevel } from "./engine_helpers.ts";
+
+const math = create(all!);
 
 const CASES = [...Deno.readDirSync(new URL("../cases/", import.meta.url))].map((e) =>
   new URL(`../cases/${e.name}`, import.meta.url).pathname
@@ -94,18 +97,48 @@ Deno.test("run --out writes result.json, a tidy populations.csv that round-trips
 });
 
 Deno.test("the verdict finds the order needed and says first order is off by more than 10%", async () => {
+  // Expected values from outside the engine, for cases/two_level.toml (δ = 1, g = 0.05, t = 30, from g):
+  // exact P_e by the Rabi formula (4g²/Ω²) sin²(Ωt/2), first order by the sinc² form 4g² sin²(δt/2)/δ²,
+  // and the partial sums from the Van Loan block exponential computed with mathjs expm.
+  const [delta, g, t, tol] = [1, 0.05, 30, 1e-6];
+  const omega = Math.sqrt(delta * delta + 4 * g * g);
+  const exact = 4 * g * g / (omega * omega) * Math.sin(omega * t / 2) ** 2;
+  const firstOrder = 4 * g * g * Math.sin(delta * t / 2) ** 2 / (delta * delta);
+  const N = 6, D = 2 * (N + 1);
+  const A = math.zeros(D, D) as Matrix;
+  for (let b = 0; b <= N; b++) {
+    A.set([2 * b + 1, 2 * b + 1], delta);
+    if (b > 0) [A.set([2 * b, 2 * (b - 1) + 1], g), A.set([2 * b + 1, 2 * (b - 1)], g)];
+  }
+  const block = math.expm(math.multiply(math.complex(0, -t), A) as Matrix);
+  let re = 0, im = 0, expectedOrder: number | null = null;
+  for (let n = 0; n <= N; n++) {
+    const z = math.complex(block.get([2 * n + 1, 0]) as Complex);
+    [re, im] = [re + z.re, im + z.im];
+    if (expectedOrder === null && Math.abs(re * re + im * im - exact) <= tol) expectedOrder = n;
+  }
+
   const r = await runJson([new URL("../cases/two_level.toml", import.meta.url).pathname]);
   const e = r.analysis.targets[0];
   assertEqual(e.label, "e");
-  assert(e.first_order_relative_error > 0.1, `first order off by ${e.first_order_relative_error}`);
-  assertEqual(e.min_order, 5);
+  assertClose(e.exact, exact, { abs: 1e-12 }, "exact against the Rabi formula");
+  assertClose(
+    e.first_order_relative_error,
+    Math.abs(firstOrder - exact) / exact,
+    { rel: 1e-8 },
+    "first-order error",
+  );
+  assert(e.first_order_relative_error > 0.1);
+  assertEqual(e.min_order, expectedOrder, "smallest order within 1e-6, from the mathjs partial sums");
   const { stdout } = await runOrdo([
     "run",
     new URL("../cases/two_level.toml", import.meta.url).pathname,
     "--quiet",
   ]);
+  const pct = (100 * Math.abs(firstOrder - exact) / exact).toPrecision(3);
   assert(
-    stdout.includes("first order is OFF by 22.0%") && stdout.includes("order 5 meets the tolerance"),
+    stdout.includes(`first order is OFF by ${pct}%`) &&
+      stdout.includes(`order ${expectedOrder} meets the tolerance`),
     stdout,
   );
 });
