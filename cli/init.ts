@@ -30,6 +30,10 @@ export const EXAMPLES: Record<string, { file: string; about: string }> = {
     file: "kicked_oscillator.toml",
     about: "driven truncated oscillator",
   },
+  check: {
+    file: "weak_drive_check.toml",
+    about: "a sweep with [[approx]] formulas for `ordo check`",
+  },
 };
 
 /**

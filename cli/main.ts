@@ -31,6 +31,19 @@ commands:
                   --targets a,b       labels to report (overrides [series] targets)
                   --at t              report at the recorded time nearest to t
                   --quiet             no progress on stderr
+                  --out DIR           also write result.json, populations.csv, report.html
+  sweep CASE      a parameter sweep over the case's [sweep] grid: points.csv, report.html
+                  --out DIR           the sweep folder (required)
+                  --vary n=a:b:k[:log] sweep param n (or strength, λ) from a to b in k values
+                  --workers N         parallel workers (default: all cores)
+                  --resume            continue an interrupted sweep in DIR
+                  --shard k/n         run the k-th of n slices into its own file
+                  --set, --order, --steps, --targets, --quiet as for run
+  sweep --merge DIR                   combine shard files, checking every point is there once
+  sweep CASE --out DIR --emit-array SCRIPT --shards N
+                                      write a Slurm job-array script (bash SCRIPT submits it)
+  check CASE      the case's [[approx]] formulas against exact propagation: PASS/FAIL
+                  --vary, --workers, --set, --order, --steps, --quiet as for sweep
   inspect CASE    parse and validate: dimension, spectrum, Bohr frequencies, steps, memory
                   --set name=value    override a param (repeatable)
   init NAME       write a starter case NAME.toml

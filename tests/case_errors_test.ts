@@ -273,3 +273,24 @@ Deno.test("inspect refuses a time-independent case whose exact propagation would
     "shorten the window",
   ]);
 });
+
+Deno.test("init writes every built-in example, and each one inspects cleanly", async () => {
+  const dir = Deno.makeTempDirSync();
+  const names = Object.keys((await import("../cli/init.ts")).EXAMPLES);
+  assertEqual(
+    names.length,
+    [...Deno.readDirSync(new URL("../cases/", import.meta.url))].length,
+    "one example per case file",
+  );
+  for (const name of names) {
+    const written = await runOrdo(["init", `${dir}/${name}`, "--example", name]);
+    assertEqual(written.code, 0, written.stderr);
+    assertEqual((await runOrdo(["inspect", `${dir}/${name}.toml`])).code, 0, name);
+  }
+  assertEqual(
+    (await runOrdo(["init", `${dir}/two-level`, "--example", "two-level"])).code,
+    2,
+    "no overwrite without --force",
+  );
+  assertEqual((await runOrdo(["init", `${dir}/x`, "--example", "nonesuch"])).code, 2);
+});
