@@ -28,6 +28,7 @@ import {
 } from "./operators.ts";
 import { type CaseSource, withLocation } from "./parse_case.ts";
 import { resolveUnits, type UnitConvention } from "./units.ts";
+import { STRENGTH } from "./sweep_grid.ts";
 import {
   type Coefficient,
   estimateMemory,
@@ -80,6 +81,7 @@ const RESERVED = new Set([
   "t",
   "row",
   "col",
+  STRENGTH, // λ, sweepable by this name
   ...BUILTIN_NAMES,
   ...OPERATOR_FUNCTIONS,
 ]);

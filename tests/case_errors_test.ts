@@ -294,3 +294,12 @@ Deno.test("init writes every built-in example, and each one inspects cleanly", a
   );
   assertEqual((await runOrdo(["init", `${dir}/x`, "--example", "nonesuch"])).code, 2);
 });
+
+Deno.test("inspect rejects a param named like a built-in (t, strength, a function)", async () => {
+  for (const name of ["t", "strength", "cos", "num"]) {
+    await expectError([["g = 0.05", `g = 0.05\n${name} = 1`]], [
+      `params.${name}`,
+      `"${name}" is a built-in name`,
+    ]);
+  }
+});
