@@ -262,9 +262,11 @@ export async function runSweep(
       );
     }
   };
+  // Ctrl-C stops the workers cleanly; the λ-only path runs on this thread, so there the default
+  // handler (ending the process) stays: every finished row is on disk either way.
   const controller = new AbortController();
   const onSignal = () => controller.abort();
-  Deno.addSignalListener("SIGINT", onSignal);
+  if (!reusedSeries) Deno.addSignalListener("SIGINT", onSignal);
   try {
     if (reusedSeries) {
       if (!options.quiet) {
@@ -277,7 +279,7 @@ export async function runSweep(
       await evaluatePool(setup, jobs, options.workers, onResult, controller.signal);
     }
   } finally {
-    Deno.removeSignalListener("SIGINT", onSignal);
+    if (!reusedSeries) Deno.removeSignalListener("SIGINT", onSignal);
     bar?.stop();
     file_.close();
   }
