@@ -49,11 +49,6 @@ export class ComplexMatrix {
     this.data[k + 1] = im;
   }
 
-  /** True when the matrix is square. */
-  get isSquare(): boolean {
-    return this.rows === this.cols;
-  }
-
   /** A copy. */
   clone(): ComplexMatrix {
     return new ComplexMatrix(this.rows, this.cols, this.data.slice());
@@ -166,12 +161,5 @@ export class ComplexMatrix {
       m = Math.max(m, Math.hypot(this.data[k]!, this.data[k + 1]!));
     }
     return m;
-  }
-
-  /** Frobenius norm. */
-  frobenius(): number {
-    let s = 0;
-    for (const x of this.data) s += x * x;
-    return Math.sqrt(s);
   }
 }
