@@ -8,15 +8,15 @@
  */
 
 import { parseArgs, type ParseArgsConfig } from "node:util";
-import { CaseError, UsageError } from "./case_error.ts";
-import { buildCase, type BuildOptions } from "./build_model.ts";
-import { readCase } from "./parse_case.ts";
-import { formatInspection, inspectCase } from "./inspect.ts";
-import { EXAMPLES, initCase } from "./init.ts";
-import { formatRun, runCase, runJson } from "./run.ts";
+import { CaseError, UsageError } from "./case/errors.ts";
+import { buildCase, type BuildOptions } from "./case/build.ts";
+import { readCase } from "./case/parse.ts";
+import { formatInspection, inspectCase } from "./analysis/inspection.ts";
+import { EXAMPLES, initCase } from "./commands/init.ts";
+import { formatRun, runCase, runJson } from "./analysis/outcome.ts";
 import { EngineError, loadEngine } from "../engine/mod.ts";
-import { VERSION } from "./version.ts";
-import { progressBar } from "./progress.ts";
+import { VERSION } from "./base/version.ts";
+import { progressBar } from "./report/progress.ts";
 
 const HELP = `ordo ${VERSION}: how far is each Dyson order from the exact evolution?
 
@@ -123,8 +123,8 @@ async function sweepCommand(rest: string[]): Promise<number> {
     targets: { type: "string" },
     quiet: { type: "boolean" },
   });
-  const { emitArrayScript, Interrupted, mergeShards, runSweep } = await import("./sweep.ts");
-  const { parseShard, parseVary } = await import("./sweep_grid.ts");
+  const { emitArrayScript, Interrupted, mergeShards, runSweep } = await import("./sweep/pool.ts");
+  const { parseShard, parseVary } = await import("./sweep/grid.ts");
   if (values.merge !== undefined) {
     const n = await mergeShards(String(values.merge));
     console.log(`merged ${n} points into ${values.merge}/points.csv (report: ${values.merge}/report.html)`);
@@ -189,8 +189,8 @@ async function checkCommand(rest: string[]): Promise<number> {
     set: { type: "string", multiple: true },
     quiet: { type: "boolean" },
   });
-  const { runCheck, formatCheck } = await import("./check.ts");
-  const { parseVary } = await import("./sweep_grid.ts");
+  const { runCheck, formatCheck } = await import("./commands/check.ts");
+  const { parseVary } = await import("./sweep/grid.ts");
   const report = await runCheck(oneCase(positionals, "check"), {
     workers: integerFlag(values.workers, "--workers") ?? navigator.hardwareConcurrency,
     vary: ((values.vary as string[] | undefined) ?? []).map(parseVary),
@@ -242,7 +242,7 @@ async function main(argv: string[]): Promise<number> {
       if (values.json) console.log(JSON.stringify(runJson(outcome)));
       else console.log(formatRun(outcome));
       if (values.out) {
-        const { writeReport } = await import("./report.ts");
+        const { writeReport } = await import("./report/run_report.ts");
         const files = await writeReport(outcome, String(values.out));
         console.error(`ordo: wrote ${files.join(", ")}`);
       }
@@ -281,7 +281,7 @@ async function main(argv: string[]): Promise<number> {
       return 0;
     }
     case "bench": {
-      const { runBench } = await import("./bench.ts");
+      const { runBench } = await import("./commands/bench.ts");
       await runBench();
       return 0;
     }

@@ -276,7 +276,7 @@ Deno.test("inspect refuses a time-independent case whose exact propagation would
 
 Deno.test("init writes every built-in example, and each one inspects cleanly", async () => {
   const dir = Deno.makeTempDirSync();
-  const names = Object.keys((await import("../cli/init.ts")).EXAMPLES);
+  const names = Object.keys((await import("../cli/commands/init.ts")).EXAMPLES);
   assertEqual(
     names.length,
     [...Deno.readDirSync(new URL("../cases/", import.meta.url))].length,

@@ -5,8 +5,8 @@
  * @module
  */
 
-import { buildCase, type BuildOptions, type BuiltCase } from "../cli/build_model.ts";
-import { parseCase } from "../cli/parse_case.ts";
+import { buildCase, type BuildOptions, type BuiltCase } from "../cli/case/build.ts";
+import { parseCase } from "../cli/case/parse.ts";
 import { type Model, type Result, solve } from "../engine/mod.ts";
 import { testEngine } from "./helpers.ts";
 

@@ -4,9 +4,9 @@
 import { all, create } from "mathjs";
 import { assert, assertThrows } from "./assert.ts";
 import { assertClose } from "./helpers.ts";
-import { compileExpression, type Scope } from "../cli/expression.ts";
-import { CaseError } from "../cli/case_error.ts";
-import { chirp, flattop, gauss, sinsq } from "../cli/pulses.ts";
+import { compileExpression, type Scope } from "../cli/case/expression.ts";
+import { CaseError } from "../cli/case/errors.ts";
+import { chirp, flattop, gauss, sinsq } from "../cli/case/pulses.ts";
 
 const reference = create(all!);
 const params = new Map<string, number | { re: number; im: number }>([

@@ -8,7 +8,7 @@
 import { AssertionError } from "node:assert/strict";
 import { cli } from "../cli/main.ts";
 import { type Engine, loadEngine } from "../engine/mod.ts";
-export { seeded } from "../cli/seeded.ts";
+export { seeded } from "../cli/base/seeded.ts";
 
 /** Fails unless |actual − expected| ≤ abs + rel·|expected|. */
 export function assertClose(

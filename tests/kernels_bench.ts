@@ -1,7 +1,7 @@
 // Micro-benchmarks in the house style (`deno bench -A tests/`): the SIMD kernel against its scalar
 // reference, per problem size. `ordo bench` is the full suite with in-run ratios and targets.
 import { loadEngine } from "../engine/mod.ts";
-import { seeded } from "../cli/seeded.ts";
+import { seeded } from "../cli/base/seeded.ts";
 
 const engine = await loadEngine();
 const e = engine.exports;

@@ -4,9 +4,9 @@
 import { all, create } from "mathjs";
 import { assert, assertEqual, assertThrows } from "./assert.ts";
 import { assertClose } from "./helpers.ts";
-import { evaluateOperator, productSpace, spinLabels, type Subsystem } from "../cli/operators.ts";
-import { ComplexMatrix } from "../cli/complex_matrix.ts";
-import { CaseError } from "../cli/case_error.ts";
+import { evaluateOperator, productSpace, spinLabels, type Subsystem } from "../cli/case/operators.ts";
+import { ComplexMatrix } from "../cli/case/complex_matrix.ts";
+import { CaseError } from "../cli/case/errors.ts";
 
 const math = create(all!);
 const noParams = { params: new Map(), allowTime: false };

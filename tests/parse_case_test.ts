@@ -5,9 +5,9 @@ import fc from "fast-check";
 import { stringify } from "smol-toml";
 import { assert, assertDeepEqual, assertEqual } from "./assert.ts";
 import { assertClose } from "./helpers.ts";
-import { parseCase, readCase } from "../cli/parse_case.ts";
-import { buildCase } from "../cli/build_model.ts";
-import { CaseError } from "../cli/case_error.ts";
+import { parseCase, readCase } from "../cli/case/parse.ts";
+import { buildCase } from "../cli/case/build.ts";
+import { CaseError } from "../cli/case/errors.ts";
 
 /** A finite double without −0 (JSON cannot carry −0). */
 const real = (min: number, max: number) => fc.double({ min, max, noNaN: true }).map((x) => x + 0);

@@ -3,9 +3,9 @@
 import { assert, assertDeepEqual, assertEqual, assertThrows } from "./assert.ts";
 import { assertClose, runOrdo, tempCase } from "./helpers.ts";
 import { twoLevel } from "./engine_helpers.ts";
-import { axisValues, buildGrid, parseVary, pointValues, shardPoints } from "../cli/sweep_grid.ts";
-import { parseCase } from "../cli/parse_case.ts";
-import { CaseError, UsageError } from "../cli/case_error.ts";
+import { axisValues, buildGrid, parseVary, pointValues, shardPoints } from "../cli/sweep/grid.ts";
+import { parseCase } from "../cli/case/parse.ts";
+import { CaseError, UsageError } from "../cli/case/errors.ts";
 
 const MAIN = new URL("../cli/main.ts", import.meta.url).pathname;
 

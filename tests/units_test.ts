@@ -5,8 +5,8 @@
 // SI value, so eV checks allow 1e-7 relative.
 import { assertThrows } from "./assert.ts";
 import { assertClose } from "./helpers.ts";
-import { resolveUnits } from "../cli/units.ts";
-import { CaseError } from "../cli/case_error.ts";
+import { resolveUnits } from "../cli/case/units.ts";
+import { CaseError } from "../cli/case/errors.ts";
 
 Deno.test("resolveUnits() converts cyclic frequencies with their 2π", () => {
   assertClose(

@@ -11,7 +11,7 @@
  */
 
 import { all, create, type MathNode } from "mathjs";
-import { CaseError, type KeyPath } from "./case_error.ts";
+import { CaseError, type KeyPath } from "./errors.ts";
 import type { Complex } from "./complex_matrix.ts";
 import { PULSES } from "./pulses.ts";
 

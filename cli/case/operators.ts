@@ -18,7 +18,7 @@
  */
 
 import type { MathNode } from "mathjs";
-import { CaseError, type KeyPath } from "./case_error.ts";
+import { CaseError, type KeyPath } from "./errors.ts";
 import { type Complex, ComplexMatrix } from "./complex_matrix.ts";
 import { compileNode, parseExpression, type Scope, toComplex } from "./expression.ts";
 

@@ -7,8 +7,8 @@
 
 import { createHash } from "node:crypto";
 import { parse as parseToml, TomlError } from "smol-toml";
-import { CaseError, type KeyPath } from "./case_error.ts";
-import { caseSchema, type CaseSpec, describeIssue } from "./case_schema.ts";
+import { CaseError, type KeyPath } from "./errors.ts";
+import { caseSchema, type CaseSpec, describeIssue } from "./schema.ts";
 
 /** A case as read from disk. */
 export interface CaseSource {
@@ -34,7 +34,7 @@ export interface CaseSource {
  * @example
  * ```ts
  * import { ok as assert } from "node:assert/strict";
- * import { parseCase } from "./parse_case.ts";
+ * import { parseCase } from "./parse.ts";
  * const c = parseCase(`
  * [unperturbed]
  * matrix = [[0, 0], [0, 1]]

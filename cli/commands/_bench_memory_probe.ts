@@ -4,7 +4,7 @@
  *
  * @module
  */
-import { loadEngine } from "../engine/mod.ts";
+import { loadEngine } from "../../engine/mod.ts";
 import { memoryProbe } from "./bench.ts";
 
 memoryProbe(await loadEngine());

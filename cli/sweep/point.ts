@@ -7,13 +7,13 @@
  * @module
  */
 
-import { analyse } from "./analysis.ts";
-import { buildCase, type BuildOptions, type BuiltCase } from "./build_model.ts";
-import { parseCase, withLocation } from "./parse_case.ts";
-import { CaseError } from "./case_error.ts";
-import { compileExpression } from "./expression.ts";
-import { STRENGTH } from "./sweep_grid.ts";
-import { type Engine, populationsAt, type Result, solve } from "../engine/mod.ts";
+import { analyse } from "../analysis/verdict.ts";
+import { buildCase, type BuildOptions, type BuiltCase } from "../case/build.ts";
+import { parseCase, withLocation } from "../case/parse.ts";
+import { CaseError } from "../case/errors.ts";
+import { compileExpression } from "../case/expression.ts";
+import { STRENGTH } from "./grid.ts";
+import { type Engine, populationsAt, type Result, solve } from "../../engine/mod.ts";
 
 /** What every point shares. */
 export interface SweepSetup {

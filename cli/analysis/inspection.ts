@@ -7,10 +7,10 @@
  * @module
  */
 
-import type { AssembledTerm, BuiltCase } from "./build_model.ts";
-import { ComplexMatrix } from "./complex_matrix.ts";
-import { toComplex } from "./expression.ts";
-import { eigh, type Engine, estimateMemory, schemeFor, stepsPerSample } from "../engine/mod.ts";
+import type { AssembledTerm, BuiltCase } from "../case/build.ts";
+import { ComplexMatrix } from "../case/complex_matrix.ts";
+import { toComplex } from "../case/expression.ts";
+import { eigh, type Engine, estimateMemory, schemeFor, stepsPerSample } from "../../engine/mod.ts";
 
 /** Phase per step (largest Bohr frequency × h) that the 4th-order scheme handles to about 1e-8 per unit time. */
 export const PHASE_PER_STEP = 0.25;

@@ -7,14 +7,14 @@
  * @module
  */
 
-import { CaseError } from "./case_error.ts";
-import type { BuildOptions } from "./build_model.ts";
-import { readCase, withLocation } from "./parse_case.ts";
-import { type Axis, buildGrid, type Grid, pointValues, STRENGTH } from "./sweep_grid.ts";
-import { PointEvaluator, type PointResult, type SweepSetup } from "./sweep_point.ts";
-import { evaluatePool } from "./sweep.ts";
-import { loadEngine } from "../engine/mod.ts";
-import { progressBar } from "./progress.ts";
+import { CaseError } from "../case/errors.ts";
+import type { BuildOptions } from "../case/build.ts";
+import { readCase, withLocation } from "../case/parse.ts";
+import { type Axis, buildGrid, type Grid, pointValues, STRENGTH } from "../sweep/grid.ts";
+import { PointEvaluator, type PointResult, type SweepSetup } from "../sweep/point.ts";
+import { evaluatePool } from "../sweep/pool.ts";
+import { loadEngine } from "../../engine/mod.ts";
+import { progressBar } from "../report/progress.ts";
 
 /** Options of `ordo check`. */
 export interface CheckOptions {

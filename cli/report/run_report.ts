@@ -9,8 +9,8 @@
 
 import { join } from "node:path";
 import { lineSvg, type Point } from "./plots.ts";
-import { formatRun, runJson, type RunOutcome } from "./run.ts";
-import { VERSION } from "./version.ts";
+import { formatRun, runJson, type RunOutcome } from "../analysis/outcome.ts";
+import { VERSION } from "../base/version.ts";
 
 /** The JSON result's shape, as far as the report reads it. */
 interface ResultJson {

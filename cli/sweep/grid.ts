@@ -5,8 +5,8 @@
  * @module
  */
 
-import { CaseError, UsageError } from "./case_error.ts";
-import type { CaseSpec } from "./case_schema.ts";
+import { CaseError, UsageError } from "../case/errors.ts";
+import type { CaseSpec } from "../case/schema.ts";
 
 /** The name that sweeps the bookkeeping strength λ rather than a param. */
 export const STRENGTH = "strength";

@@ -8,7 +8,7 @@
  * @module
  */
 
-import type { Result } from "../engine/mod.ts";
+import type { Result } from "../../engine/mod.ts";
 
 /** One row of the order table for one target. */
 export interface OrderRow {

@@ -10,7 +10,7 @@
  */
 
 import { all, create, type Unit } from "mathjs";
-import { CaseError } from "./case_error.ts";
+import { CaseError } from "./errors.ts";
 
 const math = create(all!);
 /** Physical constants as mathjs carries them (CODATA values, with units). */

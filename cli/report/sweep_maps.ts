@@ -10,8 +10,8 @@ import { join } from "node:path";
 import * as vega from "vega";
 import { compile, type TopLevelSpec } from "vega-lite";
 import { lineSvg, palette, type Point } from "./plots.ts";
-import type { Grid } from "./sweep_grid.ts";
-import { VERSION } from "./version.ts";
+import type { Grid } from "../sweep/grid.ts";
+import { VERSION } from "../base/version.ts";
 
 /** What the report needs to know of the sweep besides its rows. */
 export interface SweepInfo {

@@ -7,10 +7,10 @@
  */
 
 import { join } from "node:path";
-import { CaseError, UsageError } from "./case_error.ts";
-import type { BuildOptions } from "./build_model.ts";
-import { readCase } from "./parse_case.ts";
-import { type Axis, buildGrid, type Grid, pointValues, shardPoints, STRENGTH } from "./sweep_grid.ts";
+import { CaseError, UsageError } from "../case/errors.ts";
+import type { BuildOptions } from "../case/build.ts";
+import { readCase } from "../case/parse.ts";
+import { type Axis, buildGrid, type Grid, pointValues, shardPoints, STRENGTH } from "./grid.ts";
 import {
   csvHeader,
   csvRow,
@@ -18,10 +18,10 @@ import {
   type PointResult,
   rowKey,
   type SweepSetup,
-} from "./sweep_point.ts";
-import { loadEngine } from "../engine/mod.ts";
-import { progressBar } from "./progress.ts";
-import { VERSION } from "./version.ts";
+} from "./point.ts";
+import { loadEngine } from "../../engine/mod.ts";
+import { progressBar } from "../report/progress.ts";
+import { VERSION } from "../base/version.ts";
 
 /** What `ordo sweep` was asked to do. */
 export interface SweepOptions {
@@ -92,7 +92,7 @@ export async function evaluatePool(
       w.postMessage({ kind: "point", index: job.index, values: job.values });
     };
     for (let i = 0; i < count; i++) {
-      const w = new Worker(new URL("./sweep_worker.ts", import.meta.url).href, { type: "module" });
+      const w = new Worker(new URL("./worker.ts", import.meta.url).href, { type: "module" });
       pool.push(w);
       w.onmessage = (event: MessageEvent) => {
         const msg = event.data;
@@ -286,7 +286,7 @@ export async function runSweep(
   const seconds = (performance.now() - started) / 1000;
   writeSorted(csvPath, header, rows, grid);
   if (!options.shard) {
-    const { writeSweepReport } = await import("./sweep_report.ts");
+    const { writeSweepReport } = await import("../report/sweep_maps.ts");
     await writeSweepReport(options.out, grid, manifest, rows);
   }
   return { written: finished, skipped: rowsOnDisk.length, total: indices.length, seconds, reusedSeries };
@@ -355,7 +355,7 @@ export async function mergeShards(dir: string): Promise<number> {
   }
   const rows = [...seen.values()];
   writeSorted(join(dir, "points.csv"), header!, rows, grid);
-  const { writeSweepReport } = await import("./sweep_report.ts");
+  const { writeSweepReport } = await import("../report/sweep_maps.ts");
   await writeSweepReport(dir, grid, manifest, rows);
   return rows.length;
 }

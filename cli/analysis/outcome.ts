@@ -5,11 +5,11 @@
  * @module
  */
 
-import { analyse, type Analysis } from "./analysis.ts";
-import type { BuiltCase } from "./build_model.ts";
-import { inspectCase, type Inspection, normIntegralAt } from "./inspect.ts";
-import { type Engine, populationsAt, type Result, solve } from "../engine/mod.ts";
-import { VERSION } from "./version.ts";
+import { analyse, type Analysis } from "./verdict.ts";
+import type { BuiltCase } from "../case/build.ts";
+import { inspectCase, type Inspection, normIntegralAt } from "./inspection.ts";
+import { type Engine, populationsAt, type Result, solve } from "../../engine/mod.ts";
+import { VERSION } from "../base/version.ts";
 
 /** A finished run with its analysis. */
 export interface RunOutcome {

@@ -12,10 +12,10 @@
  * @module
  */
 
-import { type Engine, loadEngine, type Model, solve } from "../engine/mod.ts";
+import { type Engine, loadEngine, type Model, solve } from "../../engine/mod.ts";
 import { type BaselineModel, mathjsScheme } from "./_mathjs_scheme.ts";
-import { compileExpression } from "./expression.ts";
-import { seeded } from "./seeded.ts";
+import { compileExpression } from "../case/expression.ts";
+import { seeded } from "../base/seeded.ts";
 
 /** A random Hermitian matrix as [re, im] entries, entries of size `scale`. */
 function hermitian(d: number, random: () => number, scale: number): number[][][] {
@@ -217,7 +217,7 @@ export async function runBench(): Promise<void> {
 
   log("peak memory of a 10⁶-step d=8 run (subprocess)");
   const probe = await new Deno.Command(Deno.execPath(), {
-    args: ["run", "-A", new URL("./bench_memory_probe.ts", import.meta.url).pathname],
+    args: ["run", "-A", new URL("./_bench_memory_probe.ts", import.meta.url).pathname],
     stdout: "piped",
     stderr: "inherit",
   }).output();

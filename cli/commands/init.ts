@@ -5,7 +5,7 @@
  */
 
 import { parse as parseToml } from "smol-toml";
-import { UsageError } from "./case_error.ts";
+import { UsageError } from "../case/errors.ts";
 
 /** The built-in examples: name → file in cases/ and what it shows. */
 export const EXAMPLES: Record<string, { file: string; about: string }> = {
@@ -70,7 +70,7 @@ export function initCase(
     );
   }
   const text = Deno.readTextFileSync(
-    new URL(`../cases/${chosen.file}`, import.meta.url),
+    new URL(`../../cases/${chosen.file}`, import.meta.url),
   );
   Deno.writeTextFileSync(
     path,

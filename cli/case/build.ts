@@ -6,8 +6,8 @@
  * @module
  */
 
-import { CaseError, type KeyPath } from "./case_error.ts";
-import type { EntrySpec, MatrixSpec, SectionSpec, TermSpec } from "./case_schema.ts";
+import { CaseError, type KeyPath } from "./errors.ts";
+import type { EntrySpec, MatrixSpec, SectionSpec, TermSpec } from "./schema.ts";
 import { type Complex, ComplexMatrix } from "./complex_matrix.ts";
 import {
   BUILTIN_NAMES,
@@ -26,9 +26,9 @@ import {
   spinLabels,
   type Subsystem,
 } from "./operators.ts";
-import { type CaseSource, withLocation } from "./parse_case.ts";
+import { type CaseSource, withLocation } from "./parse.ts";
 import { resolveUnits, type UnitConvention } from "./units.ts";
-import { STRENGTH } from "./sweep_grid.ts";
+import { STRENGTH } from "../sweep/grid.ts";
 import {
   type Coefficient,
   estimateMemory,
@@ -36,7 +36,7 @@ import {
   type OperatorTerm,
   RECORD_LIMIT_BYTES,
   WASM_LIMIT_BYTES,
-} from "../engine/model.ts";
+} from "../../engine/model.ts";
 
 /** Command-line overrides of a case. */
 export interface BuildOptions {
@@ -97,8 +97,8 @@ const MAX_ORDER = 40;
  * @example
  * ```ts
  * import { ok as assert } from "node:assert/strict";
- * import { parseCase } from "./parse_case.ts";
- * import { buildCase } from "./build_model.ts";
+ * import { parseCase } from "./parse.ts";
+ * import { buildCase } from "./build.ts";
  * const text = `
  * [levels]
  * names = ["g", "e"]

@@ -8,9 +8,9 @@
  */
 /// <reference lib="deno.worker" />
 
-import { loadEngine } from "../engine/mod.ts";
-import { CaseError } from "./case_error.ts";
-import { PointEvaluator, type SweepSetup } from "./sweep_point.ts";
+import { loadEngine } from "../../engine/mod.ts";
+import { CaseError } from "../case/errors.ts";
+import { PointEvaluator, type SweepSetup } from "./point.ts";
 
 let evaluator: PointEvaluator | undefined;
 
