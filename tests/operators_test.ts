@@ -4,7 +4,8 @@
 import { all, create } from "mathjs";
 import { assert, assertEqual, assertThrows } from "./assert.ts";
 import { assertClose } from "./helpers.ts";
-import { evaluateOperator, productSpace, spinLabels, type Subsystem } from "../cli/case/operators.ts";
+import { evaluateOperator } from "../cli/case/operators.ts";
+import { productSpace, spinLabels, type Subsystem } from "../cli/case/space.ts";
 import { ComplexMatrix } from "../cli/case/complex_matrix.ts";
 import { CaseError } from "../cli/case/errors.ts";
 

@@ -21,43 +21,7 @@ import type { MathNode } from "mathjs";
 import { CaseError, type KeyPath } from "./errors.ts";
 import { type Complex, ComplexMatrix } from "./complex_matrix.ts";
 import { compileNode, parseExpression, type Scope, toComplex } from "./expression.ts";
-
-/** One factor of the composite space. */
-export interface Subsystem {
-  name: string;
-  kind: "levels" | "oscillator" | "spin";
-  labels: string[];
-  /** Spin quantum number s (kind "spin"). */
-  spin?: number;
-}
-
-/** The Hilbert space: subsystems in tensor order, and the product labels. */
-export interface Space {
-  subsystems: Subsystem[];
-  /** Labels of the product basis, subsystem labels joined by ",". */
-  labels: string[];
-  dim: number;
-}
-
-/** Labels of spin s: m = s, s−1, …, −s written "+1/2", "0", "-1". */
-export function spinLabels(s: number): string[] {
-  const out: string[] = [];
-  for (let k = 0; k <= 2 * s; k++) {
-    const twice = Math.round(2 * s) - 2 * k;
-    const text = twice % 2 === 0 ? String(Math.abs(twice / 2)) : `${Math.abs(twice)}/2`;
-    out.push(twice === 0 ? "0" : (twice > 0 ? "+" : "-") + text);
-  }
-  return out;
-}
-
-/** Builds the space from its subsystems (first is most significant in the product basis). */
-export function productSpace(subsystems: Subsystem[]): Space {
-  let labels = [""];
-  for (const sub of subsystems) {
-    labels = labels.flatMap((prefix) => sub.labels.map((l) => (prefix ? `${prefix},${l}` : l)));
-  }
-  return { subsystems, labels, dim: labels.length };
-}
+import type { Space, Subsystem } from "./space.ts";
 
 /** Spin-s operators S_z, S_+ in the basis m = s…−s. */
 function spinMatrices(s: number): { sz: ComplexMatrix; splus: ComplexMatrix } {
@@ -159,7 +123,8 @@ type OpValue = { kind: "scalar"; z: Complex } | {
  * @example
  * ```ts
  * import { ok as assert } from "node:assert/strict";
- * import { evaluateOperator, productSpace } from "./operators.ts";
+ * import { evaluateOperator } from "./operators.ts";
+ * import { productSpace } from "./space.ts";
  * const space = productSpace([{ name: "atom", kind: "levels", labels: ["g", "e"] }]);
  * const { matrix } = evaluateOperator("0.5*|e><g| + h.c.", space, { params: new Map(), allowTime: false }, ["op"]);
  * assert(matrix.get(1, 0).re === 0.5);

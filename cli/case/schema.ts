@@ -107,6 +107,8 @@ export type SectionSpec = z.infer<typeof sectionSchema>;
 export type MatrixSpec = z.infer<typeof matrixSchema>;
 /** A matrix entry as written. */
 export type EntrySpec = z.infer<typeof entrySchema>;
+/** The `[start]` table as written. */
+export type StartSpec = CaseSpec["start"];
 
 /** Turns the first zod issue into a message and a fix. */
 export function describeIssue(

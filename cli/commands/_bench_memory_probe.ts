@@ -5,6 +5,6 @@
  * @module
  */
 import { loadEngine } from "../../engine/mod.ts";
-import { memoryProbe } from "./bench.ts";
+import { memoryProbe } from "./_bench_cases.ts";
 
 memoryProbe(await loadEngine());

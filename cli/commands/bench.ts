@@ -12,74 +12,11 @@
  * @module
  */
 
-import { type Engine, loadEngine, type Model, solve } from "../../engine/mod.ts";
-import { type BaselineModel, mathjsScheme } from "./_mathjs_scheme.ts";
+import { type Engine, loadEngine, solve } from "../../engine/mod.ts";
+import { mathjsScheme } from "./_mathjs_scheme.ts";
+import { dense, drivenModel, timeIndependent, twoLevel } from "./_bench_cases.ts";
 import { compileExpression } from "../case/expression.ts";
 import { seeded } from "../base/seeded.ts";
-
-/** A random Hermitian matrix as [re, im] entries, entries of size `scale`. */
-function hermitian(d: number, random: () => number, scale: number): number[][][] {
-  const m = Array.from({ length: d }, () => Array.from({ length: d }, () => [0, 0]));
-  for (let i = 0; i < d; i++) {
-    m[i]![i] = [scale * (2 * random() - 1), 0];
-    for (let j = i + 1; j < d; j++) {
-      const re = scale * (2 * random() - 1), im = scale * (2 * random() - 1);
-      m[i]![j] = [re, im];
-      m[j]![i] = [re, -im];
-    }
-  }
-  return m;
-}
-
-const flat = (m: number[][][]) => Float64Array.from(m.flat(2));
-const one = { kind: "constant", re: 1, im: 0 } as const;
-const drive = (t: number) => Math.exp(-0.5 * ((t - 10) / 3) ** 2) * Math.cos(1.1 * t);
-
-function drivenModel(baseline: BaselineModel, steps: number): Model {
-  const initial = new Float64Array(2 * baseline.dim);
-  initial[0] = 1;
-  return {
-    dim: baseline.dim,
-    unperturbed: [{ matrix: flat(baseline.h0), coefficient: one }],
-    perturbation: [{
-      matrix: flat(baseline.v),
-      coefficient: {
-        kind: "sampled",
-        sample: (ts, out) => ts.forEach((t, k) => ((out[2 * k] = drive(t)), (out[2 * k + 1] = 0))),
-      },
-    }],
-    strength: 1,
-    initial,
-    tStart: 0,
-    tEnd: baseline.tEnd,
-    steps,
-    samples: 101,
-    order: baseline.order,
-  };
-}
-
-function twoLevel(): BaselineModel {
-  return {
-    dim: 2,
-    h0: [[[0, 0], [0, 0]], [[0, 0], [1, 0]]],
-    v: [[[0, 0], [0.1, 0]], [[0.1, 0], [0, 0]]],
-    f: drive,
-    order: 6,
-    tEnd: 20,
-  };
-}
-
-function dense(d: number): BaselineModel {
-  const random = seeded(d);
-  return {
-    dim: d,
-    h0: hermitian(d, random, 2 / Math.sqrt(d)),
-    v: hermitian(d, random, 0.1 / Math.sqrt(d)),
-    f: drive,
-    order: 6,
-    tEnd: 20,
-  };
-}
 
 function time(fn: () => void): number {
   const start = performance.now();
@@ -121,15 +58,6 @@ function peakRate(engine: Engine): number {
   return 24 * iterations / (best * 1e6);
 }
 
-/** The 10⁶-step d = 8 run whose peak memory the benchmark reports (run in a subprocess). */
-export function memoryProbe(engine: Engine): void {
-  const model = drivenModel({ ...dense(8), order: 6 }, 1_000_000);
-  solve(engine, model);
-  const status = Deno.readTextFileSync("/proc/self/status");
-  const hwm = /VmHWM:\s+(\d+) kB/.exec(status);
-  console.log(JSON.stringify({ peakKiB: hwm ? Number(hwm[1]) : null }));
-}
-
 function table(rows: string[][]): string {
   const widths = rows[0]!.map((_, c) => Math.max(...rows.map((r) => r[c]!.length)));
   return rows.map((r) => r.map((cell, c) => cell.padEnd(widths[c]!)).join("  ")).join("\n");
@@ -137,12 +65,34 @@ function table(rows: string[][]): string {
 
 const fmt = (x: number, digits = 3) => Number(x.toPrecision(digits)).toString();
 
-/** Runs the benchmark and prints the table. */
-export async function runBench(): Promise<void> {
-  const engine = await loadEngine();
-  const log = (s: string) => console.error(`bench: ${s}`);
-  const rows: string[][] = [["measurement", "value", "baseline (same run)", "ratio", "target"]];
+type Row = string[];
+const log = (s: string) => console.error(`bench: ${s}`);
 
+/**
+ * `ordo bench`: runs the benchmark and prints the table.
+ *
+ * @returns the exit code
+ */
+export async function benchCommand(): Promise<number> {
+  const engine = await loadEngine();
+  const rows: Row[] = [
+    ["measurement", "value", "baseline (same run)", "ratio", "target"],
+    samplingRow(),
+    ...engineRows(engine),
+    ...kernelRows(engine),
+    await memoryRow(),
+  ];
+  console.log(table(rows));
+  console.log(
+    "\nbaselines: the mathjs scheme is timed over a few steps (300 for d=2, 4 for d=64) and scaled per step;",
+  );
+  console.log(
+    "it does not run the step-doubled reference that the engine also computes, so the engine ratio is conservative.",
+  );
+  return 0;
+}
+
+function samplingRow(): Row {
   log("sampling a coefficient expression");
   const coef = compileExpression("A*gauss(t, t0, w)*cos(wd*t)", {
     params: new Map([["A", 0.3], ["t0", 10], ["w", 2], ["wd", 5.1]]),
@@ -158,8 +108,11 @@ export async function runBench(): Promise<void> {
       time(() => coef.sample(sampleTimes, sampleOut)),
     );
   }
-  rows.push(["10⁶ samples of A·gauss(t,t0,w)·cos(wd·t)", `${fmt(sampling)} ms`, "", "", "well under 1 s"]);
+  return ["10⁶ samples of A·gauss(t,t0,w)·cos(wd·t)", `${fmt(sampling)} ms`, "", "", "well under 1 s"];
+}
 
+function engineRows(engine: Engine): Row[] {
+  const rows: Row[] = [];
   const comparisons = [
     { label: "two-level", model: twoLevel(), mathjsSteps: 300, target: "" },
     { label: "dense d=64", model: dense(64), mathjsSteps: 4, target: "≥ 20×" },
@@ -176,26 +129,16 @@ export async function runBench(): Promise<void> {
       target,
     ]);
   }
-
   log("time-independent d=300, N=4");
-  const random = seeded(300);
-  const d300 = 300;
-  const tiModel: Model = {
-    dim: d300,
-    unperturbed: [{ matrix: flat(hermitian(d300, random, 2 / Math.sqrt(d300))), coefficient: one }],
-    perturbation: [{ matrix: flat(hermitian(d300, random, 0.1 / Math.sqrt(d300))), coefficient: one }],
-    strength: 1,
-    initial: Float64Array.from({ length: 2 * d300 }, (_, k) => (k === 0 ? 1 : 0)),
-    tStart: 0,
-    tEnd: 10,
-    steps: 1,
-    samples: 101,
-    order: 4,
-  };
+  const tiModel = timeIndependent(300);
   const ti = time(() => solve(engine, tiModel));
   rows.push(["time-independent d=300, N=4, 101 samples", `${fmt(ti)} ms`, "", "", "about 1 s"]);
+  return rows;
+}
 
+function kernelRows(engine: Engine): Row[] {
   log("kernels");
+  const rows: Row[] = [];
   const peak = peakRate(engine);
   for (const d of [64, 128]) {
     const simd = kernelRate(engine, d, 7, true), ref = kernelRate(engine, d, 7, false);
@@ -214,7 +157,10 @@ export async function runBench(): Promise<void> {
       "≥ 50%",
     ]);
   }
+  return rows;
+}
 
+async function memoryRow(): Promise<Row> {
   log("peak memory of a 10⁶-step d=8 run (subprocess)");
   const probe = await new Deno.Command(Deno.execPath(), {
     args: ["run", "-A", new URL("./_bench_memory_probe.ts", import.meta.url).pathname],
@@ -224,19 +170,11 @@ export async function runBench(): Promise<void> {
   const peakKiB = probe.success
     ? JSON.parse(new TextDecoder().decode(probe.stdout)).peakKiB as number | null
     : null;
-  rows.push([
+  return [
     "peak memory, 10⁶ steps, d=8, N=6 (process high-water mark)",
     peakKiB ? `${fmt(peakKiB / 1024)} MiB` : "not measured",
     "",
     "",
     "< 300 MB",
-  ]);
-
-  console.log(table(rows));
-  console.log(
-    "\nbaselines: the mathjs scheme is timed over a few steps (300 for d=2, 4 for d=64) and scaled per step;",
-  );
-  console.log(
-    "it does not run the step-doubled reference that the engine also computes, so the engine ratio is conservative.",
-  );
+  ];
 }

@@ -9,12 +9,15 @@
 
 import { CaseError } from "../case/errors.ts";
 import type { BuildOptions } from "../case/build.ts";
-import { readCase, withLocation } from "../case/parse.ts";
-import { type Axis, buildGrid, type Grid, pointValues, STRENGTH } from "../sweep/grid.ts";
+import { type CaseSource, readCase, withLocation } from "../case/parse.ts";
+import { type Axis, buildGrid, type Grid, pointValues } from "../sweep/grid.ts";
+import { STRENGTH } from "../case/params.ts";
 import { PointEvaluator, type PointResult, type SweepSetup } from "../sweep/point.ts";
 import { evaluatePool } from "../sweep/pool.ts";
+import { parseVary } from "../sweep/grid.ts";
 import { loadEngine } from "../../engine/mod.ts";
 import { progressBar } from "../report/progress.ts";
+import { buildOptions, CASE_FLAGS, integerFlag, oneCase, parseOrFail } from "./_args.ts";
 
 /** Options of `ordo check`. */
 export interface CheckOptions {
@@ -69,17 +72,34 @@ function ranges(values: number[], holds: boolean[]): string[] {
 }
 
 /**
- * Runs the check.
+ * `ordo check CASE`: prints the verdicts; exit 1 when any formula fails.
  *
- * @param file the case file
- * @param options workers, extra axes, overrides
- * @returns the verdicts
+ * @param args the arguments after `check`
+ * @returns the exit code
  */
-export async function runCheck(file: string, options: CheckOptions): Promise<CheckReport> {
-  const source = readCase(file);
+export async function checkCommand(args: string[]): Promise<number> {
+  const { values, positionals } = parseOrFail(args, {
+    workers: { type: "string" },
+    vary: { type: "string", multiple: true },
+    ...CASE_FLAGS,
+  });
+  const report = await runCheck(oneCase(positionals, "check"), {
+    workers: integerFlag(values.workers, "--workers") ?? navigator.hardwareConcurrency,
+    vary: ((values.vary as string[] | undefined) ?? []).map(parseVary),
+    build: buildOptions(values),
+    quiet: Boolean(values.quiet),
+  });
+  console.log(formatCheck(report));
+  return report.approximations.every((a) => a.pass) ? 0 : 1;
+}
+
+type Approx = NonNullable<CaseSource["spec"]["approx"]>[number];
+
+/** Refuses a case without formulas, a formula without a tolerance, or a formula on an unknown label. */
+function checkApprox(source: CaseSource, labels?: string[]): Approx[] {
   const approx = source.spec.approx ?? [];
   const fail = (message: string, path: (string | number)[], fix: string): never => {
-    throw withLocation(new CaseError(message, path, fix), file, source.text, source.format);
+    throw withLocation(new CaseError(message, path, fix), source.file, source.text, source.format);
   };
   if (approx.length === 0) {
     fail(
@@ -96,7 +116,27 @@ export async function runCheck(file: string, options: CheckOptions): Promise<Che
         "give abs = … and/or rel = … (it passes within either)",
       );
     }
+    if (labels && !labels.includes(a.target)) {
+      fail(
+        `unknown target label "${a.target}"`,
+        ["approx", k, "target"],
+        `labels are: ${labels.slice(0, 16).join(", ")}`,
+      );
+    }
   });
+  return approx;
+}
+
+/**
+ * Runs the check.
+ *
+ * @param file the case file
+ * @param options workers, extra axes, overrides
+ * @returns the verdicts
+ */
+export async function runCheck(file: string, options: CheckOptions): Promise<CheckReport> {
+  const source = readCase(file);
+  const approx = checkApprox(source);
   const grid = buildGrid(source.spec, options.vary);
   const baseTargets = options.build.targets ?? source.spec.series.targets;
   const targets = baseTargets ? [...new Set([...baseTargets, ...approx.map((a) => a.target)])] : undefined;
@@ -108,16 +148,21 @@ export async function runCheck(file: string, options: CheckOptions): Promise<Che
     formulas: approx.map((a) => a.formula),
   };
   const evaluator = new PointEvaluator(await loadEngine(), setup);
-  const labels = evaluator.base.space.labels;
-  approx.forEach((a, k) => {
-    if (!labels.includes(a.target)) {
-      fail(
-        `unknown target label "${a.target}"`,
-        ["approx", k, "target"],
-        `labels are: ${labels.slice(0, 16).join(", ")}`,
-      );
-    }
-  });
+  checkApprox(source, evaluator.base.space.labels);
+  const results = await evaluateAll(grid, setup, evaluator, options);
+  const approximations = approx.map((a, k) =>
+    verdictOf(a, k, results, grid, evaluator.base.targets.indexOf(a.target), evaluator.base.model.order)
+  );
+  return { file, grid, approximations };
+}
+
+/** Every point of the grid, in grid order. */
+async function evaluateAll(
+  grid: Grid,
+  setup: SweepSetup,
+  evaluator: PointEvaluator,
+  options: CheckOptions,
+): Promise<PointResult[]> {
   const jobs = [...Array(grid.size).keys()].map((index) => ({ index, values: pointValues(grid, index) }));
   const results: PointResult[] = [];
   const bar = options.quiet ? undefined : progressBar("check", jobs.length);
@@ -132,53 +177,59 @@ export async function runCheck(file: string, options: CheckOptions): Promise<Che
   } finally {
     bar?.stop();
   }
-  results.sort((a, b) => a.index - b.index);
-  const targetsUsed = evaluator.base.targets;
+  return results.sort((a, b) => a.index - b.index);
+}
 
-  const approximations = approx.map((a, k): ApproxVerdict => {
-    const j = targetsUsed.indexOf(a.target);
-    let worst: ApproxVerdict["worst"] | undefined;
-    let worstRatio = -1, passed = 0;
-    const ok: boolean[] = [];
-    for (const r of results) {
-      const exact = r.exact[j]!, value = r.formulas[k]!;
-      const error = Math.abs(value - exact);
-      const allowed = Math.max(a.abs ?? 0, (a.rel ?? 0) * Math.abs(exact));
-      const good = error <= allowed;
-      ok.push(good);
-      if (good) passed++;
-      const ratio = allowed > 0 ? error / allowed : error > 0 ? Infinity : 0;
-      if (ratio > worstRatio) {
-        [worstRatio, worst] = [ratio, { values: r.values, error, allowed, exact, formula: value }];
-      }
+/** The verdict on formula k (on target column j) over all points. */
+function verdictOf(
+  a: Approx,
+  k: number,
+  results: PointResult[],
+  grid: Grid,
+  j: number,
+  order: number,
+): ApproxVerdict {
+  let worst: ApproxVerdict["worst"] | undefined;
+  let worstRatio = -1, passed = 0;
+  const ok: boolean[] = [];
+  for (const r of results) {
+    const exact = r.exact[j]!, value = r.formulas[k]!;
+    const error = Math.abs(value - exact);
+    const allowed = Math.max(a.abs ?? 0, (a.rel ?? 0) * Math.abs(exact));
+    const good = error <= allowed;
+    ok.push(good);
+    if (good) passed++;
+    const ratio = allowed > 0 ? error / allowed : error > 0 ? Infinity : 0;
+    if (ratio > worstRatio) {
+      [worstRatio, worst] = [ratio, { values: r.values, error, allowed, exact, formula: value }];
     }
-    const region = grid.axes.map((axis, ai) => {
-      const holds = axis.values.map((v) => results.every((r, p) => r.values[ai] !== v || ok[p]));
-      const where = ranges(axis.values, holds);
-      return `${axis.name}: ${where.length ? where.join(" ∪ ") : "nowhere on the grid"}`;
-    });
-    let bestOrder = { order: 0, deviation: Infinity };
-    for (let n = 0; n <= evaluator.base.model.order; n++) {
-      const deviation = Math.max(...results.map((r) => Math.abs(r.formulas[k]! - r.orders[j]![n]!)));
-      if (deviation < bestOrder.deviation) bestOrder = { order: n, deviation };
-    }
-    const tolerance = [a.abs !== undefined ? `abs ${a.abs}` : "", a.rel !== undefined ? `rel ${a.rel}` : ""]
-      .filter(Boolean)
-      .join(" or ");
-    return {
-      name: a.name,
-      target: a.target,
-      formula: a.formula,
-      tolerance,
-      pass: passed === results.length,
-      passed,
-      total: results.length,
-      worst: worst!,
-      region,
-      bestOrder,
-    };
+  }
+  const region = grid.axes.map((axis, ai) => {
+    const holds = axis.values.map((v) => results.every((r, p) => r.values[ai] !== v || ok[p]));
+    const where = ranges(axis.values, holds);
+    return `${axis.name}: ${where.length ? where.join(" ∪ ") : "nowhere on the grid"}`;
   });
-  return { file, grid, approximations };
+  let bestOrder = { order: 0, deviation: Infinity };
+  for (let n = 0; n <= order; n++) {
+    let deviation = 0;
+    for (const r of results) deviation = Math.max(deviation, Math.abs(r.formulas[k]! - r.orders[j]![n]!));
+    if (deviation < bestOrder.deviation) bestOrder = { order: n, deviation };
+  }
+  const tolerance = [a.abs !== undefined ? `abs ${a.abs}` : "", a.rel !== undefined ? `rel ${a.rel}` : ""]
+    .filter(Boolean)
+    .join(" or ");
+  return {
+    name: a.name,
+    target: a.target,
+    formula: a.formula,
+    tolerance,
+    pass: passed === results.length,
+    passed,
+    total: results.length,
+    worst: worst!,
+    region,
+    bestOrder,
+  };
 }
 
 /** The check as text. */

@@ -6,35 +6,10 @@
 
 import { parse as parseToml } from "smol-toml";
 import { UsageError } from "../case/errors.ts";
+import { EXAMPLES } from "../base/examples.ts";
+import { parseOrFail, usage } from "./_args.ts";
 
-/** The built-in examples: name → file in cases/ and what it shows. */
-export const EXAMPLES: Record<string, { file: string; about: string }> = {
-  "two-level": {
-    file: "two_level.toml",
-    about: "detuned two-level system, constant coupling (smallest complete case)",
-  },
-  "leaky-transmon": {
-    file: "leaky_transmon.toml",
-    about: "driven four-level anharmonic mode, leakage under a Gaussian pulse (the demo)",
-  },
-  ladder: {
-    file: "ladder.toml",
-    about: "three-level ladder, two-photon transition through a detuned middle level",
-  },
-  band: {
-    file: "band_decay.toml",
-    about: "a level decaying into a band of states (golden rule)",
-  },
-  crossing: { file: "swept_crossing.toml", about: "swept avoided crossing" },
-  oscillator: {
-    file: "kicked_oscillator.toml",
-    about: "driven truncated oscillator",
-  },
-  check: {
-    file: "weak_drive_check.toml",
-    about: "a sweep with [[approx]] formulas for `ordo check`",
-  },
-};
+export { EXAMPLES };
 
 /**
  * Writes a starter case.
@@ -50,7 +25,7 @@ export function initCase(
   example = "two-level",
   force = false,
 ): string {
-  const chosen = EXAMPLES[example];
+  const chosen = Object.hasOwn(EXAMPLES, example) ? EXAMPLES[example] : undefined;
   if (!chosen) {
     throw new UsageError(
       `there is no example "${example}"; choose one of:\n` +
@@ -77,4 +52,23 @@ export function initCase(
     path.toLowerCase().endsWith(".json") ? JSON.stringify(parseToml(text), null, 2) + "\n" : text,
   );
   return path;
+}
+
+/**
+ * `ordo init NAME [--example NAME] [--force]`.
+ *
+ * @param args the arguments after `init`
+ * @returns the exit code
+ */
+export function initCommand(args: string[]): Promise<number> {
+  const { values, positionals } = parseOrFail(args, {
+    example: { type: "string" },
+    force: { type: "boolean" },
+  });
+  if (positionals.length !== 1) {
+    usage("init takes the name of the file to write, e.g. `ordo init my_case`");
+  }
+  const path = initCase(positionals[0]!, values.example as string | undefined, Boolean(values.force));
+  console.error(`ordo: wrote ${path}; try \`ordo inspect ${path}\` then \`ordo run ${path}\``);
+  return Promise.resolve(0);
 }

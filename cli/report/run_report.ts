@@ -9,7 +9,9 @@
 
 import { join } from "node:path";
 import { lineSvg, type Point } from "./plots.ts";
-import { formatRun, runJson, type RunOutcome } from "../analysis/outcome.ts";
+import type { RunOutcome } from "../analysis/outcome.ts";
+import { formatRun } from "../analysis/table.ts";
+import { runJson } from "../analysis/result_json.ts";
 import { VERSION } from "../base/version.ts";
 
 /** The JSON result's shape, as far as the report reads it. */

@@ -7,9 +7,7 @@
 
 import { CaseError, UsageError } from "../case/errors.ts";
 import type { CaseSpec } from "../case/schema.ts";
-
-/** The name that sweeps the bookkeeping strength λ rather than a param. */
-export const STRENGTH = "strength";
+import { STRENGTH } from "../case/params.ts";
 
 /** One swept quantity and its values. */
 export interface Axis {

@@ -12,7 +12,7 @@ import { buildCase, type BuildOptions, type BuiltCase } from "../case/build.ts";
 import { parseCase, withLocation } from "../case/parse.ts";
 import { CaseError } from "../case/errors.ts";
 import { compileExpression } from "../case/expression.ts";
-import { STRENGTH } from "./grid.ts";
+import { STRENGTH } from "../case/params.ts";
 import { type Engine, populationsAt, type Result, solve } from "../../engine/mod.ts";
 
 /** What every point shares. */

@@ -1,0 +1,85 @@
+/**
+ * The stable JSON result of a run (PRODUCT.md's contract), plus the analysis.
+ *
+ * @module
+ */
+
+import type { RunOutcome } from "./outcome.ts";
+import { populationsAt } from "../../engine/mod.ts";
+import { VERSION } from "../base/version.ts";
+
+/** The stable JSON result (PRODUCT.md), plus the analysis. */
+export function runJson({ built, result, analysis }: RunOutcome): unknown {
+  const d = built.model.dim;
+  const labels = built.targets;
+  const index = labels.map((l) => built.space.labels.indexOf(l));
+  const samples = result.times.length;
+  const popsOf = (states: Float64Array) => {
+    const perLabel: Record<string, number[]> = {};
+    labels.forEach((l) => (perLabel[l] = []));
+    for (let k = 0; k < samples; k++) {
+      const p = populationsAt(states, d, k);
+      labels.forEach((l, j) => perLabel[l]!.push(p[index[j]!]!));
+    }
+    return perLabel;
+  };
+  const partial = new Float64Array(result.exact.length);
+  const series = result.terms.map((term) => {
+    for (let k = 0; k < partial.length; k++) partial[k]! += term[k]!;
+    return popsOf(partial);
+  });
+  const exact = popsOf(result.exact);
+  const last = (m: Record<string, number[]>) =>
+    Object.fromEntries(labels.map((l) => [l, m[l]![samples - 1]!]));
+  return {
+    ordo: VERSION,
+    case: {
+      title: built.title,
+      file: built.source.file,
+      sha256: built.source.sha256,
+      params: Object.fromEntries(
+        [...built.params].map((
+          [k, v],
+        ) => [k, typeof v === "number" ? v : [v.re, v.im]]),
+      ),
+    },
+    method: {
+      scheme: result.scheme,
+      steps: result.steps,
+      step_size: result.stepSize,
+      order: built.model.order,
+      strength: built.model.strength,
+      reference_error: analysis.referenceError,
+      units: built.units.description,
+    },
+    labels,
+    basis: built.space.labels,
+    times: Array.from(result.times),
+    exact,
+    series,
+    final: { exact: last(exact), series: series.map(last) },
+    warnings: built.warnings,
+    analysis: {
+      time: analysis.time,
+      tolerance: analysis.tolerance,
+      reference_ok: analysis.referenceOk,
+      term_norms: analysis.termNorms,
+      growing_terms: analysis.growing,
+      targets: analysis.targets.map((t) => ({
+        label: t.label,
+        exact: t.exact,
+        min_order: t.minOrder,
+        leading_order: t.leadingOrder,
+        first_order_relative_error: Number.isNaN(t.firstOrderRelative) ? null : t.firstOrderRelative,
+        orders: t.rows.map((r) => ({
+          order: r.order,
+          population: r.population,
+          error: r.error,
+          bound: r.bound,
+          consistent: r.consistent,
+          ratio: Number.isNaN(r.ratio) ? null : r.ratio,
+        })),
+      })),
+    },
+  };
+}

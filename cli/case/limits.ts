@@ -1,0 +1,85 @@
+/**
+ * Work and memory a case would take, checked before anything large is built:
+ * a case the engine could not hold, or would take hours over, is refused with
+ * the numbers rather than left to fail or appear to hang.
+ *
+ * @module
+ */
+
+import { CaseError } from "./errors.ts";
+import { toComplex } from "./expression.ts";
+import type { AssembledTerm } from "./terms.ts";
+import { estimateMemory, RECORD_LIMIT_BYTES, WASM_LIMIT_BYTES } from "../../engine/model.ts";
+
+function gib(bytes: number): string {
+  return (bytes / 1024 ** 3).toFixed(bytes < 1024 ** 3 ? 3 : 1);
+}
+
+/**
+ * Refuses a case whose engine memory or recorded states would exceed the limits.
+ *
+ * @param shape dimension, order, samples and the number of H0 and V matrices
+ * @throws {CaseError} with the estimate and what to shrink
+ */
+export function checkMemory(
+  shape: { dim: number; order: number; samples: number; unperturbed: number; perturbation: number },
+): void {
+  const memory = estimateMemory({
+    dim: shape.dim,
+    order: shape.order,
+    samples: shape.samples,
+    unperturbed: Array(shape.unperturbed),
+    perturbation: Array(shape.perturbation),
+  });
+  if (memory.wasmBytes > WASM_LIMIT_BYTES) {
+    throw new CaseError(
+      `the engine would need about ${gib(memory.wasmBytes)} GiB (mostly ${memory.largest}), ` +
+        `more than the ${gib(WASM_LIMIT_BYTES)} GiB it can address (32-bit WebAssembly memory)`,
+      [],
+      "shrink the space (fewer levels or a lower oscillator cutoff) or lower [series] order",
+    );
+  }
+  if (memory.recordBytes > RECORD_LIMIT_BYTES) {
+    throw new CaseError(
+      `the recorded states would take about ${gib(memory.recordBytes)} GiB (${memory.largest}), ` +
+        `more than the ${gib(RECORD_LIMIT_BYTES)} GiB ordo allows for them`,
+      ["grid", "samples"],
+      "record fewer samples (the integrator steps do not cost memory), or lower [series] order",
+    );
+  }
+}
+
+/** Taylor sub-steps the time-independent scheme may take before a case is called unreasonable. */
+const MAX_SUBSTEPS = 1e7;
+
+/**
+ * A time-independent case is propagated exactly by Taylor sub-steps of ‖H‖·h ≤ 2; refuse one so long
+ * (‖H‖·T in the tens of millions) that it would run for hours, rather than appear to hang.
+ *
+ * @param terms every assembled term
+ * @param span t_end − t_start
+ * @param strength λ
+ */
+export function guardExactWork(terms: AssembledTerm[], span: number, strength: number): void {
+  if (terms.some((t) => t.coef?.usesTime)) return;
+  let norm = 0;
+  for (const t of terms) {
+    const c = t.coef ? Math.hypot(toComplex(t.coef.at(0)).re, toComplex(t.coef.at(0)).im) : 1;
+    let row = 0;
+    for (let i = 0; i < t.matrix.rows; i++) {
+      let sum = 0;
+      for (let j = 0; j < t.matrix.cols; j++) sum += Math.hypot(t.matrix.get(i, j).re, t.matrix.get(i, j).im);
+      row = Math.max(row, sum);
+    }
+    norm += c * row * (t.section === "perturbation" ? Math.max(1, Math.abs(strength)) : 1);
+  }
+  const substeps = norm * span / 2;
+  if (substeps > MAX_SUBSTEPS) {
+    throw new CaseError(
+      `‖H‖·(t_end − t_start) ≈ ${norm.toPrecision(3)} × ${span.toPrecision(3)} would need about ` +
+        `${substeps.toPrecision(2)} exact Taylor sub-steps`,
+      ["grid", "t_end"],
+      "shorten the window, or check the units: energies this large for this long are rarely meant",
+    );
+  }
+}

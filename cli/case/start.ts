@@ -1,0 +1,85 @@
+/**
+ * `[start]`: the initial state, a label or a list of amplitudes (normalised,
+ * with a warning, when not of unit norm).
+ *
+ * @module
+ */
+
+import { CaseError } from "./errors.ts";
+import type { StartSpec } from "./schema.ts";
+import { type Scope, toComplex } from "./expression.ts";
+import { entryValue } from "./params.ts";
+import { listLabels, type Space } from "./space.ts";
+
+/**
+ * The initial state as interleaved (re, im) amplitudes.
+ *
+ * @param start the `[start]` table
+ * @param space the Hilbert space
+ * @param scope the params amplitudes may use
+ * @param warnings receives a warning when the amplitudes had to be normalised
+ * @returns the state, of unit norm
+ */
+export function startState(
+  start: StartSpec,
+  space: Space,
+  scope: Scope,
+  warnings: string[],
+): Float64Array {
+  if ((start.state === undefined) === (start.amplitudes === undefined)) {
+    throw new CaseError(
+      "give exactly one of state and amplitudes",
+      ["start"],
+      'e.g. state = "g", or amplitudes = [1, 0, …]',
+    );
+  }
+  const psi = new Float64Array(2 * space.dim);
+  if (start.state !== undefined) {
+    const k = space.labels.indexOf(start.state);
+    if (k < 0) {
+      throw new CaseError(
+        `unknown label "${start.state}"`,
+        ["start", "state"],
+        `labels are: ${listLabels(space)}`,
+      );
+    }
+    psi[2 * k] = 1;
+    return psi;
+  }
+  const amps = start.amplitudes!;
+  if (amps.length !== space.dim) {
+    throw new CaseError(
+      `has ${amps.length} amplitudes, but the space has dimension ${space.dim}`,
+      ["start", "amplitudes"],
+      `give ${space.dim} amplitudes, one per level in the order ${listLabels(space)}`,
+    );
+  }
+  let norm2 = 0;
+  amps.forEach((a, k) => {
+    const z = toComplex(entryValue(a, scope, ["start", "amplitudes", k]));
+    if (!Number.isFinite(z.re) || !Number.isFinite(z.im)) {
+      throw new CaseError(`amplitude ${k} is not finite`, [
+        "start",
+        "amplitudes",
+        k,
+      ], "check the params it uses");
+    }
+    psi[2 * k] = z.re;
+    psi[2 * k + 1] = z.im;
+    norm2 += z.re * z.re + z.im * z.im;
+  });
+  if (!(norm2 > 0)) {
+    throw new CaseError(
+      "all amplitudes are zero",
+      ["start", "amplitudes"],
+      "give a non-zero state",
+    );
+  }
+  if (Math.abs(norm2 - 1) > 1e-12) {
+    warnings.push(
+      `[start] amplitudes have norm ${Math.sqrt(norm2).toPrecision(6)}; normalised to 1`,
+    );
+    psi.forEach((x, k) => (psi[k] = x / Math.sqrt(norm2)));
+  }
+  return psi;
+}

@@ -1,0 +1,78 @@
+/**
+ * Flag parsing shared by the commands (private to this folder): node:util's
+ * parseArgs with our messages, whole-number flags, and the overrides that
+ * `--set`, `--order`, `--steps` and `--targets` make to a case.
+ *
+ * @module
+ */
+
+import { parseArgs, type ParseArgsConfig } from "node:util";
+import { UsageError } from "../case/errors.ts";
+import type { BuildOptions } from "../case/build.ts";
+
+/** The flag table of a command. */
+export type Flags = NonNullable<ParseArgsConfig["options"]>;
+
+/** The flags every command that builds a case takes. */
+export const CASE_FLAGS: Flags = {
+  order: { type: "string" },
+  steps: { type: "string" },
+  set: { type: "string", multiple: true },
+  targets: { type: "string" },
+  quiet: { type: "boolean" },
+};
+
+/** Stops with a usage error (exit 2). */
+export function usage(message: string): never {
+  throw new UsageError(message);
+}
+
+/** Parses a command's arguments strictly, turning parseArgs' errors into usage errors. */
+export function parseOrFail(args: string[], options: Flags) {
+  try {
+    return parseArgs({ args, options, allowPositionals: true, strict: true });
+  } catch (e) {
+    return usage(
+      `${(e as Error).message.replace(/\. To specify.*$/s, "")}; see \`ordo --help\``,
+    );
+  }
+}
+
+/** A whole-number flag, or undefined when absent. */
+export function integerFlag(value: unknown, flag: string): number | undefined {
+  if (value === undefined) return undefined;
+  const n = Number(value);
+  if (!Number.isInteger(n)) {
+    usage(`${flag} takes a whole number, got "${value}"`);
+  }
+  return n;
+}
+
+/** The case overrides given by `--set`, `--order`, `--steps` and `--targets`. */
+export function buildOptions(values: Record<string, unknown>): BuildOptions {
+  const set: Record<string, string> = {};
+  for (const item of (values.set as string[] | undefined) ?? []) {
+    const eq = item.indexOf("=");
+    if (eq <= 0) usage(`--set takes name=value, got "${item}"`);
+    set[item.slice(0, eq).trim()] = item.slice(eq + 1).trim();
+  }
+  const targets = values.targets === undefined
+    ? undefined
+    : String(values.targets).split(",").map((s) => s.trim()).filter(Boolean);
+  return {
+    set,
+    order: integerFlag(values.order, "--order"),
+    steps: integerFlag(values.steps, "--steps"),
+    targets,
+  };
+}
+
+/** The one case file a command takes. */
+export function oneCase(positionals: string[], command: string): string {
+  if (positionals.length !== 1) {
+    usage(
+      `${command} takes one case file, e.g. \`ordo ${command} cases/two_level.toml\``,
+    );
+  }
+  return positionals[0]!;
+}

@@ -1,0 +1,100 @@
+/**
+ * The benchmark's models (private to the commands): a driven two-level system,
+ * dense random d-level systems, and the 10⁶-step memory probe.
+ *
+ * @module
+ */
+
+import { type Engine, type Model, solve } from "../../engine/mod.ts";
+import type { BaselineModel } from "./_mathjs_scheme.ts";
+import { seeded } from "../base/seeded.ts";
+
+/** A random Hermitian matrix as [re, im] entries, entries of size `scale`. */
+export function hermitian(d: number, random: () => number, scale: number): number[][][] {
+  const m = Array.from({ length: d }, () => Array.from({ length: d }, () => [0, 0]));
+  for (let i = 0; i < d; i++) {
+    m[i]![i] = [scale * (2 * random() - 1), 0];
+    for (let j = i + 1; j < d; j++) {
+      const re = scale * (2 * random() - 1), im = scale * (2 * random() - 1);
+      m[i]![j] = [re, im];
+      m[j]![i] = [re, -im];
+    }
+  }
+  return m;
+}
+
+const flat = (m: number[][][]) => Float64Array.from(m.flat(2));
+const one = { kind: "constant", re: 1, im: 0 } as const;
+const drive = (t: number) => Math.exp(-0.5 * ((t - 10) / 3) ** 2) * Math.cos(1.1 * t);
+
+export function drivenModel(baseline: BaselineModel, steps: number): Model {
+  const initial = new Float64Array(2 * baseline.dim);
+  initial[0] = 1;
+  return {
+    dim: baseline.dim,
+    unperturbed: [{ matrix: flat(baseline.h0), coefficient: one }],
+    perturbation: [{
+      matrix: flat(baseline.v),
+      coefficient: {
+        kind: "sampled",
+        sample: (ts, out) => ts.forEach((t, k) => ((out[2 * k] = drive(t)), (out[2 * k + 1] = 0))),
+      },
+    }],
+    strength: 1,
+    initial,
+    tStart: 0,
+    tEnd: baseline.tEnd,
+    steps,
+    samples: 101,
+    order: baseline.order,
+  };
+}
+
+export function twoLevel(): BaselineModel {
+  return {
+    dim: 2,
+    h0: [[[0, 0], [0, 0]], [[0, 0], [1, 0]]],
+    v: [[[0, 0], [0.1, 0]], [[0.1, 0], [0, 0]]],
+    f: drive,
+    order: 6,
+    tEnd: 20,
+  };
+}
+
+export function dense(d: number): BaselineModel {
+  const random = seeded(d);
+  return {
+    dim: d,
+    h0: hermitian(d, random, 2 / Math.sqrt(d)),
+    v: hermitian(d, random, 0.1 / Math.sqrt(d)),
+    f: drive,
+    order: 6,
+    tEnd: 20,
+  };
+}
+
+/** A time-independent random d-level case to order 4, recorded at 101 samples. */
+export function timeIndependent(d: number): Model {
+  const random = seeded(d);
+  return {
+    dim: d,
+    unperturbed: [{ matrix: flat(hermitian(d, random, 2 / Math.sqrt(d))), coefficient: one }],
+    perturbation: [{ matrix: flat(hermitian(d, random, 0.1 / Math.sqrt(d))), coefficient: one }],
+    strength: 1,
+    initial: Float64Array.from({ length: 2 * d }, (_, k) => (k === 0 ? 1 : 0)),
+    tStart: 0,
+    tEnd: 10,
+    steps: 1,
+    samples: 101,
+    order: 4,
+  };
+}
+
+/** The 10⁶-step d = 8 run whose peak memory the benchmark reports (run in a subprocess). */
+export function memoryProbe(engine: Engine): void {
+  const model = drivenModel({ ...dense(8), order: 6 }, 1_000_000);
+  solve(engine, model);
+  const status = Deno.readTextFileSync("/proc/self/status");
+  const hwm = /VmHWM:\s+(\d+) kB/.exec(status);
+  console.log(JSON.stringify({ peakKiB: hwm ? Number(hwm[1]) : null }));
+}

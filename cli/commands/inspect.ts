@@ -1,0 +1,125 @@
+/**
+ * `ordo inspect CASE`: parse and validate only, and say what the case
+ * describes: dimension, spectrum, Bohr frequencies, steps, norm bound, memory.
+ *
+ * @module
+ */
+
+import { buildCase, type BuiltCase } from "../case/build.ts";
+import { readCase } from "../case/parse.ts";
+import { inspectCase, type Inspection, PHASE_PER_STEP } from "../analysis/inspection.ts";
+import { loadEngine } from "../../engine/mod.ts";
+import { buildOptions, oneCase, parseOrFail } from "./_args.ts";
+
+/**
+ * `ordo inspect CASE [--set name=value]`.
+ *
+ * @param args the arguments after `inspect`
+ * @returns the exit code
+ */
+export async function inspectCommand(args: string[]): Promise<number> {
+  const { values, positionals } = parseOrFail(args, {
+    set: { type: "string", multiple: true },
+  });
+  const built = buildCase(readCase(oneCase(positionals, "inspect")), buildOptions(values));
+  const engine = await loadEngine();
+  console.log(formatInspection(built, inspectCase(engine, built)));
+  return 0;
+}
+
+function fmt(x: number, digits = 6): string {
+  if (x === 0) return "0";
+  const a = Math.abs(x);
+  return a >= 1e-3 && a < 1e6 ? String(Number(x.toPrecision(digits))) : x.toExponential(digits - 1);
+}
+
+function bytes(n: number): string {
+  const units = ["B", "KiB", "MiB", "GiB"];
+  let k = 0;
+  while (n >= 1024 && k < units.length - 1) [n, k] = [n / 1024, k + 1];
+  return `${n.toFixed(k ? 1 : 0)} ${units[k]}`;
+}
+
+/** The inspection as text for the terminal. */
+export function formatInspection(built: BuiltCase, info: Inspection): string {
+  const freq = built.units.time ? ` rad/${built.units.time}` : "";
+  const lines = [
+    ...describeCase(built, info),
+    ...describeSpectrum(info, freq),
+    `  norm bound x = ∫‖λV(t)‖dt ≤ ${fmt(info.normIntegral, 4)}  (‖λV‖ ≤ ${
+      fmt(info.vMax, 4)
+    }${freq}; the n-th Dyson term is at most xⁿ/n!)`,
+    ...describeSteps(built, info),
+    `  memory     about ${bytes(info.memoryBytes)} (largest part: ${info.memoryLargest})`,
+  ];
+  for (const w of built.warnings) lines.push(`  warning    ${w}`);
+  return lines.join("\n");
+}
+
+function describeCase(built: BuiltCase, info: Inspection): string[] {
+  const { space } = built;
+  const subs = space.subsystems.length > 1 || space.subsystems[0]!.name !== "levels"
+    ? ` = ${space.subsystems.map((s) => `${s.name} (${s.kind}, ${s.labels.length})`).join(" ⊗ ")}`
+    : "";
+  const lines = [
+    `${built.title}`,
+    `  file       ${built.source.file} (sha256 ${built.source.sha256.slice(0, 12)})`,
+    `  units      ${built.units.description}`,
+    `  dimension  ${info.dim}${subs}`,
+    `  labels     ${space.labels.slice(0, 24).join(", ")}${space.labels.length > 24 ? ", …" : ""}`,
+    `  scheme     ${info.scheme}`,
+  ];
+  if (built.params.size) {
+    const shown = [...built.params].map(([k, v]) =>
+      `${k} = ${
+        typeof v === "number" ? fmt(v) : `${fmt(v.re)}${v.im < 0 ? "-" : "+"}${fmt(Math.abs(v.im))}i`
+      }`
+    );
+    lines.push(`  params     ${shown.join(", ")}`);
+  }
+  return lines;
+}
+
+function describeSpectrum(info: Inspection, freq: string): string[] {
+  const lines: string[] = [];
+  for (const s of info.spectrum) {
+    const shown = Array.from(s.values.slice(0, 16), (e, k) => `${fmt(e)} (${s.dominant[k]})`).join(", ");
+    lines.push(
+      `  H0 spectrum${info.spectrum.length > 1 ? ` at t = ${fmt(s.at)}` : ""} [${freq.trim() || "angular"}]`,
+      `             ${shown}${s.values.length > 16 ? `, … (${s.values.length} levels)` : ""}`,
+    );
+  }
+  lines.push(`  Bohr frequencies coupled by V (E_a − E_b, strongest coupling first):`);
+  if (info.bohr.length === 0) lines.push("             none: V is diagonal in H0's eigenbasis");
+  for (const b of info.bohr.slice(0, 10)) {
+    lines.push(
+      `             ${b.upper} ↔ ${b.lower}: ω = ${fmt(b.omega)}${freq}, |V| = ${fmt(b.coupling, 4)}`,
+    );
+  }
+  if (info.bohr.length > 10) lines.push(`             … and ${info.bohr.length - 10} more pairs`);
+  return lines;
+}
+
+function describeSteps(built: BuiltCase, info: Inspection): string[] {
+  const { model } = built;
+  const tu = built.units.time ? ` ${built.units.time}` : "";
+  if (info.scheme === "time-independent") {
+    return [
+      `  steps      none: H is time-independent, propagated exactly between ${model.samples} samples (interval ${
+        fmt(info.stepSize)
+      }${tu})`,
+    ];
+  }
+  const phase = info.omegaMax * info.stepSize;
+  const verdict = info.steps >= info.suggestedSteps ? "enough" : "too few: raise [grid] steps";
+  return [
+    `  steps      ${info.steps} of h = ${fmt(info.stepSize)}${tu}` +
+    (info.steps !== model.steps
+      ? ` (${model.steps} asked; rounded up to an even number per sample interval)`
+      : ""),
+    `             largest |E_a − E_b|·h = ${fmt(phase, 3)} rad per step; fastest coefficient rate × h = ${
+      fmt(info.coefRate * info.stepSize, 3)
+    }`,
+    `             suggested ≥ ${info.suggestedSteps} steps (phase per step ≤ ${PHASE_PER_STEP}); ${verdict}`,
+  ];
+}

@@ -1,0 +1,53 @@
+/**
+ * `ordo run CASE`: the series and the exact propagation for one case; the
+ * order-by-order table and verdict on stdout (or the JSON result with
+ * `--json`), and the report files with `--out DIR`.
+ *
+ * @module
+ */
+
+import { buildCase } from "../case/build.ts";
+import { readCase } from "../case/parse.ts";
+import { runCase, type RunOutcome } from "../analysis/outcome.ts";
+import { formatRun } from "../analysis/table.ts";
+import { runJson } from "../analysis/result_json.ts";
+import { progressBar } from "../report/progress.ts";
+import { loadEngine } from "../../engine/mod.ts";
+import { buildOptions, CASE_FLAGS, oneCase, parseOrFail, usage } from "./_args.ts";
+
+/**
+ * `ordo run CASE [--json] [--out DIR] [--at t] …`.
+ *
+ * @param args the arguments after `run`
+ * @returns the exit code
+ */
+export async function runCommand(args: string[]): Promise<number> {
+  const { values, positionals } = parseOrFail(args, {
+    json: { type: "boolean" },
+    out: { type: "string" },
+    at: { type: "string" },
+    ...CASE_FLAGS,
+  });
+  const file = oneCase(positionals, "run");
+  const built = buildCase(readCase(file), buildOptions(values));
+  const at = values.at === undefined ? undefined : Number(values.at);
+  if (at !== undefined && !Number.isFinite(at)) {
+    usage(`--at takes a time, got "${values.at}"`);
+  }
+  const engine = await loadEngine();
+  const progress = values.quiet ? undefined : progressBar("propagating");
+  let outcome: RunOutcome;
+  try {
+    outcome = runCase(engine, built, at, progress?.update);
+  } finally {
+    progress?.stop();
+  }
+  if (values.json) console.log(JSON.stringify(runJson(outcome)));
+  else console.log(formatRun(outcome));
+  if (values.out) {
+    const { writeReport } = await import("../report/run_report.ts");
+    const files = await writeReport(outcome, String(values.out));
+    console.error(`ordo: wrote ${files.join(", ")}`);
+  }
+  return 0;
+}
