@@ -106,64 +106,17 @@ export function analyse(
 ): Analysis {
   const d = labels.length;
   const k = sample;
-  const orders = result.terms.length;
   const termNorms = result.terms.map((t) => stateNorm(t, d, k));
-  const x = normIntegral;
-
-  let referenceError = 0;
-  for (let s = 0; s < result.times.length; s++) {
-    for (const label of targets) {
-      const a = labels.indexOf(label);
-      const [er, ei] = amp(result.exact, d, s, a),
-        [cr, ci] = amp(result.check, d, s, a);
-      referenceError = Math.max(
-        referenceError,
-        Math.abs(er * er + ei * ei - cr * cr - ci * ci) / result.checkDivisor,
-      );
-    }
-  }
+  const referenceError = referenceErrorOf(result, labels, targets);
   const referenceOk = referenceError <= 0.1 * tolerance;
-
-  const verdicts = targets.map((label): TargetVerdict => {
-    const a = labels.indexOf(label);
-    const [er, ei] = amp(result.exact, d, k, a);
-    const exact = er * er + ei * ei;
-    const c = result.terms.map((t) => amp(t, d, k, a));
-    let sr = 0, si = 0, consistent = 0;
-    const rows: OrderRow[] = [];
-    for (let n = 0; n < orders; n++) {
-      sr += c[n]![0];
-      si += c[n]![1];
-      // p_n = Σ_{m+l=n} Re(c_m* c_l)
-      for (let m = 0; m <= n; m++) {
-        consistent += c[m]![0] * c[n - m]![0] + c[m]![1] * c[n - m]![1];
-      }
-      const population = sr * sr + si * si;
-      const eps = tailBound(x, n);
-      rows.push({
-        order: n,
-        population,
-        error: Math.abs(population - exact),
-        bound: Math.min(1, eps * (2 + eps)),
-        consistent,
-        ratio: n > 0 && termNorms[n - 1]! > 0 ? termNorms[n]! / termNorms[n - 1]! : NaN,
-      });
-    }
-    // No order is called converged below what the reference itself can resolve.
-    const hit = referenceOk ? rows.find((r) => r.error <= tolerance) : undefined;
-    const first = rows[1];
-    // Leading order: the first partial sum that is not zero at round-off level (relative to the exact value).
-    const lead = rows.find((r) => r.population > 1e-14 * Math.max(exact, 1e-300));
-    return {
-      label,
-      exact,
-      rows,
-      minOrder: hit ? hit.order : null,
-      firstOrderRelative: first && exact > 0 ? first.error / exact : NaN,
-      leadingOrder: lead ? lead.order : null,
-      leadingRelative: lead && exact > 0 ? lead.error / exact : NaN,
-    };
-  });
+  const verdicts = targets.map((label) =>
+    targetVerdict(result, { d, a: labels.indexOf(label), label, k }, {
+      termNorms,
+      x: normIntegral,
+      tolerance,
+      referenceOk,
+    })
+  );
   const top = termNorms.length;
   const growing = top >= 3 && termNorms[top - 1]! > termNorms[top - 2]! &&
     termNorms[top - 2]! > termNorms[top - 3]! &&
@@ -177,5 +130,73 @@ export function analyse(
     termNorms,
     growing,
     targets: verdicts,
+  };
+}
+
+/** The reference's own error estimate: the largest |P_exact − P_check|/divisor over targets and samples. */
+function referenceErrorOf(result: Result, labels: string[], targets: string[]): number {
+  const d = labels.length;
+  let referenceError = 0;
+  for (let s = 0; s < result.times.length; s++) {
+    for (const label of targets) {
+      const a = labels.indexOf(label);
+      const [er, ei] = amp(result.exact, d, s, a),
+        [cr, ci] = amp(result.check, d, s, a);
+      referenceError = Math.max(
+        referenceError,
+        Math.abs(er * er + ei * ei - cr * cr - ci * ci) / result.checkDivisor,
+      );
+    }
+  }
+  return referenceError;
+}
+
+/** The order table and verdict of one target (basis index a of d) at sample k. */
+function targetVerdict(
+  result: Result,
+  { d, a, label, k }: { d: number; a: number; label: string; k: number },
+  { termNorms, x, tolerance, referenceOk }: {
+    termNorms: number[];
+    x: number;
+    tolerance: number;
+    referenceOk: boolean;
+  },
+): TargetVerdict {
+  const [er, ei] = amp(result.exact, d, k, a);
+  const exact = er * er + ei * ei;
+  const c = result.terms.map((t) => amp(t, d, k, a));
+  let sr = 0, si = 0, consistent = 0;
+  const rows: OrderRow[] = [];
+  for (let n = 0; n < result.terms.length; n++) {
+    sr += c[n]![0];
+    si += c[n]![1];
+    // p_n = Σ_{m+l=n} Re(c_m* c_l)
+    for (let m = 0; m <= n; m++) {
+      consistent += c[m]![0] * c[n - m]![0] + c[m]![1] * c[n - m]![1];
+    }
+    const population = sr * sr + si * si;
+    const eps = tailBound(x, n);
+    rows.push({
+      order: n,
+      population,
+      error: Math.abs(population - exact),
+      bound: Math.min(1, eps * (2 + eps)),
+      consistent,
+      ratio: n > 0 && termNorms[n - 1]! > 0 ? termNorms[n]! / termNorms[n - 1]! : NaN,
+    });
+  }
+  // No order is called converged below what the reference itself can resolve.
+  const hit = referenceOk ? rows.find((r) => r.error <= tolerance) : undefined;
+  const first = rows[1];
+  // Leading order: the first partial sum that is not zero at round-off level (relative to the exact value).
+  const lead = rows.find((r) => r.population > 1e-14 * Math.max(exact, 1e-300));
+  return {
+    label,
+    exact,
+    rows,
+    minOrder: hit ? hit.order : null,
+    firstOrderRelative: first && exact > 0 ? first.error / exact : NaN,
+    leadingOrder: lead ? lead.order : null,
+    leadingRelative: lead && exact > 0 ? lead.error / exact : NaN,
   };
 }

@@ -197,29 +197,8 @@ export async function writeSweepReport(
   const figures: string[] = [];
   const note: string[] = [];
   if (grid.axes.length === 1) {
-    const axis = grid.axes[0]!;
     for (const [j, target] of info.targets.entries()) {
-      const points: Point[] = [];
-      for (const r of parsed) {
-        r.orders[j]!.forEach((p, n) =>
-          points.push({ x: r.values[0]!, y: Math.abs(p - r.exact[j]!), series: `order ${n}` })
-        );
-        points.push({ x: r.values[0]!, y: info.tolerance, series: "tolerance" });
-      }
-      const orders = Array.from({ length: info.order + 1 }, (_, n) => `order ${n}`);
-      figures.push(
-        await lineSvg({
-          title: `population error of ${target} against ${axis.name}, per order`,
-          xTitle: axis.name,
-          yTitle: "|P_n − P_exact| at the final time",
-          logY: true,
-          floor: 1e-16,
-          points,
-          order: [...orders, "tolerance"],
-          dashed: ["tolerance"],
-          black: ["tolerance"],
-        }),
-      );
+      figures.push(await errorAgainstAxis(grid, info, parsed, j, target));
     }
   } else if (grid.axes.length >= 2) {
     if (grid.axes.length > 2) {
@@ -231,55 +210,9 @@ export async function writeSweepReport(
     }
     const fixed = parsed.filter((r) => r.values.slice(2).every((v, k) => v === grid.axes[k + 2]!.values[0]));
     for (const [j, target] of info.targets.entries()) {
-      const labels = [...Array.from({ length: info.order + 1 }, (_, n) => String(n)), "none"];
       figures.push(
-        await heatmap(
-          `smallest order within ${info.tolerance.toExponential(0)} for ${target}`,
-          grid,
-          fixed.map((r) => ({
-            x: r.values[0]!,
-            y: r.values[1]!,
-            value: r.minOrder[j] === null ? "none" : String(r.minOrder[j]),
-          })),
-          {
-            type: "ordinal",
-            title: "order",
-            scale: { domain: labels, range: [...palette(labels.length - 1), "#bbbbbb"] },
-          },
-        ),
-      );
-      const error = new Map(
-        fixed.map((r) => [`${r.values[0]},${r.values[1]}`, Math.abs(r.orders[j]![1]! - r.exact[j]!)]),
-      );
-      const [ax, ay] = [grid.axes[0]!, grid.axes[1]!];
-      const contour = contourSegments(
-        ax.values,
-        ay.values,
-        (i, k) => error.get(`${ax.values[i]},${ay.values[k]}`) ?? NaN,
-        info.tolerance,
-        isLog(ax.values),
-        isLog(ay.values),
-      );
-      const within = [...error.values()].filter((e) => e <= info.tolerance).length;
-      const where = within === 0
-        ? "nowhere within"
-        : within === error.size
-        ? "everywhere within"
-        : "white: the contour of";
-      figures.push(
-        await heatmap(
-          `first-order population error of ${target} (${where} the tolerance ${
-            info.tolerance.toExponential(0)
-          })`,
-          grid,
-          fixed.map((r) => ({
-            x: r.values[0]!,
-            y: r.values[1]!,
-            value: Math.max(error.get(`${r.values[0]},${r.values[1]}`)!, 1e-16),
-          })),
-          { type: "quantitative", title: "|P₁ − P|", scale: { type: "log", scheme: "viridis" } },
-          contour,
-        ),
+        await minOrderMap(grid, info, fixed, j, target),
+        await firstOrderMap(grid, info, fixed, j, target),
       );
     }
   }
@@ -301,4 +234,94 @@ ${figures.map((f) => `<figure>${f}</figure>`).join("\n")}
 `,
   );
   return path;
+}
+
+type Row = ReturnType<typeof parseRows>[number];
+
+/** One swept parameter: the population error of every order against it, with the tolerance. */
+function errorAgainstAxis(
+  grid: Grid,
+  info: SweepInfo,
+  parsed: Row[],
+  j: number,
+  target: string,
+): Promise<string> {
+  const axis = grid.axes[0]!;
+  const points: Point[] = [];
+  for (const r of parsed) {
+    r.orders[j]!.forEach((p, n) =>
+      points.push({ x: r.values[0]!, y: Math.abs(p - r.exact[j]!), series: `order ${n}` })
+    );
+    points.push({ x: r.values[0]!, y: info.tolerance, series: "tolerance" });
+  }
+  const orders = Array.from({ length: info.order + 1 }, (_, n) => `order ${n}`);
+  return lineSvg({
+    title: `population error of ${target} against ${axis.name}, per order`,
+    xTitle: axis.name,
+    yTitle: "|P_n − P_exact| at the final time",
+    logY: true,
+    floor: 1e-16,
+    points,
+    order: [...orders, "tolerance"],
+    dashed: ["tolerance"],
+    black: ["tolerance"],
+  });
+}
+
+/** Two swept parameters: the smallest order within tolerance at each point. */
+function minOrderMap(grid: Grid, info: SweepInfo, fixed: Row[], j: number, target: string): Promise<string> {
+  const labels = [...Array.from({ length: info.order + 1 }, (_, n) => String(n)), "none"];
+  return heatmap(
+    `smallest order within ${info.tolerance.toExponential(0)} for ${target}`,
+    grid,
+    fixed.map((r) => ({
+      x: r.values[0]!,
+      y: r.values[1]!,
+      value: r.minOrder[j] === null ? "none" : String(r.minOrder[j]),
+    })),
+    {
+      type: "ordinal",
+      title: "order",
+      scale: { domain: labels, range: [...palette(labels.length - 1), "#bbbbbb"] },
+    },
+  );
+}
+
+/** Two swept parameters: the first-order population error, with the tolerance contour. */
+function firstOrderMap(
+  grid: Grid,
+  info: SweepInfo,
+  fixed: Row[],
+  j: number,
+  target: string,
+): Promise<string> {
+  const error = new Map(
+    fixed.map((r) => [`${r.values[0]},${r.values[1]}`, Math.abs(r.orders[j]![1]! - r.exact[j]!)]),
+  );
+  const [ax, ay] = [grid.axes[0]!, grid.axes[1]!];
+  const contour = contourSegments(
+    ax.values,
+    ay.values,
+    (i, k) => error.get(`${ax.values[i]},${ay.values[k]}`) ?? NaN,
+    info.tolerance,
+    isLog(ax.values),
+    isLog(ay.values),
+  );
+  const within = [...error.values()].filter((e) => e <= info.tolerance).length;
+  const where = within === 0
+    ? "nowhere within"
+    : within === error.size
+    ? "everywhere within"
+    : "white: the contour of";
+  return heatmap(
+    `first-order population error of ${target} (${where} the tolerance ${info.tolerance.toExponential(0)})`,
+    grid,
+    fixed.map((r) => ({
+      x: r.values[0]!,
+      y: r.values[1]!,
+      value: Math.max(error.get(`${r.values[0]},${r.values[1]}`)!, 1e-16),
+    })),
+    { type: "quantitative", title: "|P₁ − P|", scale: { type: "log", scheme: "viridis" } },
+    contour,
+  );
 }
