@@ -296,10 +296,31 @@ Deno.test("init writes every built-in example, and each one inspects cleanly", a
 });
 
 Deno.test("inspect rejects a param named like a built-in (t, strength, a function)", async () => {
-  for (const name of ["t", "strength", "cos", "num"]) {
+  for (const name of ["t", "strength", "cos", "I"]) {
     await expectError([["g = 0.05", `g = 0.05\n${name} = 1`]], [
       `params.${name}`,
       `"${name}" is a built-in name`,
     ]);
   }
+});
+
+Deno.test("a misspelt operator name in a case is exit 2 with the file, the line, the key and the notation's names", async () => {
+  const composite = (op: string) =>
+    BASE.replace('[levels]\nnames = ["g", "e"]', "[subsystems]\nq = { spin = 0.5 }\nm = { oscillator = 3 }")
+      .replace('matrix = [[0, 0], [0, "delta"]]', 'op = "delta*Sz_q + n_m"')
+      .replace('matrix = [[0, "g"], ["g", 0]]', `op = "${op}"`)
+      .replace('state = "g"', 'state = "+1/2,0"');
+  for (const op of ["g*sigmax(q)", "g*(a(m) + adag(m))", "g*num(m)", "g*dag(a_m)", "g*Sp_q"]) {
+    const file = tempCase(composite(op));
+    const { code, stderr } = await runOrdo(["inspect", file]);
+    assertEqual(code, 2, `${op}: exit code (stderr: ${stderr})`);
+    assert(stderr.includes(`${file}:12: perturbation.terms[0].op`), `${op}: file, line and key: ${stderr}`);
+    assert(stderr.includes(`"${op}"`), `${op}: quotes what was written: ${stderr}`);
+    assert(
+      stderr.includes("Sx_q Sy_q Sz_q S+_q S-_q σx_q σy_q σz_q σ+_q σ-_q"),
+      `${op}: lists names: ${stderr}`,
+    );
+  }
+  const good = await runOrdo(["inspect", tempCase(composite("g*(σ+_q*a_m + σ-_q*a_m†)"))]);
+  assertEqual(good.code, 0, good.stderr);
 });

@@ -245,9 +245,9 @@ w = ${w}
 [subsystems]
 m = { oscillator = 16 }
 [unperturbed]
-op = "omega*num(m)"
+op = "omega*n_m"
 [perturbation]
-op = "a(m) + adag(m)"
+op = "a_m + a_m†"
 coef = "F*gauss(t, 15, w)"
 [start]
 state = "0"

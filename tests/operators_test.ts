@@ -32,14 +32,14 @@ Deno.test("spin operators satisfy [Sx, Sy] = i Sz and S² = s(s+1) for s = 1/2 �
   for (const s of [0.5, 1, 1.5, 2, 2.5]) {
     const space = productSpace(spinSpace(s));
     const op = (text: string) => evaluateOperator(text, space, noParams, ["op"]).matrix;
-    const comm = op("sx(q)*sy(q) - sy(q)*sx(q)");
+    const comm = op("Sx_q*Sy_q - Sy_q*Sx_q");
     assertMatrixClose(
       comm,
-      op("sz(q)").scale({ re: 0, im: 1 }),
+      op("Sz_q").scale({ re: 0, im: 1 }),
       1e-13,
       `[Sx,Sy] for s=${s}`,
     );
-    const s2 = op("sx(q)^2 + sy(q)^2 + sz(q)^2");
+    const s2 = op("Sx_q^2 + Sy_q^2 + Sz_q^2");
     assertMatrixClose(
       s2,
       ComplexMatrix.identity(space.dim).scale({ re: s * (s + 1), im: 0 }),
@@ -47,8 +47,8 @@ Deno.test("spin operators satisfy [Sx, Sy] = i Sz and S² = s(s+1) for s = 1/2 �
       `S² for s=${s}`,
     );
     assertMatrixClose(
-      op("splus(q)"),
-      op("sx(q) + i*sy(q)"),
+      op("S+_q"),
+      op("Sx_q + i*Sy_q"),
       1e-14,
       `S+ for s=${s}`,
     );
@@ -59,19 +59,19 @@ Deno.test("spin-1/2 Pauli operators are the textbook matrices", () => {
   const space = productSpace(spinSpace(0.5));
   const op = (text: string) => evaluateOperator(text, space, noParams, ["op"]).matrix;
   assertMatrixClose(
-    op("sigmax(q)"),
+    op("σx_q"),
     new ComplexMatrix(2, 2, new Float64Array([0, 0, 1, 0, 1, 0, 0, 0])),
     0,
     "σx",
   );
   assertMatrixClose(
-    op("sigmay(q)"),
+    op("σy_q"),
     new ComplexMatrix(2, 2, new Float64Array([0, 0, 0, -1, 0, 1, 0, 0])),
     0,
     "σy",
   );
   assertMatrixClose(
-    op("sigmaz(q)"),
+    op("σz_q"),
     new ComplexMatrix(2, 2, new Float64Array([1, 0, 0, 0, 0, 0, -1, 0])),
     0,
     "σz",
@@ -87,7 +87,7 @@ Deno.test("truncated oscillator: [a, a†] = 1 below the cutoff and a†a counts
     labels: Array.from({ length: n }, (_, k) => String(k)),
   }]);
   const op = (text: string) => evaluateOperator(text, space, noParams, ["op"]).matrix;
-  const comm = op("a(m)*adag(m) - adag(m)*a(m)");
+  const comm = op("a_m*a_m† - a_m†*a_m");
   for (let k = 0; k < n; k++) {
     // Below the cutoff the commutator is 1; the last Fock state carries −(n−1), the truncation's price.
     assertClose(
@@ -97,9 +97,9 @@ Deno.test("truncated oscillator: [a, a†] = 1 below the cutoff and a†a counts
       `[a,a†] at ${k}`,
     );
   }
-  assertMatrixClose(op("num(m)"), op("adag(m)*a(m)"), 1e-14, "num = a†a");
+  assertMatrixClose(op("n_m"), op("a_m'*a_m"), 1e-14, "n = a†a (ASCII dagger)");
   for (let k = 0; k < n; k++) {
-    assertClose(op("num(m)").get(k, k).re, k, { abs: 1e-14 });
+    assertClose(op("n_m").get(k, k).re, k, { abs: 1e-14 });
   }
 });
 
@@ -113,16 +113,16 @@ Deno.test("local operators embed by tensor product in subsystem order (checked w
     "+1/2,0 +1/2,1 +1/2,2 -1/2,0 -1/2,1 -1/2,2",
   );
   const mine = evaluateOperator(
-    "sz(q)*num(m) + 0.25*sigmax(q)*(a(m) + adag(m))",
+    "Sz_q*n_m + 0.25*σx_q*(a_m + a_m†)",
     space,
     noParams,
     ["op"],
   ).matrix;
   const sz = [[0.5, 0], [0, -0.5]], sx = [[0, 1], [1, 0]];
-  const num = [[0, 0, 0], [0, 1, 0], [0, 0, 2]];
+  const quanta = [[0, 0, 0], [0, 1, 0], [0, 0, 2]];
   const x = [[0, 1, 0], [1, 0, Math.SQRT2], [0, Math.SQRT2, 0]];
   const ref = math.add(
-    math.kron(sz, num),
+    math.kron(sz, quanta),
     math.multiply(0.25, math.kron(sx, x)),
   ) as unknown as number[][];
   for (let i = 0; i < 6; i++) {
@@ -165,13 +165,88 @@ Deno.test("ket-bras resolve on full labels or on the one subsystem that has them
     "ambiguous",
   );
   assertThrows(
-    () => evaluateOperator("sx(atom)", space, noParams, ["op"]),
+    () => evaluateOperator("Sx_atom", space, noParams, ["op"]),
     CaseError,
-    "does not apply",
+    "is a spin operator, but atom is a set of labelled levels",
   );
   assertThrows(
     () => evaluateOperator("3", space, noParams, ["op"]),
     CaseError,
     "not an operator",
   );
+});
+
+Deno.test("Pauli algebra in the notation: σx σy = i σz, σ±, σ² = I, and the adjoint of a product (Pauli identities: Sakurai, Modern Quantum Mechanics §3.2, from memory)", () => {
+  const space = productSpace(spinSpace(0.5));
+  const op = (text: string) => evaluateOperator(text, space, noParams, ["op"]).matrix;
+  assertMatrixClose(op("σx_q*σy_q"), op("i*σz_q"), 1e-15, "σx σy = i σz");
+  assertMatrixClose(op("σy_q*σz_q"), op("i*σx_q"), 1e-15, "σy σz = i σx");
+  for (const axis of ["x", "y", "z"]) assertMatrixClose(op(`σ${axis}_q^2`), op("I"), 1e-15, `σ${axis}² = I`);
+  assertMatrixClose(op("σ+_q"), op("(σx_q + i*σy_q)/2"), 1e-15, "σ+ = (σx + iσy)/2");
+  assertMatrixClose(op("σ-_q"), op("σ+_q†"), 1e-15, "σ- = σ+†");
+  assertMatrixClose(op("S-_q"), op("S+_q'"), 1e-15, "S- = S+' (ASCII dagger)");
+  // σ+ = |↑><↓|: the +1/2 row, -1/2 column
+  assertEqual(op("σ+_q").get(0, 1).re, 1);
+  assertMatrixClose(op("(σ+_q*σz_q)†"), op("σz_q*σ-_q"), 1e-15, "(AB)† = B†A†");
+  assertMatrixClose(op("2 - σz_q"), op("2*I - σz_q"), 1e-15, "a number added is a multiple of I");
+});
+
+Deno.test("misspellings a user would try end in a CaseError that lists the notation, with an example", () => {
+  const space = productSpace([
+    { name: "q", kind: "spin", labels: spinLabels(0.5), spin: 0.5 },
+    { name: "m", kind: "oscillator", labels: ["0", "1", "2"] },
+  ]);
+  const tries = [
+    "sigmax(q)",
+    "sigmaz(q)",
+    "num(m)",
+    "dag(a_m)",
+    "adag_m",
+    "a(m)",
+    "destroy(m)",
+    "create(m)",
+    "qeye(q)",
+    "id(q)",
+    "sx_q",
+    "Sx(q)",
+    "sigma_x",
+    "σx(q)",
+    "X_q",
+    "ad_m",
+    "a_m^dagger",
+  ];
+  for (const text of tries) {
+    const e = assertThrows(() => evaluateOperator(text, space, noParams, ["op"]), CaseError);
+    assert(e.message.includes(`"${text}"`), `${text}: the message quotes what was written: ${e.message}`);
+    assert(
+      e.fix?.includes("Sx_q Sy_q Sz_q S+_q S-_q σx_q σy_q σz_q σ+_q σ-_q"),
+      `${text}: lists the spin operators`,
+    );
+    assert(e.fix?.includes("a_m (lowering), n_m"), `${text}: lists the oscillator operators`);
+    assert(e.fix?.includes('e.g. "g*(σ+_q*a_m + σ-_q*a_m†)"'), `${text}: gives an example`);
+  }
+  assertThrows(
+    () => evaluateOperator("a_q", space, noParams, ["op"]),
+    CaseError,
+    "a is an oscillator operator",
+  );
+  assertThrows(
+    () => evaluateOperator("Sz_r", space, noParams, ["op"]),
+    CaseError,
+    'there is no subsystem "r"',
+  );
+  assertThrows(() => evaluateOperator("n_m^0.5", space, noParams, ["op"]), CaseError, "whole power");
+});
+
+Deno.test("messages quote the text as written, never a rewrite (ket-bras, h.c., daggers, ladders)", () => {
+  const space = productSpace([{ name: "atom", kind: "levels", labels: ["g", "e"] }]);
+  for (const text of ["|e><g| + + H.c.", "|e><g| +* 2", "2*|e><g| + h.c. + 1"]) {
+    const e = assertThrows(() => evaluateOperator(text, space, noParams, ["op"]), CaseError);
+    assert(e.message.includes(`"${text}"`), e.message);
+    assert(!e.message.includes("$"), `no placeholder in: ${e.message}`);
+  }
+  // "+ H.c." is the trade's other spelling of the same thing
+  const r = evaluateOperator("0.5*|e><g| + H.c.", space, noParams, ["op"]);
+  assert(r.hc);
+  assertEqual(r.matrix.get(1, 0).re, 0.5);
 });

@@ -9,7 +9,7 @@ import type { RunOutcome } from "./outcome.ts";
 import { normIntegralAt } from "./norms.ts";
 import { VERSION } from "../base/version.ts";
 
-function num(x: number, digits = 4): string {
+function sci(x: number, digits = 4): string {
   if (Number.isNaN(x)) return "—";
   if (x === 0) return "0";
   return x.toExponential(digits - 1);
@@ -40,7 +40,7 @@ export function formatRun(
   out.push(
     `window  t = ${built.model.tStart} … ${built.model.tEnd}${tu}; reporting t = ${
       Number(analysis.time.toPrecision(6))
-    }${tu}; x = ∫‖λV‖dt ≤ ${num(normIntegralAt(info, analysis.time), 3)}`,
+    }${tu}; x = ∫‖λV‖dt ≤ ${sci(normIntegralAt(info, analysis.time), 3)}`,
   );
   for (const target of analysis.targets) {
     out.push("");
@@ -49,20 +49,20 @@ export function formatRun(
     for (const row of target.rows) {
       out.push(
         `  ${String(row.order).padStart(5)}  ${pop(row.population).padEnd(15)}  ${
-          num(row.error).padStart(9)
-        }  ${num(row.bound).padStart(9)}  ${pop(row.consistent).padStart(14)}  ${
-          num(row.ratio, 3).padStart(9)
+          sci(row.error).padStart(9)
+        }  ${sci(row.bound).padStart(9)}  ${pop(row.consistent).padStart(14)}  ${
+          sci(row.ratio, 3).padStart(9)
         }`,
       );
     }
   }
   out.push("");
-  out.push(`verdict (tolerance ${num(analysis.tolerance, 2)} on populations)`);
+  out.push(`verdict (tolerance ${sci(analysis.tolerance, 2)} on populations)`);
   const refText = result.checkDivisor === 15
     ? "step doubling, |P(h) − P(2h)|/15"
     : "exact by eigen-decomposition vs by Taylor series";
   out.push(
-    `  reference error ≈ ${num(analysis.referenceError, 2)} (${refText}): ` +
+    `  reference error ≈ ${sci(analysis.referenceError, 2)} (${refText}): ` +
       (analysis.referenceOk
         ? "small enough to judge the orders"
         : "TOO LARGE to judge orders at this tolerance; raise [grid] steps or the tolerance"),

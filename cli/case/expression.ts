@@ -73,13 +73,23 @@ export interface Compiled {
   sample(times: Float64Array, out: Float64Array): void;
 }
 
-/** Parses an expression with mathjs, turning its syntax errors into case errors. */
-export function parseExpression(source: string, path: KeyPath): MathNode {
+/**
+ * Parses an expression with mathjs, turning its syntax errors into case errors.
+ *
+ * @param source the text to parse
+ * @param path where it sits in the case
+ * @param shown the text as the user wrote it, when `source` is a same-length rewrite of it (messages quote it)
+ * @returns the parsed node
+ */
+export function parseExpression(source: string, path: KeyPath, shown = source): MathNode {
   try {
     return parseMath(source);
   } catch (e) {
+    const message = (e as Error).message;
+    const at = /\(char (\d+)\)/.exec(message);
+    const where = at ? `, just after "${shown.slice(0, Math.max(0, Number(at[1]) - 1))}"` : "";
     throw new CaseError(
-      `cannot parse the expression "${source}": ${(e as Error).message}`,
+      `cannot parse the expression "${shown}": ${message}${where}`,
       path,
       'write plain arithmetic with params, t, pi, e, i and the listed functions, e.g. "g*gauss(t, 10, 2)*cos(w*t)"',
     );

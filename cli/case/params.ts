@@ -15,7 +15,7 @@ import {
   toComplex,
   type Value,
 } from "./expression.ts";
-import { OPERATOR_FUNCTIONS } from "./operators.ts";
+import { OPERATOR_NAMES } from "./operators.ts";
 
 /** The name under which λ, the bookkeeping strength of V, is swept and used in formulas. */
 export const STRENGTH = "strength";
@@ -29,7 +29,7 @@ const RESERVED = new Set([
   "col",
   STRENGTH, // λ, sweepable by this name
   ...BUILTIN_NAMES,
-  ...OPERATOR_FUNCTIONS,
+  ...OPERATOR_NAMES,
 ]);
 
 /** A value as the user would write it: `0.5`, `0.5+0.2i`. */

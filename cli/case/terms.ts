@@ -18,7 +18,7 @@ import {
   toComplex,
   type Value,
 } from "./expression.ts";
-import { evaluateOperator } from "./operators.ts";
+import { evaluateOperator, HC_SUFFIX } from "./operators.ts";
 import { entryValue, showValue } from "./params.ts";
 import type { Space } from "./space.ts";
 import type { UnitConvention } from "./units.ts";
@@ -78,7 +78,7 @@ export function sectionTerms(
 /** How many matrices a section assembles to (a conjugate partner counts as one more), known before building any. */
 export function termCount(name: Section, section: SectionSpec): number {
   return sectionTerms(name, section).reduce(
-    (n, { term }) => n + (term.hc || /h\.c\.?\s*$/.test(term.op ?? "") ? 2 : 1),
+    (n, { term }) => n + (term.hc || HC_SUFFIX.test(term.op ?? "") ? 2 : 1),
     0,
   );
 }

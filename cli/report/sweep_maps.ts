@@ -32,12 +32,12 @@ function parseRows(rows: string[], grid: Grid, info: SweepInfo): ParsedRow[] {
   const a = grid.axes.length, n1 = info.order + 1, t = info.targets.length;
   return rows.map((row) => {
     const cells = row.split(",");
-    const num = (k: number) => Number(cells[k]);
+    const cell = (k: number) => Number(cells[k]);
     const exact: number[] = [], orders: number[][] = [];
     for (let j = 0; j < t; j++) {
       const base = a + j * (n1 + 1);
-      exact.push(num(base));
-      orders.push(Array.from({ length: n1 }, (_, n) => num(base + 1 + n)));
+      exact.push(cell(base));
+      orders.push(Array.from({ length: n1 }, (_, n) => cell(base + 1 + n)));
     }
     const minOrder = Array.from({ length: t }, (_, j) => {
       const c = cells[a + t * (n1 + 1) + j]!;
