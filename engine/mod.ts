@@ -228,7 +228,7 @@ export function solve(
       store(k, k * interval);
       onProgress?.(k / (samples - 1));
     }
-    return {
+    return finite({
       scheme,
       steps: 0,
       stepSize: interval,
@@ -238,7 +238,7 @@ export function solve(
       check: checkStates,
       checkDivisor: 1,
       elapsedMs: performance.now() - started,
-    };
+    });
   }
 
   const per = stepsPerSample(model);
@@ -303,7 +303,7 @@ export function solve(
     }
     store(j + 1, (j + 1) * per * h);
   }
-  return {
+  return finite({
     scheme,
     steps: total,
     stepSize: h,
@@ -313,7 +313,26 @@ export function solve(
     check: checkStates,
     checkDivisor: 15,
     elapsedMs: performance.now() - started,
-  };
+  });
+}
+
+/**
+ * Returns the result when every recorded number is finite; a NaN or an infinity (an overflow somewhere in the
+ * propagation) is never handed on as a result.
+ */
+function finite(result: Result): Result {
+  for (const [what, states] of [["exact state", result.exact], ["check state", result.check]] as const) {
+    if (!states.every(Number.isFinite)) throw new EngineError(nonFiniteMessage(what));
+  }
+  result.terms.forEach((term, n) => {
+    if (!term.every(Number.isFinite)) throw new EngineError(nonFiniteMessage(`Dyson term ${n}`));
+  });
+  return result;
+}
+
+function nonFiniteMessage(what: string): string {
+  return `the ${what} holds NaN or infinite values: the propagation overflowed double precision ` +
+    "(are the energies, coefficients or λ so large that H·t exceeds about 1e300?)";
 }
 
 /** Σ coef·matrix over constant terms (the schemes that diagonalize take one summed H0 or V). */

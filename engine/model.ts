@@ -70,9 +70,38 @@ export function schemeFor(model: Model): Scheme {
 }
 
 /** Integrator steps per recorded interval: enough for the request, even (for step doubling). */
-export function stepsPerSample(model: Model): number {
+export function stepsPerSample(model: Pick<Model, "steps" | "samples">): number {
   const per = Math.max(1, Math.ceil(model.steps / (model.samples - 1)));
   return per % 2 === 0 ? per : per + 1;
+}
+
+/** The two Gauss nodes of the 4th-order step, as fractions of the step. */
+export const GAUSS_NODES = [0.5 - Math.sqrt(3) / 6, 0.5 + Math.sqrt(3) / 6] as const;
+
+/**
+ * Calls visit(t) at every time a stepped scheme samples the coefficients: the two Gauss nodes of each step of
+ * size h, and of each doubled step 2h (the step-doubling reference), in the engine's own arithmetic.
+ *
+ * @param grid the window, the requested steps and the recorded samples
+ * @param visit called once per node time
+ */
+export function forEachNode(
+  grid: Pick<Model, "tStart" | "tEnd" | "steps" | "samples">,
+  visit: (t: number) => void,
+): void {
+  const per = stepsPerSample(grid);
+  const h = (grid.tEnd - grid.tStart) / (grid.samples - 1) / per;
+  const [c1, c2] = GAUSS_NODES;
+  const total = per * (grid.samples - 1);
+  for (let s = 0; s < total; s++) {
+    const t = grid.tStart + s * h;
+    visit(t + c1 * h);
+    visit(t + c2 * h);
+    if (s % 2 === 0) {
+      visit(t + c1 * 2 * h);
+      visit(t + c2 * 2 * h);
+    }
+  }
 }
 
 /** WebAssembly memory the engine may use: 32-bit addresses reach 4 GiB; we keep headroom. */

@@ -161,13 +161,19 @@ Deno.test("the verdict warns when the Dyson terms grow with order", async () => 
 });
 
 Deno.test("the verdict refuses to call an order converged when the reference is too coarse", async () => {
-  // A fast drive with far too few steps: the step-doubling estimate is large.
-  const text = tempCase(twoLevel(5, 0.3, 20, { coef: "cos(5*t)", steps: 20, samples: 3, order: 8 }));
+  // A fast drive with too few steps (0.9 rad per step: resolved, but coarse): the step-doubling estimate is large.
+  const text = tempCase(twoLevel(5, 0.3, 20, { coef: "cos(5*t)", steps: 120, samples: 3, order: 8 }));
   const r = await runJson([text]);
   assertEqual(r.analysis.reference_ok, false);
   for (const t of r.analysis.targets) assertEqual(t.min_order, null);
   const { stdout } = await runOrdo(["run", text, "--quiet"]);
   assert(stdout.includes("TOO LARGE to judge orders"), stdout);
+  // Far too few (5 rad per step): the phase is not resolved, and nothing is judged whatever the estimate says.
+  const aliased = tempCase(twoLevel(5, 0.3, 20, { coef: "cos(5*t)", steps: 20, samples: 3, order: 8 }));
+  const a = await runJson([aliased]);
+  assertEqual(a.analysis.reference_ok, false);
+  assert(a.analysis.untrusted[0].includes("cannot resolve the fastest phase"), a.analysis.untrusted[0]);
+  for (const t of a.analysis.targets) assertEqual(t.min_order, null);
 });
 
 Deno.test("run flags override the case: --order, --steps, --set, --targets, --at", async () => {

@@ -1,8 +1,5 @@
-// Unit conventions against published constants as mathjs carries them.
-// Reference values: the SI defines c = 299 792 458 m/s and h exactly; CODATA
-// 2018 gives e/ħ = 1.519 267 447… × 10¹⁵ s⁻¹. mathjs's "eV" unit carries the
-// CODATA 2010 value 1.602 176 565 × 10⁻¹⁹ J, 4.3e-8 relative below the exact
-// SI value, so eV checks allow 1e-7 relative.
+// Unit conventions against the SI's exact defining constants (2019).
+import { all, create } from "mathjs";
 import { assertThrows } from "./assert.ts";
 import { assertClose } from "./helpers.ts";
 import { resolveUnits } from "../cli/case/units.ts";
@@ -26,27 +23,33 @@ Deno.test("resolveUnits() converts cyclic frequencies with their 2π", () => {
   );
 });
 
-Deno.test("resolveUnits() sends energies through ħ (CODATA 2018 e/ħ, within mathjs's eV)", () => {
-  // 1 eV/ħ = 1.519267447e15 rad/s → 1.519267447 rad/fs
-  assertClose(
-    resolveUnits({ time: "fs", energy: "eV" }).energyFactor,
-    1.519267447,
-    { rel: 1e-7 },
-  );
-  assertClose(
-    resolveUnits({ time: "ps", energy: "meV" }).energyFactor,
-    1.519267447,
-    { rel: 1e-7 },
-  );
-});
-
-Deno.test("resolveUnits() sends wavenumbers through 2πc (c exact by SI definition)", () => {
-  // 1 cm⁻¹ → ω = 2π·c·100 m⁻¹ = 2π·2.99792458e10 s⁻¹; in rad/ps: 2π·0.0299792458
-  assertClose(
-    resolveUnits({ time: "ps", energy: "cm^-1" }).energyFactor,
-    2 * Math.PI * 0.0299792458,
-    { rel: 1e-14 },
-  );
+Deno.test("resolveUnits() sends eV, meV, cm⁻¹, GHz and K through the exact SI-2019 constants (to 1e-15)", () => {
+  // Expected values: the SI's defining constants (e = 1.602176634e-19 C, h = 6.62607015e-34 J s,
+  // k_B = 1.380649e-23 J/K, c = 299792458 m/s, all exact since 2019), combined in 64-digit arithmetic by
+  // mathjs BigNumber, an independent general-purpose library.
+  const B = create(all!, { number: "BigNumber", precision: 64 });
+  const big = (x: string) => B.bignumber(x);
+  const twoPi = B.multiply(2, B.pi) as unknown as ReturnType<typeof big>;
+  const h = big("6.62607015e-34"), e = big("1.602176634e-19"), kB = big("1.380649e-23"), c = big("299792458");
+  const omega = (joules: ReturnType<typeof big>, seconds: string) =>
+    B.number(B.multiply(B.divide(B.multiply(twoPi, joules), h), big(seconds)) as never) as number;
+  const cases: [{ time: string; energy: string }, number][] = [
+    [{ time: "fs", energy: "eV" }, omega(e, "1e-15")],
+    [{ time: "ps", energy: "meV" }, omega(B.multiply(e, big("1e-3")) as never, "1e-12")],
+    [{ time: "ns", energy: "ueV" }, omega(B.multiply(e, big("1e-6")) as never, "1e-9")],
+    [{ time: "ns", energy: "K" }, omega(kB, "1e-9")],
+    [{ time: "us", energy: "mK" }, omega(B.multiply(kB, big("1e-3")) as never, "1e-6")],
+    [{ time: "ns", energy: "GHz" }, B.number(B.multiply(twoPi, big("1")) as never) as number],
+    [
+      { time: "ps", energy: "cm^-1" },
+      B.number(B.multiply(B.multiply(twoPi, B.multiply(c, big("100"))), big("1e-12")) as never) as number,
+    ],
+  ];
+  for (const [units, expected] of cases) {
+    assertClose(resolveUnits(units).energyFactor, expected, { rel: 1e-15 }, `${units.energy} in rad/${units.time}`);
+  }
+  // CODATA 2018 (exact since 2019), from memory: e/ħ = 1.519267447…e15 s⁻¹, so 1 eV/ħ ≈ 1.519267447 rad/fs.
+  assertClose(resolveUnits({ time: "fs", energy: "eV" }).energyFactor, 1.519267447, { rel: 1e-9 });
 });
 
 Deno.test("resolveUnits() keeps angular units and the dimensionless default as they are", () => {

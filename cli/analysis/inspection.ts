@@ -11,7 +11,8 @@
 import type { BuiltCase } from "../case/build.ts";
 import { assembleAt } from "../case/terms.ts";
 import { bohrFrequencies, type BohrFrequency, spectrum } from "./spectra.ts";
-import { type NormProfile, normProfile } from "./norms.ts";
+import { coefficientRate, type NormProfile, normProfile } from "./norms.ts";
+import type { Resolution } from "./verdict.ts";
 import { type Engine, estimateMemory, schemeFor, stepsPerSample } from "../../engine/mod.ts";
 
 export { normIntegralAt } from "./norms.ts";
@@ -38,14 +39,8 @@ export interface Inspection extends NormProfile {
   memoryLargest: string;
 }
 
-/**
- * Computes the inspection of a built case.
- *
- * @param engine a loaded engine (for the eigensolver)
- * @param built the case
- * @returns the facts to report
- */
-export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
+/** H0's spectrum (at both ends when it depends on t), the coupled Bohr frequencies and the fastest phase. */
+function spectralFacts(engine: Engine, built: BuiltCase) {
   const { model, space } = built;
   const d = model.dim;
   const h0Terms = built.terms.filter((t) => t.section === "unperturbed");
@@ -60,6 +55,35 @@ export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
   if (h0TimeDependent) {
     for (const s of spectra) omegaMax = Math.max(omegaMax, s.values[d - 1]! - s.values[0]!);
   }
+  return { scheme, spectra, bohr, omegaMax };
+}
+
+/**
+ * How fast H turns per integrator step, for the verdict: the fastest coupled phase or coefficient rate times
+ * the step (0 for the time-independent scheme, which takes no steps).
+ *
+ * @param engine a loaded engine (for the eigensolver)
+ * @param built the case
+ * @param stepSize the step the engine took
+ * @returns the resolution the verdict checks
+ */
+export function resolutionOf(engine: Engine, built: BuiltCase, stepSize: number): Resolution {
+  if (schemeFor(built.model) === "time-independent") return { phasePerStep: 0 };
+  const { omegaMax } = spectralFacts(engine, built);
+  return { phasePerStep: Math.max(omegaMax, coefficientRate(built.terms, built.model)) * stepSize };
+}
+
+/**
+ * Computes the inspection of a built case.
+ *
+ * @param engine a loaded engine (for the eigensolver)
+ * @param built the case
+ * @returns the facts to report
+ */
+export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
+  const { model } = built;
+  const d = model.dim;
+  const { scheme, spectra, bohr, omegaMax } = spectralFacts(engine, built);
   const norms = normProfile(engine, built.terms, model);
 
   const memory = estimateMemory(model);

@@ -63,6 +63,22 @@ export function normProfile(engine: Engine, terms: AssembledTerm[], model: Model
   return { vMax, normIntegral: integral, normCumulative, normTimes, coefRate: rates.fastest() };
 }
 
+/**
+ * The fastest relative rate of change of any coefficient, max |f'|/max |f|, sampled as in {@link normProfile}.
+ *
+ * @param terms every assembled term
+ * @param model the window and steps
+ * @returns the rate (0 when no coefficient depends on t)
+ */
+export function coefficientRate(terms: AssembledTerm[], model: Model): number {
+  if (!terms.some((t) => t.coef?.usesTime)) return 0;
+  const points = Math.min(200_001, Math.max(4001, 4 * model.steps + 1));
+  const span = model.tEnd - model.tStart;
+  const rates = coefficientRates(terms);
+  for (let k = 0; k < points; k++) rates.sample(model.tStart + span * k / (points - 1), k > 0 ? span / (points - 1) : 0);
+  return rates.fastest();
+}
+
 /** Tracks max |f'| (by differences) and max |f| of every time-dependent coefficient. */
 function coefficientRates(terms: AssembledTerm[]) {
   const rateMax = new Float64Array(terms.length), absMax = new Float64Array(terms.length);

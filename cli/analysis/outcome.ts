@@ -44,6 +44,8 @@ export function runCase(
   }
   // The tail bound at the reported time uses x = ∫‖λV‖ds up to that time.
   const x = normIntegralAt(info, result.times[sample]!);
-  const analysis = analyse(result, built.space.labels, built.targets, x, built.tolerance, sample);
+  const stepped = result.scheme !== "time-independent";
+  const resolution = { phasePerStep: stepped ? Math.max(info.omegaMax, info.coefRate) * result.stepSize : 0 };
+  const analysis = analyse(result, built.space.labels, built.targets, x, built.tolerance, sample, resolution);
   return { built, info, result, analysis };
 }

@@ -63,6 +63,8 @@ export function runJson({ built, result, analysis }: RunOutcome): unknown {
       time: analysis.time,
       tolerance: analysis.tolerance,
       reference_ok: analysis.referenceOk,
+      untrusted: analysis.untrusted,
+      norm_drift: analysis.normDrift,
       term_norms: analysis.termNorms,
       growing_terms: analysis.growing,
       targets: analysis.targets.map((t) => ({

@@ -61,13 +61,21 @@ export function formatRun(
   const refText = result.checkDivisor === 15
     ? "step doubling, |P(h) − P(2h)|/15"
     : "exact by eigen-decomposition vs by Taylor series";
+  const judged = analysis.untrusted.length === 0;
   out.push(
     `  reference error ≈ ${sci(analysis.referenceError, 2)} (${refText}): ` +
       (analysis.referenceOk
         ? "small enough to judge the orders"
-        : "TOO LARGE to judge orders at this tolerance; raise [grid] steps or the tolerance"),
+        : judged
+        ? "TOO LARGE to judge orders at this tolerance; raise [grid] steps or the tolerance"
+        : "NOT TRUSTED, whatever its size: no order is judged"),
   );
+  for (const reason of analysis.untrusted) out.push(`  NOT JUDGED: ${reason}`);
   for (const t of analysis.targets) {
+    if (!judged) {
+      out.push(`  ${t.label}: not judged (the exact reference cannot be trusted here)`);
+      continue;
+    }
     const need = t.minOrder === null
       ? `no order up to ${built.model.order} meets the tolerance`
       : `order ${t.minOrder} meets the tolerance`;

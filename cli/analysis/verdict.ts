@@ -47,14 +47,34 @@ export interface Analysis {
   tolerance: number;
   /** Estimated error of the exact populations (largest over targets and times). */
   referenceError: number;
-  /** The reference is good enough to judge orders at the tolerance. */
+  /** The reference is good enough to judge orders at the tolerance (and nothing below makes it untrustworthy). */
   referenceOk: boolean;
+  /** Why the run cannot be trusted to judge orders (empty when it can): aliasing, a drifting norm. */
+  untrusted: string[];
+  /** Largest |‖ψ_exact‖² − 1| over the recorded times. */
+  normDrift: number;
   /** Norm of each Dyson term at this time. */
   termNorms: number[];
   /** Terms grow with order at the top of the series. */
   growing: boolean;
   targets: TargetVerdict[];
 }
+
+/** How fast the Hamiltonian turns per integrator step (0 for the time-independent scheme, which takes none). */
+export interface Resolution {
+  /** The fastest phase per step: max(largest coupled |E_a − E_b|, fastest coefficient rate) × h, in rad. */
+  phasePerStep: number;
+}
+
+/** Phase per step above which a stepped scheme cannot resolve the fastest oscillation (sampling, not accuracy). */
+export const MAX_PHASE_PER_STEP = 1;
+
+/**
+ * The norm of the exact state may drift from 1 by round-off only: each step applies exponentials of a
+ * Hermitian matrix summed to round-off (≈1e-16 per step, so ≈1e-10 after 10⁶ steps). More means H was not
+ * Hermitian somewhere or the numbers overflowed.
+ */
+export const MAX_NORM_DRIFT = 1e-8;
 
 /** e^x − Σ_{m≤n} xᵐ/m!, summed from the tail for accuracy. */
 export function tailBound(x: number, n: number): number {
@@ -94,6 +114,7 @@ function stateNorm(states: Float64Array, d: number, k: number): number {
  * @param normIntegral x = ∫‖λV‖dt from the start up to the reported time
  * @param tolerance absolute tolerance on populations
  * @param sample which recorded time (default: the last)
+ * @param resolution how fast H turns per step (omit for a time-independent run)
  * @returns the table and verdict
  */
 export function analyse(
@@ -103,12 +124,15 @@ export function analyse(
   normIntegral: number,
   tolerance: number,
   sample = result.times.length - 1,
+  resolution: Resolution = { phasePerStep: 0 },
 ): Analysis {
   const d = labels.length;
   const k = sample;
   const termNorms = result.terms.map((t) => stateNorm(t, d, k));
   const referenceError = referenceErrorOf(result, labels, targets);
-  const referenceOk = referenceError <= 0.1 * tolerance;
+  const normDrift = normDriftOf(result.exact, d);
+  const untrusted = distrust(resolution, normDrift);
+  const referenceOk = referenceError <= 0.1 * tolerance && untrusted.length === 0;
   const verdicts = targets.map((label) =>
     targetVerdict(result, { d, a: labels.indexOf(label), label, k }, {
       termNorms,
@@ -127,6 +151,8 @@ export function analyse(
     tolerance,
     referenceError,
     referenceOk,
+    untrusted,
+    normDrift,
     termNorms,
     growing,
     targets: verdicts,
@@ -199,4 +225,30 @@ function targetVerdict(
     leadingOrder: lead ? lead.order : null,
     leadingRelative: lead && exact > 0 ? lead.error / exact : NaN,
   };
+}
+
+/** Largest |‖ψ‖² − 1| over the recorded states. */
+function normDriftOf(states: Float64Array, d: number): number {
+  let drift = 0;
+  for (let k = 0; k < states.length / (2 * d); k++) drift = Math.max(drift, Math.abs(stateNorm(states, d, k) ** 2 - 1));
+  return drift;
+}
+
+/** The reasons a run cannot judge orders, however small its step-doubling estimate. */
+function distrust(resolution: Resolution, normDrift: number): string[] {
+  const reasons: string[] = [];
+  if (!(resolution.phasePerStep <= MAX_PHASE_PER_STEP)) {
+    reasons.push(
+      `the steps cannot resolve the fastest phase: ${resolution.phasePerStep.toPrecision(3)} rad per step ` +
+        `(at most ${MAX_PHASE_PER_STEP} is needed); the exact populations may be aliased and the step-doubling ` +
+        "estimate cannot tell; raise [grid] steps (see `ordo inspect`)",
+    );
+  }
+  if (!(normDrift <= MAX_NORM_DRIFT)) {
+    reasons.push(
+      `the exact state's norm drifts from 1 by ${normDrift.toPrecision(3)}, more than round-off: ` +
+        "H is not Hermitian at some time, or the numbers overflowed",
+    );
+  }
+  return reasons;
 }

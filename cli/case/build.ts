@@ -14,7 +14,8 @@ import { resolveUnits, type UnitConvention } from "./units.ts";
 import { evaluateParams } from "./params.ts";
 import { buildSpace, listLabels, type Space } from "./space.ts";
 import { readSettings } from "./grid.ts";
-import { type AssembledTerm, assembleSection, checkHermitian, engineTerm, termCount } from "./terms.ts";
+import { type AssembledTerm, assembleSection, checkCoefficientsFinite, engineTerm, termCount } from "./terms.ts";
+import { checkHermitian } from "./hermiticity.ts";
 import { startState } from "./start.ts";
 import { checkMemory, guardExactWork } from "./limits.ts";
 import type { Model } from "../../engine/model.ts";
@@ -113,16 +114,14 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
 
   const sections = ["unperturbed", "perturbation"] as const;
   const terms = sections.flatMap((name) => assembleSection(name, spec[name], space, params, units, relocate));
-  // Hermiticity and finiteness of the assembled parts at a few times.
+  // Finite coefficients at a few times (the engine's sampler checks every node as it runs); Hermitian at
+  // every node the integrator uses.
   const { tStart, tEnd } = settings;
   const checkTimes = Array.from({ length: 9 }, (_, k) => tStart + (tEnd - tStart) * k / 8);
   for (const name of sections) {
-    checkHermitian(
-      name,
-      terms.filter((t) => t.section === name),
-      space,
-      checkTimes,
-    );
+    const own = terms.filter((t) => t.section === name);
+    checkCoefficientsFinite(own, checkTimes);
+    checkHermitian(name, own, space, settings);
   }
 
   const initial = startState(spec.start, space, constScope, warnings);

@@ -134,10 +134,14 @@ export class ComplexMatrix {
     return out;
   }
 
-  /** this·this·…·this (n ≥ 0 factors; square matrices only). */
+  /** this·this·…·this (n ≥ 0 factors; square matrices only), by repeated squaring: about 2·log₂ n products. */
   power(n: number): ComplexMatrix {
     let out = ComplexMatrix.identity(this.rows);
-    for (let k = 0; k < n; k++) out = out.mul(this);
+    let square: ComplexMatrix = this;
+    for (let k = n; k > 0; k = Math.floor(k / 2)) {
+      if (k % 2 === 1) out = out.mul(square);
+      if (k > 1) square = square.mul(square);
+    }
     return out;
   }
 

@@ -54,7 +54,6 @@ export function startState(
       `give ${space.dim} amplitudes, one per level in the order ${listLabels(space)}`,
     );
   }
-  let norm2 = 0;
   amps.forEach((a, k) => {
     const z = toComplex(entryValue(a, scope, ["start", "amplitudes", k]));
     if (!Number.isFinite(z.re) || !Number.isFinite(z.im)) {
@@ -66,20 +65,24 @@ export function startState(
     }
     psi[2 * k] = z.re;
     psi[2 * k + 1] = z.im;
-    norm2 += z.re * z.re + z.im * z.im;
   });
-  if (!(norm2 > 0)) {
+  // The norm is taken after dividing by the largest modulus, so that squares cannot overflow or underflow.
+  let largest = 0;
+  for (const x of psi) largest = Math.max(largest, Math.abs(x));
+  if (!(largest > 0)) {
     throw new CaseError(
       "all amplitudes are zero",
       ["start", "amplitudes"],
       "give a non-zero state",
     );
   }
-  if (Math.abs(norm2 - 1) > 1e-12) {
-    warnings.push(
-      `[start] amplitudes have norm ${Math.sqrt(norm2).toPrecision(6)}; normalised to 1`,
-    );
-    psi.forEach((x, k) => (psi[k] = x / Math.sqrt(norm2)));
+  let scaled2 = 0;
+  for (const x of psi) scaled2 += (x / largest) ** 2;
+  const norm = largest * Math.sqrt(scaled2);
+  if (Math.abs(norm - 1) > 5e-13) {
+    warnings.push(`[start] amplitudes have norm ${norm.toPrecision(6)}; normalised to 1`);
+    const root = Math.sqrt(scaled2);
+    psi.forEach((x, k) => (psi[k] = x / largest / root));
   }
   return psi;
 }

@@ -3,33 +3,47 @@
  * energies are angular frequencies. A `[units]` table names a time unit and
  * an energy or frequency unit; the Hamiltonian's matrices are then scaled to
  * angular frequency in radians per time unit (cyclic frequencies get their
- * 2π, energies go through ħ, wavenumbers through 2πc). Conversions use
- * mathjs's units and its physical constants.
+ * 2π, energies go through ħ, temperatures through k_B/ħ, wavenumbers through
+ * 2πc). Conversions use the exact defining constants of the SI (2019).
  *
  * @module
  */
 
-import { all, create, type Unit } from "mathjs";
 import { CaseError } from "./errors.ts";
 
-const math = create(all!);
-/** Physical constants as mathjs carries them (CODATA values, with units). */
-const constants = math as unknown as Record<
-  "reducedPlanckConstant" | "planckConstant" | "speedOfLight",
-  Unit
->;
+/** The SI's defining constants (exact by definition since 2019). */
+export const SI = {
+  /** Planck constant h, J s. */
+  planck: 6.62607015e-34,
+  /** Elementary charge e, C. */
+  charge: 1.602176634e-19,
+  /** Boltzmann constant k_B, J/K. */
+  boltzmann: 1.380649e-23,
+  /** Speed of light c, m/s. */
+  light: 299792458,
+} as const;
 
+const TIME: Record<string, number> = { s: 1, ms: 1e-3, us: 1e-6, ns: 1e-9, ps: 1e-12, fs: 1e-15, as: 1e-18 };
 /** Time units accepted in `[units] time`. */
-export const TIME_UNITS = ["s", "ms", "us", "ns", "ps", "fs", "as"] as const;
-const CYCLIC = ["Hz", "kHz", "MHz", "GHz", "THz"];
-const ENERGY = ["eV", "meV", "ueV", "J"];
+export const TIME_UNITS: readonly string[] = Object.keys(TIME);
+const CYCLIC: Record<string, number> = { Hz: 1, kHz: 1e3, MHz: 1e6, GHz: 1e9, THz: 1e12 };
+/** Energies in J. */
+const ENERGY: Record<string, number> = {
+  eV: SI.charge,
+  meV: 1e-3 * SI.charge,
+  ueV: 1e-6 * SI.charge,
+  J: 1,
+};
+/** Temperatures as energies k_B·T, in K. */
+const TEMPERATURE: Record<string, number> = { K: 1, mK: 1e-3, uK: 1e-6 };
 const WAVENUMBER = ["cm^-1"];
 const ANGULAR = TIME_UNITS.map((u) => `rad/${u}`);
 /** Energy or frequency units accepted in `[units] energy`. */
 export const ENERGY_UNITS: readonly string[] = [
-  ...CYCLIC,
+  ...Object.keys(CYCLIC),
   ...ANGULAR,
-  ...ENERGY,
+  ...Object.keys(ENERGY),
+  ...Object.keys(TEMPERATURE),
   ...WAVENUMBER,
 ];
 
@@ -47,21 +61,19 @@ export interface UnitConvention {
 
 /** Seconds in one of the time units. */
 export function secondsPer(unit: string): number {
-  return math.unit(1, unit).toNumber("s");
+  if (!Object.hasOwn(TIME, unit)) throw new RangeError(`Cannot convert the time unit "${unit}"`);
+  return TIME[unit]!;
 }
 
 /** Angular frequency in rad/s of one of the energy or frequency units. */
 export function angularPerSecond(unit: string): number {
-  if (CYCLIC.includes(unit)) {
-    return 2 * Math.PI * math.unit(1, unit).toNumber("Hz");
-  }
+  if (Object.hasOwn(CYCLIC, unit)) return 2 * Math.PI * CYCLIC[unit]!;
   if (ANGULAR.includes(unit)) return 1 / secondsPer(unit.slice(4));
-  const hbar = constants.reducedPlanckConstant.toNumber("J s");
-  if (ENERGY.includes(unit)) return math.unit(1, unit).toNumber("J") / hbar;
-  if (WAVENUMBER.includes(unit)) {
-    const c = constants.speedOfLight.toNumber("m/s");
-    return 2 * Math.PI * c * math.unit("1 cm^-1").toNumber("m^-1");
-  }
+  // ω = E/ħ = 2π·E/h
+  if (Object.hasOwn(ENERGY, unit)) return 2 * Math.PI * ENERGY[unit]! / SI.planck;
+  if (Object.hasOwn(TEMPERATURE, unit)) return 2 * Math.PI * SI.boltzmann * TEMPERATURE[unit]! / SI.planck;
+  // ω = 2πc·ν̃, ν̃ = 100 m⁻¹ per cm⁻¹
+  if (WAVENUMBER.includes(unit)) return 2 * Math.PI * SI.light * 100;
   throw new RangeError(`Cannot convert the unit "${unit}"`);
 }
 
@@ -82,7 +94,7 @@ export function resolveUnits(
   spec: { time?: string; energy?: string } | undefined,
 ): UnitConvention {
   const time = spec?.time, energy = spec?.energy;
-  if (time !== undefined && !(TIME_UNITS as readonly string[]).includes(time)) {
+  if (time !== undefined && !TIME_UNITS.includes(time)) {
     throw new CaseError(
       `unknown time unit "${time}"`,
       ["units", "time"],
@@ -120,10 +132,12 @@ export function resolveUnits(
     };
   }
   const factor = angularPerSecond(energy) * secondsPer(time);
-  const how = CYCLIC.includes(energy)
+  const how = Object.hasOwn(CYCLIC, energy)
     ? "cyclic frequencies, ω = 2π·f"
-    : ENERGY.includes(energy)
+    : Object.hasOwn(ENERGY, energy)
     ? "energies, ω = E/ħ"
+    : Object.hasOwn(TEMPERATURE, energy)
+    ? "temperatures as energies, ω = k_B·T/ħ"
     : WAVENUMBER.includes(energy)
     ? "wavenumbers, ω = 2πc·ν̃"
     : "angular frequencies";

@@ -7,7 +7,8 @@
  * @module
  */
 
-import { analyse } from "../analysis/verdict.ts";
+import { analyse, type Resolution } from "../analysis/verdict.ts";
+import { resolutionOf } from "../analysis/inspection.ts";
 import { buildCase, type BuildOptions, type BuiltCase } from "../case/build.ts";
 import { parseCase, withLocation } from "../case/parse.ts";
 import { CaseError } from "../case/errors.ts";
@@ -77,8 +78,9 @@ export class PointEvaluator {
   /** Evaluates one point. */
   evaluate(index: number, values: number[]): PointResult {
     const built = this.build(values);
+    const result = solve(this.#engine, built.model);
     return {
-      ...summarise(index, values, built, solve(this.#engine, built.model)),
+      ...summarise(index, values, built, result, resolutionOf(this.#engine, built, result.stepSize)),
       formulas: this.#formulas(built),
     };
   }
@@ -117,6 +119,7 @@ export class PointEvaluator {
   evaluateStrengths(points: { index: number; values: number[] }[], onPoint: (r: PointResult) => void): void {
     const built = this.build([1]);
     const series = solve(this.#engine, built.model);
+    const resolution = resolutionOf(this.#engine, built, series.stepSize);
     for (const { index, values } of points) {
       const lambda = values[0]!;
       const model = { ...built.model, strength: lambda, order: 0 };
@@ -128,7 +131,7 @@ export class PointEvaluator {
         check: exactRun.check,
       };
       const point = { ...built, model: { ...built.model, strength: lambda } };
-      onPoint({ ...summarise(index, values, point, result), formulas: this.#formulas(point) });
+      onPoint({ ...summarise(index, values, point, result, resolution), formulas: this.#formulas(point) });
     }
   }
 }
@@ -138,6 +141,7 @@ function summarise(
   values: number[],
   built: BuiltCase,
   result: Result,
+  resolution: Resolution,
 ): Omit<PointResult, "formulas"> {
   const d = built.model.dim, last = result.times.length - 1;
   const targets = built.targets.map((l) => built.space.labels.indexOf(l));
@@ -149,7 +153,7 @@ function summarise(
     const pops = populationsAt(partial, d, 0);
     targets.forEach((a, j) => orders[j]!.push(pops[a]!));
   });
-  const analysis = analyse(result, built.space.labels, built.targets, 0, built.tolerance);
+  const analysis = analyse(result, built.space.labels, built.targets, 0, built.tolerance, undefined, resolution);
   return {
     index,
     values,
