@@ -98,8 +98,8 @@ export async function cli(argv: string[]): Promise<number> {
       return 2;
     }
     if (e instanceof EngineError) {
-      console.error(`ordo: engine failure: ${e.message}`);
-      return 3;
+      console.error(`ordo: ${e.byInput ? "cannot propagate this case" : "engine failure"}: ${e.message}`);
+      return e.byInput ? 2 : 3;
     }
     console.error(`ordo: internal error: ${(e as Error)?.message ?? e}`);
     if (Deno.env.get("ORDO_DEBUG")) console.error((e as Error)?.stack);

@@ -75,26 +75,47 @@ export interface Engine {
   readonly exports: Exports;
 }
 
-/** The engine failed for a reason the input did not cause. */
+/** The engine failed: out of memory, no convergence, a result that is not finite. */
 export class EngineError extends Error {
   /**
-   * @param message what failed
+   * True when the input itself is the cause (a pathological matrix, an absurd ‖H‖·h): the user can fix it.
    */
-  constructor(message: string) {
+  readonly byInput: boolean;
+
+  /**
+   * @param message what failed
+   * @param byInput whether the input is the cause (see {@link EngineError.byInput})
+   */
+  constructor(message: string, byInput = false) {
     super(message);
     this.name = "EngineError";
+    this.byInput = byInput;
   }
 }
 
-const MESSAGES: Record<number, string> = {
-  1: "the engine could not allocate its memory (WebAssembly memory is limited to 4 GiB)",
-  2: "the Hermitian eigensolver did not converge",
-  3: "the Taylor series of a step exponential did not converge (a step is far too large for the operator norm)",
+const MESSAGES: Record<number, [string, boolean]> = {
+  1: ["the engine could not allocate its memory (WebAssembly memory is limited to 4 GiB)", false],
+  2: [
+    "the Hermitian eigensolver did not converge: the matrix's entries overflow or span too many orders of " +
+    "magnitude; rescale the energies (or choose [units] that keep them within about 1e-150 … 1e150)",
+    true,
+  ],
+  3: [
+    "the Taylor series of a step exponential did not converge (a step is far too large for the operator norm); " +
+    "take more steps, or check the size of the energies and coefficients",
+    true,
+  ],
+  4: [
+    "a step exponential would need more than 10⁶ sub-steps: ‖H‖·h is far too large (or not finite) for this " +
+    "step; take more steps, or check the size of the energies, coefficients and λ",
+    true,
+  ],
 };
 
 function check(code: number): void {
   if (code !== 0) {
-    throw new EngineError(MESSAGES[code] ?? `engine error ${code}`);
+    const [message, byInput] = MESSAGES[code] ?? [`engine error ${code}`, false];
+    throw new EngineError(message, byInput);
   }
 }
 

@@ -5,7 +5,9 @@
  */
 
 import { assert, assertDeepEqual, assertEqual } from "./assert.ts";
-import { runOrdo } from "./helpers.ts";
+import { runOrdo, testEngine } from "./helpers.ts";
+import { constantModel } from "./engine_helpers.ts";
+import { EngineError, solve } from "../engine/mod.ts";
 
 const dir = new URL("fixtures/hostile/", import.meta.url);
 const expectations = JSON.parse(Deno.readTextFileSync(new URL("expect.json", dir))).cases as Record<
@@ -54,3 +56,38 @@ for (const [file, expected] of Object.entries(expectations)) {
     }
   });
 }
+
+Deno.test("item 3: an engine run whose numbers overflow throws EngineError (exit 3), never returns NaN", async () => {
+  const engine = await testEngine();
+  // A start state with amplitudes of 1.7e308 (the case builder normalises; here it goes to the engine
+  // directly): mixing the two levels overflows double precision, and the engine must not return infinities.
+  const h0 = new Float64Array([0, 0, 0, 0, 0, 0, 1, 0]);
+  const v = new Float64Array([0, 0, 1, 0, 1, 0, 0, 0]);
+  let thrown: unknown;
+  try {
+    solve(engine, constantModel(h0, v, new Float64Array([1.7e308, 0, 1.7e308, 0]), 1, 3, 6));
+  } catch (e) {
+    thrown = e;
+  }
+  assert(thrown instanceof EngineError && !thrown.byInput, `EngineError (exit 3), got ${thrown}`);
+  assert(String((thrown as Error).message).includes("overflowed"), String(thrown));
+});
+
+Deno.test("item 11: an absurd ‖H‖·h in a stepped run is refused by the engine at once, not run for hours", async () => {
+  const engine = await testEngine();
+  const h0 = new Float64Array([0, 0, 0, 0, 0, 0, 1, 0]);
+  const v = new Float64Array([0, 0, 1, 0, 1, 0, 0, 0]);
+  const model = constantModel(h0, v, new Float64Array([1, 0, 0, 0]), 10, 3, 2);
+  model.perturbation[0]!.coefficient = {
+    kind: "sampled",
+    sample: (times, out) => times.forEach((t, k) => ((out[2 * k] = 1e300 * Math.cos(t)), (out[2 * k + 1] = 0))),
+  };
+  let thrown: unknown;
+  try {
+    solve(engine, { ...model, steps: 100 });
+  } catch (e) {
+    thrown = e;
+  }
+  assert(thrown instanceof EngineError && thrown.byInput, `EngineError by input, got ${thrown}`);
+  assert(String((thrown as Error).message).includes("sub-steps"), String(thrown));
+});

@@ -71,7 +71,8 @@ export async function evaluatePool(
           const where = job ? ` (at ${setup.axes.map((a, j) => `${a} = ${job.values[j]}`).join(", ")})` : "";
           // The point goes on the first line, before the report's "fix:" line.
           const [first, ...more] = String(msg.message).split("\n");
-          stop(new UsageError([`${first}${where}`, ...more].join("\n")));
+          const message = [`${first}${where}`, ...more].join("\n");
+          stop(msg.byInput ? new UsageError(message) : new Error(`a sweep worker failed: ${message}`));
         }
       };
       w.onerror = (e) => {

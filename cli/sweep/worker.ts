@@ -8,7 +8,7 @@
  */
 /// <reference lib="deno.worker" />
 
-import { loadEngine } from "../../engine/mod.ts";
+import { EngineError, loadEngine } from "../../engine/mod.ts";
 import { CaseError } from "../case/errors.ts";
 import { PointEvaluator, type SweepSetup } from "./point.ts";
 
@@ -30,7 +30,8 @@ self.onmessage = async (event: MessageEvent) => {
       kind: "error",
       index: msg.kind === "point" ? msg.index : -1,
       message: e instanceof CaseError ? e.report() : `${(e as Error)?.message ?? e}`,
-      caseError: e instanceof CaseError,
+      // A case error or an engine failure the input caused is the user's to fix (exit 2); anything else is ours.
+      byInput: e instanceof CaseError || (e instanceof EngineError && e.byInput),
     });
   }
 };

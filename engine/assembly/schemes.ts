@@ -39,6 +39,9 @@ export const ERR_OK: i32 = 0;
 export const ERR_MEMORY: i32 = 1;
 export const ERR_EIGEN: i32 = 2;
 export const ERR_TAYLOR: i32 = 3;
+export const ERR_SUBSTEPS: i32 = 4;
+/** Sub-steps one exponential may take: more means ‖h·A‖ is absurd (or not finite) for this step. */
+const MAX_SUBSTEPS: f64 = 1e6;
 
 let d: i32 = 0;
 let r: i32 = 0;
@@ -278,7 +281,11 @@ function expBlock(h: f64, rr: i32, mode: i32, dOp: usize, dScale: f64, bOp: usiz
   }
   if (bOp != 0 && rr > 1) normA += normInf(bOp);
   let sub = 1;
-  if (mode != MODE_NONE) sub = max(1, <i32>Math.ceil(Math.abs(h) * normA / THETA));
+  if (mode != MODE_NONE) {
+    const need = Math.ceil(Math.abs(h) * normA / THETA);
+    if (!(need <= MAX_SUBSTEPS)) return ERR_SUBSTEPS;
+    sub = max(1, <i32>need);
+  }
   const hs = h / <f64>sub;
   const bytes = <usize>rr * vec;
   for (let s = 0; s < sub; s++) {
