@@ -8,7 +8,7 @@
  * @module
  */
 
-import { CaseError, UsageError } from "./case/errors.ts";
+import { CaseError, OutputError, UsageError } from "./case/errors.ts";
 import { EngineError } from "../engine/mod.ts";
 import { VERSION } from "./base/version.ts";
 import { EXAMPLES } from "./base/examples.ts";
@@ -96,6 +96,10 @@ export async function cli(argv: string[]): Promise<number> {
     if (e instanceof UsageError) {
       console.error(`ordo: ${e.message}`);
       return 2;
+    }
+    if (e instanceof OutputError) {
+      console.error(`ordo: ${e.message}`);
+      return 3;
     }
     if (e instanceof EngineError) {
       console.error(`ordo: ${e.byInput ? "cannot propagate this case" : "engine failure"}: ${e.message}`);

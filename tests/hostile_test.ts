@@ -29,9 +29,10 @@ function at(value: unknown, path: string): unknown {
 
 for (const [file, expected] of Object.entries(expectations)) {
   Deno.test(`hostile input ${file} (item ${expected.item}) ends in exit ${expected.exit} as stated`, async () => {
-    const path = new URL(file, dir).pathname;
+    const path = new URL(file.split("#")[0]!, dir).pathname;
     const [command, ...flags] = expected.args;
-    const { code, stdout, stderr } = await runOrdo([command!, path, ...flags, "--quiet"]);
+    const quiet = command === "inspect" || command === "init" ? [] : ["--quiet"];
+    const { code, stdout, stderr } = await runOrdo([command!, path, ...flags, ...quiet]);
     assertEqual(code, expected.exit, `exit code; stderr: ${stderr}`);
     assert(!/\n\s+at /.test(stderr), `no stack trace: ${stderr}`);
     for (const part of expected.stderr ?? []) assert(stderr.includes(part), `stderr has "${part}": ${stderr}`);
@@ -90,4 +91,61 @@ Deno.test("item 11: an absurd ‖H‖·h in a stepped run is refused by the engi
   }
   assert(thrown instanceof EngineError && thrown.byInput, `EngineError by input, got ${thrown}`);
   assert(String((thrown as Error).message).includes("sub-steps"), String(thrown));
+});
+
+Deno.test("item 16: values in the Slurm script are never run by the shell, at submission or in the jobs", async () => {
+  const tmp = Deno.makeTempDirSync();
+  const marker = `${tmp}/ran`;
+  const evil = `g=0.05$(touch ${marker})\`touch ${marker}\``;
+  const caseFile = new URL("explicit_partner.toml", dir).pathname;
+  const script = `${tmp}/submit.sh`;
+  const out = `${tmp}/o'ut $(touch ${marker})`;
+  const made = await runOrdo(["sweep", caseFile, "--out", out, "--emit-array", script, "--shards", "2", "--set", evil]);
+  assertEqual(made.code, 0, made.stderr);
+  // A stand-in sbatch keeps each job script it is given; ORDO stands in for ordo and prints its arguments.
+  const bin = `${tmp}/bin`;
+  Deno.mkdirSync(bin);
+  Deno.writeTextFileSync(`${bin}/sbatch`, `#!/usr/bin/env bash\nn=$(ls "${tmp}" | grep -c '^job-' || true)\ncat > "${tmp}/job-$n.sh"\necho 42\n`);
+  Deno.chmodSync(`${bin}/sbatch`, 0o755);
+  const env = { PATH: `${bin}:${Deno.env.get("PATH")}`, ORDO: "printf [%s]\\n", SLURM_ARRAY_TASK_ID: "1" };
+  const submit = await new Deno.Command("bash", { args: [script], env }).output();
+  assert(submit.success, new TextDecoder().decode(submit.stderr));
+  const jobs = [...Deno.readDirSync(tmp)].filter((e) => e.name.startsWith("job-")).map((e) => `${tmp}/${e.name}`);
+  assertEqual(jobs.length, 2, "an array job and a merge job");
+  const printed: string[] = [];
+  for (const job of jobs) {
+    const run = await new Deno.Command("bash", { args: [job], env }).output();
+    assert(run.success, new TextDecoder().decode(run.stderr));
+    printed.push(new TextDecoder().decode(run.stdout));
+  }
+  const args = printed.join("");
+  assert(args.includes(`[${evil}]`), `the --set value arrives as written: ${args}`);
+  assert(args.includes(`[${out}]`), `the folder arrives as written: ${args}`);
+  assert(args.includes("[1/2]"), `the shard comes from SLURM_ARRAY_TASK_ID: ${args}`);
+  let ran = true;
+  try {
+    Deno.statSync(marker);
+  } catch {
+    ran = false;
+  }
+  assert(!ran, "nothing in a value was run");
+});
+
+Deno.test("item 11: a case file longer than the limit (10 million targets) and /dev/zero are refused unread", async () => {
+  const big = Deno.makeTempFileSync({ suffix: ".toml" });
+  const head = Deno.readTextFileSync(new URL("explicit_partner.toml", dir)).replace(/\[series\][^]*$/, "");
+  const file = Deno.openSync(big, { write: true });
+  const encoder = new TextEncoder();
+  file.writeSync(encoder.encode(head + "[series]\norder = 2\ntargets = ["));
+  const chunk = encoder.encode('"g", '.repeat(100_000));
+  for (let k = 0; k < 100; k++) file.writeSync(chunk); // 10⁷ targets, 50 MB
+  file.writeSync(encoder.encode('"e"]\n'));
+  file.close();
+  for (const path of [big, "/dev/zero"]) {
+    const started = performance.now();
+    const { code, stderr } = await runOrdo(["run", path, "--quiet"]);
+    assertEqual(code, 2, stderr);
+    assert(stderr.includes("is longer than the 16 MiB a case file may be"), stderr);
+    assert(performance.now() - started < 20_000, "refused without reading on");
+  }
 });

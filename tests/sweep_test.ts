@@ -161,7 +161,7 @@ Deno.test("--emit-array writes a Slurm array script with a dependent merge job",
     text,
   );
   assert(
-    text.includes('--shard "\\$SLURM_ARRAY_TASK_ID/8"') && text.includes("'--vary' 'g=0.01:0.1:4'"),
+    text.includes('--shard "$SLURM_ARRAY_TASK_ID/8"') && text.includes("'--vary' 'g=0.01:0.1:4'"),
     text,
   );
   const syntax = await new Deno.Command("bash", { args: ["-n", script] }).output();

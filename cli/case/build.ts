@@ -17,7 +17,7 @@ import { readSettings } from "./grid.ts";
 import { type AssembledTerm, assembleSection, checkCoefficientsFinite, engineTerm, termCount } from "./terms.ts";
 import { checkHermitian } from "./hermiticity.ts";
 import { startState } from "./start.ts";
-import { checkMemory, guardExactWork } from "./limits.ts";
+import { checkMemory, guardExactWork, guardSteppedWork } from "./limits.ts";
 import type { Model } from "../../engine/model.ts";
 
 export type { AssembledTerm } from "./terms.ts";
@@ -117,6 +117,8 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   // Finite coefficients at a few times (the engine's sampler checks every node as it runs); Hermitian at
   // every node the integrator uses.
   const { tStart, tEnd } = settings;
+  if (terms.some((t) => t.coef?.usesTime)) guardSteppedWork({ dim: space.dim, ...settings });
+  else guardExactWork(terms, tEnd - tStart, settings.strength);
   const checkTimes = Array.from({ length: 9 }, (_, k) => tStart + (tEnd - tStart) * k / 8);
   for (const name of sections) {
     const own = terms.filter((t) => t.section === name);
@@ -125,7 +127,6 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   }
 
   const initial = startState(spec.start, space, constScope, warnings);
-  guardExactWork(terms, tEnd - tStart, settings.strength);
   const targets = options.targets ?? spec.series.targets ?? space.labels;
   checkTargets(targets, space, options.targets !== undefined);
 

@@ -17,6 +17,11 @@ export function formatKeyPath(path: KeyPath): string {
   return out;
 }
 
+/** Text the user wrote, quoted for a message: long text is cut to its start (messages stay one screen). */
+export function quoted(text: string, limit = 120): string {
+  return `"${text.length > limit ? `${text.slice(0, limit - 20)}… (${text.length} characters)` : text}"`;
+}
+
 /** Something in a case file (or a flag standing in for one) is wrong. */
 export class CaseError extends Error {
   /** Where in the case: a key path. */
@@ -61,5 +66,16 @@ export class UsageError extends Error {
   constructor(message: string) {
     super(message);
     this.name = "UsageError";
+  }
+}
+
+/** A result file could not be written (disk full, permissions changed): exit 3, saying what was kept. */
+export class OutputError extends Error {
+  /**
+   * @param message what could not be written, why, and what is safe on disk
+   */
+  constructor(message: string) {
+    super(message);
+    this.name = "OutputError";
   }
 }

@@ -11,7 +11,7 @@
  */
 
 import { all, create, type MathNode } from "mathjs";
-import { CaseError, type KeyPath } from "./errors.ts";
+import { CaseError, type KeyPath, quoted } from "./errors.ts";
 import type { Complex } from "./complex_matrix.ts";
 import { PULSES } from "./pulses.ts";
 import {
@@ -82,14 +82,22 @@ export interface Compiled {
  * @returns the parsed node
  */
 export function parseExpression(source: string, path: KeyPath, shown = source): MathNode {
+  if (source.length > MAX_EXPRESSION_LENGTH) {
+    throw new CaseError(
+      `the expression ${quoted(shown)} is longer than the ${MAX_EXPRESSION_LENGTH} characters ordo reads`,
+      path,
+      "split it into several terms, or use params for repeated parts",
+    );
+  }
   try {
     return parseMath(source);
   } catch (e) {
     const message = (e as Error).message;
     const at = /\(char (\d+)\)/.exec(message);
-    const where = at ? `, just after "${shown.slice(0, Math.max(0, Number(at[1]) - 1))}"` : "";
+    const before = at ? shown.slice(0, Math.max(0, Number(at[1]) - 1)) : "";
+    const where = at ? `, just after "${before.length > 40 ? `…${before.slice(-40)}` : before}"` : "";
     throw new CaseError(
-      `cannot parse the expression "${shown}": ${message}${where}`,
+      `cannot parse the expression ${quoted(shown)}: ${message}${where}`,
       path,
       'write plain arithmetic with params, t, pi, e, i and the listed functions, e.g. "g*gauss(t, 10, 2)*cos(w*t)"',
     );
@@ -129,7 +137,7 @@ export function compileNode(
   const consts: Value[] = [];
   let usesTime = false;
   const fail: Fail = (what, fix) => {
-    throw new CaseError(`in "${source}": ${what}`, path, fix);
+    throw new CaseError(`in ${quoted(source)}: ${what}`, path, fix);
   };
 
   const symbol = (name: string): Code => {
@@ -190,10 +198,25 @@ export function compileNode(
     }
   };
 
-  const code = gen(node);
+  const code = withinDepth(() => gen(node), fail);
   const body = `return (${["t", ...(scope.variables ?? [])].join(",")}) => ${code.js};`;
   const fn = new Function("C", "P", "K", body)(C, PULSES, consts) as (t: number, ...v: number[]) => Value;
   return { source, usesTime, isComplex: code.kind === "c", at: fn, sample: sampler(fn, code.kind === "c") };
+}
+
+/** The longest expression ordo reads (longer ones are refused before parsing). */
+export const MAX_EXPRESSION_LENGTH = 20_000;
+
+/** Runs a recursive walk, turning a stack overflow on a deeply nested expression into a case error. */
+export function withinDepth<T>(walk: () => T, fail: (what: string, fix?: string) => never): T {
+  try {
+    return walk();
+  } catch (e) {
+    if (e instanceof RangeError) {
+      return fail("the expression is nested too deeply to evaluate", "split it into several terms or params");
+    }
+    throw e;
+  }
 }
 
 /** Samples a compiled function at many times into interleaved (re, im). */

@@ -49,6 +49,40 @@ export function checkMemory(
   }
 }
 
+/** The most integrator steps a run may take (10⁸ steps of a two-level case already take minutes). */
+export const MAX_STEPS = 1e8;
+
+/** Estimated floating-point work a run may take: about a day at the engine's measured rate. */
+export const MAX_WORK_FLOPS = 1e15;
+
+/**
+ * Refuses a stepped run (some coefficient depends on t) whose step count or estimated work is absurd, before
+ * any matrix is built or any node is visited: about 3 exponentials per step (one step of h, half a step of
+ * 2h for the step-doubling reference, two factors each), each ≈ 12 Taylor terms on the N + 2 stacked vectors
+ * (Dyson terms, exact, check) at 8d² flops a product.
+ *
+ * @param shape dimension, Dyson order and the requested steps
+ */
+export function guardSteppedWork(shape: { dim: number; order: number; steps: number }): void {
+  const { dim, order, steps } = shape;
+  if (steps > MAX_STEPS) {
+    throw new CaseError(
+      `steps = ${steps} is more than the ${MAX_STEPS.toExponential(0)} integrator steps ordo takes`,
+      ["grid", "steps"],
+      "take fewer steps: see `ordo inspect` for the number the fastest phase needs",
+    );
+  }
+  const flops = steps * 3 * 2 * 12 * (order + 2) * 8 * dim * dim;
+  if (flops > MAX_WORK_FLOPS) {
+    throw new CaseError(
+      `${steps} steps at dimension ${dim} and order ${order} would take about ${flops.toPrecision(2)} ` +
+        `floating-point operations (more than ${MAX_WORK_FLOPS.toExponential(0)}, about a day)`,
+      ["grid", "steps"],
+      "take fewer steps, a lower order or a smaller space",
+    );
+  }
+}
+
 /** Taylor sub-steps the time-independent scheme may take before a case is called unreasonable. */
 const MAX_SUBSTEPS = 1e7;
 

@@ -21,9 +21,9 @@
  */
 
 import type { MathNode } from "mathjs";
-import { CaseError, type KeyPath } from "./errors.ts";
+import { CaseError, type KeyPath, quoted } from "./errors.ts";
 import { type Complex, ComplexMatrix } from "./complex_matrix.ts";
-import { compileNode, parseExpression, type Scope, toComplex } from "./expression.ts";
+import { compileNode, parseExpression, type Scope, toComplex, withinDepth } from "./expression.ts";
 import { constantCode, isFunctionName } from "./expression_builtins.ts";
 import { asWritten, IDENTITY, localMatrix, splitLocal, symbolsOf, toParserForm } from "./local_operators.ts";
 import type { Space } from "./space.ts";
@@ -68,7 +68,7 @@ export function evaluateOperator(
   path: KeyPath,
 ): { matrix: ComplexMatrix; hc: boolean } {
   const fail: Fail = (what, fix) => {
-    throw new CaseError(`in "${source}": ${what}`, path, fix);
+    throw new CaseError(`in ${quoted(source)}: ${what}`, path, fix);
   };
   const { text, hc, ketbras } = readNotation(source, fail);
   const node = parseExpression(toParserForm(text), path, source);
@@ -77,8 +77,11 @@ export function evaluateOperator(
     if (!names.has(name)) names.set(name, classify(name, ketbras, space, scope, fail));
     return names.get(name);
   };
-  checkNames(node, named, scope, space, fail);
-  const value = new OperatorWalker(space, scope, path, source, named, fail).walk(node);
+  const walker = new OperatorWalker(space, scope, path, source, named, fail);
+  const value = withinDepth(() => {
+    checkNames(node, named, scope, space, fail);
+    return walker.walk(node);
+  }, fail);
   if (value.kind === "scalar") {
     return fail(
       "this is a number, not an operator",

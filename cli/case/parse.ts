@@ -94,9 +94,9 @@ export function parseCase(text: string, file = "<text>"): CaseSource {
 export function readCase(file: string): CaseSource {
   let text: string;
   try {
-    text = Deno.readTextFileSync(file);
+    text = readBounded(file, MAX_CASE_BYTES);
   } catch (e) {
-    const err = new CaseError(
+    const err = e instanceof CaseError ? e : new CaseError(
       e instanceof Deno.errors.NotFound ? "no such file" : `cannot read the file: ${(e as Error).message}`,
       [],
       "give the path of a .toml or .json case file (`ordo init NAME` writes one)",
@@ -105,6 +105,46 @@ export function readCase(file: string): CaseSource {
     throw err;
   }
   return parseCase(text, file);
+}
+
+/** The largest case file ordo reads (a case is a few kilobytes; large operators are written as expressions). */
+export const MAX_CASE_BYTES = 16 * 1024 * 1024;
+
+/** Reads at most `limit` bytes of a file (a device such as /dev/zero never ends), refusing a longer one. */
+function readBounded(file: string, limit: number): string {
+  const handle = Deno.openSync(file, { read: true });
+  try {
+    if (handle.statSync().isDirectory) {
+      throw new CaseError("is a folder, not a case file", [], "give the path of a .toml or .json case file");
+    }
+    const buffer = new Uint8Array(limit + 1);
+    let size = 0;
+    while (size < buffer.length) {
+      const n = handle.readSync(buffer.subarray(size));
+      if (n === null || n === 0) break;
+      size += n;
+    }
+    if (size > limit) {
+      throw new CaseError(
+        `is longer than the ${limit / 1024 ** 2} MiB a case file may be`,
+        [],
+        "write large operators as expressions (matrix = { entry = \"…\" }) rather than as tables",
+      );
+    }
+    return new TextDecoder().decode(buffer.subarray(0, size));
+  } finally {
+    handle.close();
+  }
+}
+
+/** Runs `work` on a case, putting the case's file and line on any case error it raises. */
+export function located<T>(source: CaseSource, work: () => T): T {
+  try {
+    return work();
+  } catch (e) {
+    if (e instanceof CaseError) throw withLocation(e, source.file, source.text, source.format);
+    throw e;
+  }
 }
 
 /** Sets file and line on a case error from its key path. */

@@ -31,6 +31,20 @@ export interface Space {
   dim: number;
 }
 
+/**
+ * The largest dimension ordo builds labels for. Dense operators stop far below it (the memory estimate refuses
+ * them); this bound refuses absurd sizes before a single label is made.
+ */
+export const MAX_DIM = 1_000_000;
+
+function tooLarge(dim: number, what: string, path: KeyPath): CaseError {
+  return new CaseError(
+    `${what} has dimension ${dim.toPrecision(3)}, more than the ${MAX_DIM} levels ordo can describe`,
+    path,
+    "keep fewer levels (a lower oscillator cutoff, fewer subsystems)",
+  );
+}
+
 /** Labels of spin s: m = s, s−1, …, −s written "+1/2", "0", "-1". */
 export function spinLabels(s: number): string[] {
   const out: string[] = [];
@@ -105,6 +119,7 @@ function levelsSpace(levels: NonNullable<CaseSpec["levels"]>): Space {
       'e.g. names = ["g", "e"], or count = 100 for levels "0" … "99"',
     );
   }
+  if (count !== undefined && count > MAX_DIM) throw tooLarge(count, "[levels]", ["levels", "count"]);
   const labels = names ?? Array.from({ length: count! }, (_, k) => String(k));
   checkLabels(labels, ["levels", "names"]);
   return productSpace([{ name: "levels", kind: "levels", labels }]);
@@ -112,6 +127,12 @@ function levelsSpace(levels: NonNullable<CaseSpec["levels"]>): Space {
 
 function compositeSpace(declared: NonNullable<CaseSpec["subsystems"]>): Space {
   const subsystems: Subsystem[] = [];
+  let dim = 1;
+  for (const [name, sub] of Object.entries(declared)) {
+    const size = sub.levels?.length ?? sub.oscillator ?? (sub.spin !== undefined ? 2 * sub.spin + 1 : 1);
+    dim *= size;
+    if (!(dim <= MAX_DIM)) throw tooLarge(dim, `the product space up to ${name}`, ["subsystems", name]);
+  }
   for (const [name, sub] of Object.entries(declared)) {
     const path = ["subsystems", name];
     if (!SUBSYSTEM_NAME.test(name)) {

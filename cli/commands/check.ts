@@ -9,7 +9,7 @@
 
 import { CaseError } from "../case/errors.ts";
 import type { BuildOptions } from "../case/build.ts";
-import { type CaseSource, readCase, withLocation } from "../case/parse.ts";
+import { type CaseSource, located, readCase, withLocation } from "../case/parse.ts";
 import { type Axis, buildGrid, type Grid, pointValues } from "../sweep/grid.ts";
 import { STRENGTH } from "../case/params.ts";
 import { PointEvaluator, type PointResult, type SweepSetup } from "../sweep/point.ts";
@@ -137,7 +137,7 @@ function checkApprox(source: CaseSource, labels?: string[]): Approx[] {
 export async function runCheck(file: string, options: CheckOptions): Promise<CheckReport> {
   const source = readCase(file);
   const approx = checkApprox(source);
-  const grid = buildGrid(source.spec, options.vary);
+  const grid = located(source, () => buildGrid(source.spec, options.vary));
   const baseTargets = options.build.targets ?? source.spec.series.targets;
   const targets = baseTargets ? [...new Set([...baseTargets, ...approx.map((a) => a.target)])] : undefined;
   const setup: SweepSetup = {

@@ -8,6 +8,7 @@ import { parse as parseToml } from "smol-toml";
 import { UsageError } from "../case/errors.ts";
 import { EXAMPLES } from "../base/examples.ts";
 import { parseOrFail, usage } from "./_args.ts";
+import { writeUserFile } from "../report/output_dir.ts";
 
 export { EXAMPLES };
 
@@ -44,13 +45,9 @@ export function initCase(
       `${path} exists already; pass --force to overwrite it`,
     );
   }
-  const text = Deno.readTextFileSync(
-    new URL(`../../cases/${chosen.file}`, import.meta.url),
-  );
-  Deno.writeTextFileSync(
-    path,
-    path.toLowerCase().endsWith(".json") ? JSON.stringify(parseToml(text), null, 2) + "\n" : text,
-  );
+  const text = Deno.readTextFileSync(new URL(`../../cases/${chosen.file}`, import.meta.url));
+  const json = path.toLowerCase().endsWith(".json");
+  writeUserFile(path, json ? JSON.stringify(parseToml(text), null, 2) + "\n" : text, "the case");
   return path;
 }
 

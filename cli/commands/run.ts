@@ -12,6 +12,8 @@ import { runCase, type RunOutcome } from "../analysis/outcome.ts";
 import { formatRun } from "../analysis/table.ts";
 import { runJson } from "../analysis/result_json.ts";
 import { progressBar } from "../report/progress.ts";
+import { ensureOutputDir, isSystemError } from "../report/output_dir.ts";
+import { OutputError } from "../case/errors.ts";
 import { loadEngine } from "../../engine/mod.ts";
 import { buildOptions, CASE_FLAGS, oneCase, parseOrFail, usage } from "./_args.ts";
 
@@ -34,6 +36,7 @@ export async function runCommand(args: string[]): Promise<number> {
   if (at !== undefined && !Number.isFinite(at)) {
     usage(`--at takes a time, got "${values.at}"`);
   }
+  if (values.out !== undefined) ensureOutputDir(String(values.out), "--out");
   const engine = await loadEngine();
   const progress = values.quiet ? undefined : progressBar("propagating");
   let outcome: RunOutcome;
@@ -44,9 +47,15 @@ export async function runCommand(args: string[]): Promise<number> {
   }
   if (values.json) console.log(JSON.stringify(runJson(outcome)));
   else console.log(formatRun(outcome));
-  if (values.out) {
+  if (values.out !== undefined) {
     const { writeReport } = await import("../report/run_report.ts");
-    const files = await writeReport(outcome, String(values.out));
+    let files: string[];
+    try {
+      files = await writeReport(outcome, String(values.out));
+    } catch (e) {
+      if (!isSystemError(e)) throw e;
+      throw new OutputError(`cannot write the report files in ${values.out}: ${(e as Error).message}`);
+    }
     console.error(`ordo: wrote ${files.join(", ")}`);
   }
   return 0;

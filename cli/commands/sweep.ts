@@ -7,9 +7,9 @@
  */
 
 import { join } from "node:path";
-import { CaseError, UsageError } from "../case/errors.ts";
+import { CaseError, OutputError, UsageError } from "../case/errors.ts";
 import type { BuildOptions } from "../case/build.ts";
-import { readCase } from "../case/parse.ts";
+import { located, readCase } from "../case/parse.ts";
 import { STRENGTH } from "../case/params.ts";
 import {
   type Axis,
@@ -31,16 +31,19 @@ import {
 import { evaluatePool, Interrupted, type PointJob } from "../sweep/pool.ts";
 import {
   finishedRows,
+  lockPoints,
   type Manifest,
   manifestOf,
   mergeShardFiles,
   readManifest,
   shardFile,
+  writeAtomically,
   writeManifest,
   writeSorted,
 } from "../sweep/store.ts";
-import { emitArrayScript } from "../sweep/slurm.ts";
+import { arrayScript } from "../sweep/slurm.ts";
 import { progressBar } from "../report/progress.ts";
+import { ensureOutputDir, isSystemError, writeUserFile } from "../report/output_dir.ts";
 import { loadEngine } from "../../engine/mod.ts";
 import { buildOptions, CASE_FLAGS, integerFlag, oneCase, parseOrFail, usage } from "./_args.ts";
 
@@ -132,7 +135,7 @@ function emitArray(args: string[], values: Record<string, unknown>, file: string
     if (passed.includes(arg) && args[k + 1] !== undefined) extra.push(arg, args[k + 1]!);
   });
   const script = String(values["emit-array"]);
-  emitArrayScript(script, file, out, shards!, extra);
+  writeUserFile(script, arrayScript(script, file, out, shards!, extra), "the job script", 0o755);
   console.log(`wrote ${script}: submit it with \`bash ${script}\` on the cluster`);
   return 0;
 }
@@ -140,7 +143,7 @@ function emitArray(args: string[], values: Record<string, unknown>, file: string
 /** The case, grid and evaluator of a sweep, checked on its first point. */
 async function prepare(file: string, options: SweepOptions) {
   const source = readCase(file);
-  const grid = buildGrid(source.spec, options.vary);
+  const grid = located(source, () => buildGrid(source.spec, options.vary));
   const setup: SweepSetup = {
     text: source.text,
     file,
@@ -163,33 +166,38 @@ async function prepare(file: string, options: SweepOptions) {
   return { grid, setup, evaluator, header, manifest };
 }
 
-/** Opens the sweep folder: the rows already finished there (refusing another sweep's folder). */
+/** Opens the sweep folder: the rows already finished there (refusing another sweep's folder or damaged files). */
 function openFolder(
   options: SweepOptions,
   manifest: Manifest,
   header: string,
+  grid: Grid,
 ): { csvPath: string; rows: string[] } {
-  Deno.mkdirSync(options.out, { recursive: true });
+  ensureOutputDir(options.out, "--out");
   const csvPath = join(options.out, shardFile(options.shard));
   const existing = readManifest(options.out);
-  const rows = existing ? finishedRows(csvPath, header) : [];
-  if (existing) {
-    if (JSON.stringify(existing) !== JSON.stringify(manifest)) {
-      throw new UsageError(
-        `${options.out} holds a sweep of another case or grid (the case file, its overrides or the grid changed); ` +
-          "start a new sweep with another --out, or restore the case it was started with",
-      );
-    }
-    if (!options.resume && rows.length > 0) {
-      throw new UsageError(
-        `${options.out} already holds ${rows.length} points of this sweep; pass --resume to continue it`,
-      );
-    }
-  } else {
-    writeManifest(options.out, manifest);
+  if (existing && JSON.stringify(existing) !== JSON.stringify(manifest)) {
+    throw new UsageError(
+      `${options.out} holds a sweep of another case or grid (the case file, its overrides or the grid changed); ` +
+        "start a new sweep with another --out, or restore the case it was started with",
+    );
   }
-  if (rows.length === 0) Deno.writeTextFileSync(csvPath, header + "\n");
-  return { csvPath, rows };
+  const shape = { targets: manifest.targets.length, order: manifest.order };
+  const resumed = existing ? finishedRows(csvPath, header, grid, shape) : { rows: [], dropped: 0, example: "" };
+  if (!options.resume && (resumed.rows.length > 0 || resumed.dropped > 0)) {
+    throw new UsageError(
+      `${options.out} already holds ${resumed.rows.length} points of this sweep; pass --resume to continue it`,
+    );
+  }
+  if (resumed.dropped > 0 && !options.quiet) {
+    console.error(
+      `sweep: dropped ${resumed.dropped} damaged row${resumed.dropped > 1 ? "s" : ""} of ${csvPath} ` +
+        `(e.g. ${resumed.example}); they are computed again`,
+    );
+  }
+  if (!existing) writeManifest(options.out, manifest);
+  if (resumed.rows.length === 0) writeAtomically(csvPath, header + "\n", "the points file");
+  return { csvPath, rows: resumed.rows };
 }
 
 /** Reports progress: a bar on a terminal, otherwise a line every two seconds. */
@@ -224,7 +232,24 @@ function progressReporter(total: number, quiet: boolean) {
  */
 export async function runSweep(file: string, options: SweepOptions): Promise<SweepSummary> {
   const { grid, setup, evaluator, header, manifest } = await prepare(file, options);
-  const { csvPath, rows } = openFolder(options, manifest, header);
+  ensureOutputDir(options.out, "--out");
+  const release = lockPoints(join(options.out, shardFile(options.shard)));
+  try {
+    return await sweepLocked(grid, setup, evaluator, header, manifest, options);
+  } finally {
+    release();
+  }
+}
+
+async function sweepLocked(
+  grid: Grid,
+  setup: SweepSetup,
+  evaluator: PointEvaluator,
+  header: string,
+  manifest: Manifest,
+  options: SweepOptions,
+): Promise<SweepSummary> {
+  const { csvPath, rows } = openFolder(options, manifest, header, grid);
   const skipped = rows.length;
   const done = new Set(rows.map((r) => rowKey(r, grid.axes.length)));
   const indices = options.shard
@@ -256,7 +281,14 @@ async function evaluateInto(
   let written = 0;
   const onResult = (r: PointResult) => {
     const row = csvRow(r);
-    csv.writeSync(encoder.encode(row + "\n")); // one write per row: a kill keeps every finished point
+    try {
+      csv.writeSync(encoder.encode(row + "\n")); // one write per row: a kill keeps every finished point
+    } catch (e) {
+      throw new OutputError(
+        `cannot append to ${csvPath}: ${(e as Error).message}; the ${rows.length} points finished before are on ` +
+          "disk: make room, then continue with --resume",
+      );
+    }
     rows.push(row);
     written++;
     progress.tick();
@@ -287,7 +319,15 @@ async function evaluateInto(
 
 async function writeMaps(dir: string, grid: Grid, manifest: Manifest, rows: string[]): Promise<void> {
   const { writeSweepReport } = await import("../report/sweep_maps.ts");
-  await writeSweepReport(dir, grid, manifest, rows);
+  try {
+    await writeSweepReport(dir, grid, manifest, rows);
+  } catch (e) {
+    if (!isSystemError(e)) throw e;
+    throw new OutputError(
+      `cannot write ${dir}/report.html: ${(e as Error).message}; every point is in ${dir}/points.csv; ` +
+        `make room, then run \`ordo sweep --merge\` or the sweep again with --resume to write the report`,
+    );
+  }
 }
 
 /**

@@ -23,6 +23,9 @@ export interface Grid {
   size: number;
 }
 
+/** The most points one sweep may have (a sweep folder indexes every point; split larger studies into several). */
+export const MAX_POINTS = 2_000_000;
+
 /** Evenly spaced values from `from` to `to` (ends included), linearly or logarithmically. */
 export function axisValues(from: number, to: number, count: number, scale: "linear" | "log"): number[] {
   if (count === 1) return [from];
@@ -46,6 +49,9 @@ function axisFrom(name: string, spec: AxisSpec, fail: (msg: string, fix: string)
     return { name, values: spec.values, scale: "values" };
   }
   const { from, to, count } = spec;
+  if (count !== undefined && count > MAX_POINTS) {
+    fail(`count = ${count} is more than the ${MAX_POINTS} points a sweep may have`, "use fewer points");
+  }
   if (from === undefined || to === undefined || count === undefined) {
     return fail(
       "needs from, to and count (or values)",
@@ -75,6 +81,7 @@ export function parseVary(flag: string): Axis {
   if (!m || !Number.isFinite(from) || !Number.isFinite(to) || !Number.isInteger(count) || count < 1) {
     throw new UsageError(`--vary takes name=from:to:count[:log], e.g. g=0.01:0.1:20:log; got "${flag}"`);
   }
+  if (count > MAX_POINTS) throw new UsageError(`--vary ${m[1]}: ${count} values is more than ${MAX_POINTS}`);
   const scale = (m[5] ?? "linear") as "linear" | "log";
   if (scale === "log" && !(from > 0 && to > 0)) {
     throw new UsageError(`--vary ${m[1]}: a log axis needs positive ends`);
@@ -112,6 +119,14 @@ export function buildGrid(spec: CaseSpec, vary: Axis[] = []): Grid {
     }
   }
   const size = axes.reduce((n, a) => n * a.values.length, 1);
+  if (size > MAX_POINTS) {
+    throw new CaseError(
+      `the grid has ${size.toPrecision(3)} points (${axes.map((a) => `${a.name}: ${a.values.length}`).join(" × ")}), ` +
+        `more than the ${MAX_POINTS} a sweep may have`,
+      ["sweep"],
+      "use fewer values per axis, or split the study into several sweeps",
+    );
+  }
   return { axes, size };
 }
 

@@ -60,7 +60,13 @@ export async function evaluatePool(
         const msg = event.data;
         if (msg.kind === "ready") dispatch(w);
         else if (msg.kind === "done") {
-          onResult(msg.result as PointResult);
+          try {
+            onResult(msg.result as PointResult);
+          } catch (e) {
+            // A result that cannot be kept (a full disk) stops the pool: never an uncaught error in a callback.
+            stop(e as Error);
+            return;
+          }
           done++;
           if (done === points.length) {
             for (const x of pool) x.terminate();

@@ -1,54 +1,65 @@
 /**
  * The Slurm job array of a sharded sweep: one array task per shard and a
- * merge job that runs once every task has succeeded.
+ * merge job that runs once every task has succeeded. Every value that comes
+ * from the user (paths, --set and --vary values) is single-quoted for the
+ * shell and sits in a quoted here-document, so nothing in it is expanded or
+ * run when the script is submitted or when a job starts.
  *
  * @module
  */
 
+/** A shell word that the shell takes literally: '…' with each ' written as '\''. */
+export function shellQuote(s: string): string {
+  return `'${s.replace(/'/g, `'\\''`)}'`;
+}
+
+/** Text for a comment line: control characters (a newline would end the comment) shown as "?". */
+function commentText(s: string): string {
+  // deno-lint-ignore no-control-regex
+  return s.replace(/[\u0000-\u001f\u007f]/g, "?");
+}
+
 /**
- * Writes a Slurm job-array script that runs one shard per array task and a
- * dependent job that merges them.
+ * The text of a Slurm job-array script that runs one shard per array task and a dependent job that merges
+ * them.
  *
- * @param script the path to write
+ * @param script the script's own path (named in its comments)
  * @param caseFile the case file (as the cluster will see it)
  * @param out the sweep folder
  * @param shards how many shards (array tasks)
  * @param extra further flags for every shard (e.g. --vary)
+ * @returns the script
  */
-export function emitArrayScript(
+export function arrayScript(
   script: string,
   caseFile: string,
   out: string,
   shards: number,
   extra: string[],
-): void {
-  const q = (s: string) => `'${s.replace(/'/g, `'\\''`)}'`;
-  const flags = extra.map(q).join(" ");
-  const text = `#!/usr/bin/env bash
-# Submit with:  bash ${script}
+): string {
+  const flags = extra.map(shellQuote).join(" ");
+  const shard = `${shellQuote(caseFile)} --out ${shellQuote(out)} --shard "$SLURM_ARRAY_TASK_ID/${shards}"`;
+  return `#!/usr/bin/env bash
+# Submit with:  bash ${commentText(script)}
 # It submits a Slurm job array of ${shards} tasks, each running one shard of the
-# sweep into ${out}, and a job that merges the shards once every task succeeded.
+# sweep into ${commentText(out)}, and a job that merges the shards once every task succeeded.
 # Adjust the resources below to your cluster; ORDO may be set to the ordo command
-# (default: deno task ordo, run from this repository).
+# (default: deno task ordo, run from this repository); the jobs inherit it.
 set -euo pipefail
-ORDO=\${ORDO:-"deno task --quiet ordo"}
-CASE=${q(caseFile)}
-OUT=${q(out)}
+export ORDO="\${ORDO:-deno task --quiet ordo}"
 
-array_id=$(sbatch --parsable --array=1-${shards} --job-name=ordo-sweep --cpus-per-task=1 --time=02:00:00 <<EOF
+array_id=$(sbatch --parsable --array=1-${shards} --job-name=ordo-sweep --cpus-per-task=1 --time=02:00:00 <<'EOF'
 #!/usr/bin/env bash
 set -euo pipefail
-\$ORDO sweep "\$CASE" --out "\$OUT" --shard "\\$SLURM_ARRAY_TASK_ID/${shards}" --workers 1 --resume --quiet ${flags}
+$ORDO sweep ${shard} --workers 1 --resume --quiet ${flags}
 EOF
 )
 
-sbatch --dependency=afterok:"\${array_id}" --job-name=ordo-merge --time=00:30:00 <<EOF
+sbatch --dependency=afterok:"\${array_id}" --job-name=ordo-merge --time=00:30:00 <<'EOF'
 #!/usr/bin/env bash
 set -euo pipefail
-\$ORDO sweep --merge "\$OUT"
+$ORDO sweep --merge ${shellQuote(out)}
 EOF
 echo "submitted array \${array_id} (${shards} shards) and its merge job"
 `;
-  Deno.writeTextFileSync(script, text);
-  Deno.chmodSync(script, 0o755);
 }
