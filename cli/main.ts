@@ -86,28 +86,57 @@ async function main(argv: string[]): Promise<number> {
  * @returns 0 success, 1 a check failed, 2 bad input, 3 internal error
  */
 export async function cli(argv: string[]): Promise<number> {
+  const { log, error } = console;
+  // Everything printed passes through one filter: control characters from a case (a title that would clear
+  // the screen or retitle the window) are shown, never obeyed.
+  console.log = (...items: unknown[]) => log(...items.map(printable));
+  console.error = (...items: unknown[]) => error(...items.map(printable));
   try {
     return await main(argv);
   } catch (e) {
-    if (e instanceof CaseError) {
-      console.error(`ordo: ${e.report()}`);
-      return 2;
-    }
-    if (e instanceof UsageError) {
-      console.error(`ordo: ${e.message}`);
-      return 2;
-    }
-    if (e instanceof OutputError) {
-      console.error(`ordo: ${e.message}`);
-      return 3;
-    }
-    if (e instanceof EngineError) {
-      console.error(`ordo: ${e.byInput ? "cannot propagate this case" : "engine failure"}: ${e.message}`);
-      return e.byInput ? 2 : 3;
-    }
-    console.error(`ordo: internal error: ${(e as Error)?.message ?? e}`);
-    if (Deno.env.get("ORDO_DEBUG")) console.error((e as Error)?.stack);
+    return report(e);
+  } finally {
+    console.log = log;
+    console.error = error;
+  }
+}
+
+/** Control characters other than newline and tab, written out as \xNN. */
+export function printable(item: unknown): unknown {
+  if (typeof item !== "string") return item;
+  // deno-lint-ignore no-control-regex
+  return item.replace(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/g, (c) => `\\x${c.charCodeAt(0).toString(16).padStart(2, "0")}`);
+}
+
+/** The message and exit code of an error: never a stack trace unless ORDO_DEBUG asks for one. */
+function report(e: unknown): number {
+  if (e instanceof CaseError) {
+    console.error(`ordo: ${e.report()}`);
+    return 2;
+  }
+  if (e instanceof UsageError) {
+    console.error(`ordo: ${e.message}`);
+    return 2;
+  }
+  if (e instanceof OutputError) {
+    console.error(`ordo: ${e.message}`);
     return 3;
+  }
+  if (e instanceof EngineError) {
+    console.error(`ordo: ${e.byInput ? "cannot propagate this case" : "engine failure"}: ${e.message}`);
+    return e.byInput ? 2 : 3;
+  }
+  console.error(`ordo: internal error: ${(e as Error)?.message ?? e}`);
+  if (debugging()) console.error((e as Error)?.stack);
+  return 3;
+}
+
+/** Whether ORDO_DEBUG is set; false where the environment may not be read (no --allow-env). */
+function debugging(): boolean {
+  try {
+    return Boolean(Deno.env.get("ORDO_DEBUG"));
+  } catch {
+    return false;
   }
 }
 

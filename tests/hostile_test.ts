@@ -149,3 +149,27 @@ Deno.test("item 11: a case file longer than the limit (10 million targets) and /
     assert(performance.now() - started < 20_000, "refused without reading on");
   }
 });
+
+Deno.test("items 13-15: markup is escaped in both reports, terminal escapes are not printed raw, CSV cells cannot run", async () => {
+  const file = new URL("injection.toml", dir).pathname;
+  const out = Deno.makeTempDirSync();
+  const printed: string[] = [];
+  for (const args of [["run", file, "--out", `${out}/run`], ["sweep", file, "--out", `${out}/sweep`], ["check", file]]) {
+    const { code, stdout, stderr } = await runOrdo([...args, "--quiet"]);
+    assert(code === 0 || code === 1, `${args[0]}: ${stderr}`);
+    printed.push(stdout, stderr);
+  }
+  for (const text of printed) assert(!/[\u0000-\u0008\u000b-\u001f\u007f]/.test(text), `no raw control character: ${text}`);
+  assert(printed.join("").includes("\\x1b]0;pwned"), "escapes are shown, written out");
+  for (const report of [`${out}/run/report.html`, `${out}/sweep/report.html`]) {
+    const html = Deno.readTextFileSync(report);
+    assert(!html.includes("<script>alert"), `${report}: the title's markup is escaped`);
+    assert(html.includes("&lt;script&gt;alert("), `${report}: and shown as text`);
+  }
+  const csv = Deno.readTextFileSync(`${out}/run/populations.csv`).split("\n");
+  for (const label of ['"\'=HYPERLINK(""http://x"")"', '"\'@SUM(1)"', '"\'+1"', '"\'-2"']) {
+    assert(csv.some((line) => line.split(",")[1] === label || line.includes(`,${label},`)), `cell ${label}`);
+  }
+  const formulaLike = (cell: string) => /^[=+\-@]/.test(cell) && !Number.isFinite(Number(cell));
+  assert(!csv.some((line) => line.split(",").some(formulaLike)), "no cell but a number begins with = + - @");
+});

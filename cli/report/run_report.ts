@@ -9,6 +9,7 @@
 
 import { join } from "node:path";
 import { lineSvg, type Point } from "./plots.ts";
+import { escapeHtml } from "./html.ts";
 import type { RunOutcome } from "../analysis/outcome.ts";
 import { formatRun } from "../analysis/table.ts";
 import { runJson } from "../analysis/result_json.ts";
@@ -56,12 +57,14 @@ export function populationsCsv(outcome: RunOutcome, json: ResultJson): string {
   return lines.join("\n") + "\n";
 }
 
-function csvField(s: string): string {
-  return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
-}
-
-function escapeHtml(s: string): string {
-  return s.replace(/&/g, "&amp;").replace(/</g, "&lt;").replace(/>/g, "&gt;");
+/**
+ * A text cell: a cell that begins with = + - @ (or a tab or return) gets a leading ' so that spreadsheets
+ * show it rather than run it as a formula (common practice against CSV formula injection); cells with a
+ * comma, quote or line break are quoted.
+ */
+export function csvField(s: string): string {
+  const safe = /^[=+\-@\t\r]/.test(s) ? `'${s}` : s;
+  return /[",\n\r']/.test(safe) ? `"${safe.replace(/"/g, '""')}"` : safe;
 }
 
 /** The plots of one target: populations, error against order, error against time. */

@@ -10,6 +10,7 @@ import { join } from "node:path";
 import * as vega from "vega";
 import { compile, type TopLevelSpec } from "vega-lite";
 import { lineSvg, palette, type Point } from "./plots.ts";
+import { escapeHtml } from "./html.ts";
 import type { Grid } from "../sweep/grid.ts";
 import { VERSION } from "../base/version.ts";
 
@@ -221,14 +222,14 @@ export async function writeSweepReport(
     path,
     `<!doctype html>
 <html lang="en"><head><meta charset="utf-8"><meta name="generator" content="ordo ${VERSION}">
-<title>${info.title} — ordo sweep</title>
+<title>${escapeHtml(info.title)} — ordo sweep</title>
 <style>body{font-family:system-ui,sans-serif;max-width:60rem;margin:2rem auto;padding:0 1rem;color:#222} figure{margin:1rem 0}</style>
 </head><body>
-<h1>${info.title.replace(/</g, "&lt;")}</h1>
+<h1>${escapeHtml(info.title)}</h1>
 <p>ordo ${VERSION}; ${parsed.length} points over ${
-      grid.axes.map((a) => `${a.name} (${a.values.length})`).join(" × ") || "one point"
+      escapeHtml(grid.axes.map((a) => `${a.name} (${a.values.length})`).join(" × ") || "one point")
     }; tolerance ${info.tolerance}.</p>
-${note.map((n) => `<p>${n}</p>`).join("\n")}
+${note.map((n) => `<p>${escapeHtml(n)}</p>`).join("\n")}
 ${figures.map((f) => `<figure>${f}</figure>`).join("\n")}
 </body></html>
 `,
