@@ -104,9 +104,12 @@ export async function cli(argv: string[]): Promise<number> {
 /** Control characters other than newline and tab, written out as \xNN. */
 export function printable(item: unknown): unknown {
   if (typeof item !== "string") return item;
-  // deno-lint-ignore no-control-regex
-  return item.replace(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/g, (c) => `\\x${c.charCodeAt(0).toString(16).padStart(2, "0")}`);
+  return item.replace(CONTROL, (c) => `\\x${c.charCodeAt(0).toString(16).padStart(2, "0")}`);
 }
+
+/** C0 controls but newline and tab, DEL, and C1 controls. */
+// deno-lint-ignore no-control-regex
+const CONTROL = /[\x00-\x08\x0b-\x1f\x7f-\x9f]/g;
 
 /** The message and exit code of an error: never a stack trace unless ORDO_DEBUG asks for one. */
 function report(e: unknown): number {

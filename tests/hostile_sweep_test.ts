@@ -149,7 +149,16 @@ Deno.test("item 12: bad output paths are exit 2 with what to fix, and run checks
   const init = await runOrdo(["init", `${missing}/case`]);
   assertEqual(init.code, 2, init.stderr);
   assert(init.stderr.includes("does not exist"), init.stderr);
-  const emit = await runOrdo(["sweep", file, "--out", "x", "--emit-array", `${missing}/s.sh`, "--shards", "2"]);
+  const emit = await runOrdo([
+    "sweep",
+    file,
+    "--out",
+    "x",
+    "--emit-array",
+    `${missing}/s.sh`,
+    "--shards",
+    "2",
+  ]);
   assertEqual(emit.code, 2, emit.stderr);
   const example = await runOrdo(["init", `${Deno.makeTempDirSync()}/c`, "--example", "constructor"]);
   assertEqual(example.code, 2, example.stderr);

@@ -24,7 +24,10 @@ const expectations = JSON.parse(Deno.readTextFileSync(new URL("expect.json", dir
 
 /** The value at a dotted path ("analysis.targets.0.min_order"). */
 function at(value: unknown, path: string): unknown {
-  return path.split(".").reduce<unknown>((v, key) => (v as Record<string, unknown> | undefined)?.[key], value);
+  return path.split(".").reduce<unknown>(
+    (v, key) => (v as Record<string, unknown> | undefined)?.[key],
+    value,
+  );
 }
 
 for (const [file, expected] of Object.entries(expectations)) {
@@ -35,10 +38,14 @@ for (const [file, expected] of Object.entries(expectations)) {
     const { code, stdout, stderr } = await runOrdo([command!, path, ...flags, ...quiet]);
     assertEqual(code, expected.exit, `exit code; stderr: ${stderr}`);
     assert(!/\n\s+at /.test(stderr), `no stack trace: ${stderr}`);
-    for (const part of expected.stderr ?? []) assert(stderr.includes(part), `stderr has "${part}": ${stderr}`);
+    for (const part of expected.stderr ?? []) {
+      assert(stderr.includes(part), `stderr has "${part}": ${stderr}`);
+    }
     if (!expected.json && !expected.json_includes) return;
     const result = JSON.parse(stdout);
-    for (const [key, value] of Object.entries(expected.json ?? {})) assertDeepEqual(at(result, key), value, key);
+    for (const [key, value] of Object.entries(expected.json ?? {})) {
+      assertDeepEqual(at(result, key), value, key);
+    }
     for (const [key, part] of Object.entries(expected.json_includes ?? {})) {
       assert(String(at(result, key)).includes(part), `${key} has "${part}": ${at(result, key)}`);
     }
@@ -48,7 +55,9 @@ for (const [file, expected] of Object.entries(expectations)) {
       assert(p >= 0 && p <= 1 + 1e-12, `exact population ${p}`);
     }
     for (const populations of result.series as Record<string, number[]>[]) {
-      for (const p of Object.values(populations).flat()) assert(Number.isFinite(p) && p >= 0, `partial sum ${p}`);
+      for (const p of Object.values(populations).flat()) {
+        assert(Number.isFinite(p) && p >= 0, `partial sum ${p}`);
+      }
     }
     if (result.labels.length === result.basis.length) {
       const last = result.times.length - 1;
@@ -81,7 +90,8 @@ Deno.test("item 11: an absurd ‖H‖·h in a stepped run is refused by the engi
   const model = constantModel(h0, v, new Float64Array([1, 0, 0, 0]), 10, 3, 2);
   model.perturbation[0]!.coefficient = {
     kind: "sampled",
-    sample: (times, out) => times.forEach((t, k) => ((out[2 * k] = 1e300 * Math.cos(t)), (out[2 * k + 1] = 0))),
+    sample: (times, out) =>
+      times.forEach((t, k) => ((out[2 * k] = 1e300 * Math.cos(t)), (out[2 * k + 1] = 0))),
   };
   let thrown: unknown;
   try {
@@ -100,17 +110,33 @@ Deno.test("item 16: values in the Slurm script are never run by the shell, at su
   const caseFile = new URL("explicit_partner.toml", dir).pathname;
   const script = `${tmp}/submit.sh`;
   const out = `${tmp}/o'ut $(touch ${marker})`;
-  const made = await runOrdo(["sweep", caseFile, "--out", out, "--emit-array", script, "--shards", "2", "--set", evil]);
+  const made = await runOrdo([
+    "sweep",
+    caseFile,
+    "--out",
+    out,
+    "--emit-array",
+    script,
+    "--shards",
+    "2",
+    "--set",
+    evil,
+  ]);
   assertEqual(made.code, 0, made.stderr);
   // A stand-in sbatch keeps each job script it is given; ORDO stands in for ordo and prints its arguments.
   const bin = `${tmp}/bin`;
   Deno.mkdirSync(bin);
-  Deno.writeTextFileSync(`${bin}/sbatch`, `#!/usr/bin/env bash\nn=$(ls "${tmp}" | grep -c '^job-' || true)\ncat > "${tmp}/job-$n.sh"\necho 42\n`);
+  Deno.writeTextFileSync(
+    `${bin}/sbatch`,
+    `#!/usr/bin/env bash\nn=$(ls "${tmp}" | grep -c '^job-' || true)\ncat > "${tmp}/job-$n.sh"\necho 42\n`,
+  );
   Deno.chmodSync(`${bin}/sbatch`, 0o755);
   const env = { PATH: `${bin}:${Deno.env.get("PATH")}`, ORDO: "printf [%s]\\n", SLURM_ARRAY_TASK_ID: "1" };
   const submit = await new Deno.Command("bash", { args: [script], env }).output();
   assert(submit.success, new TextDecoder().decode(submit.stderr));
-  const jobs = [...Deno.readDirSync(tmp)].filter((e) => e.name.startsWith("job-")).map((e) => `${tmp}/${e.name}`);
+  const jobs = [...Deno.readDirSync(tmp)].filter((e) => e.name.startsWith("job-")).map((e) =>
+    `${tmp}/${e.name}`
+  );
   assertEqual(jobs.length, 2, "an array job and a merge job");
   const printed: string[] = [];
   for (const job of jobs) {
@@ -154,12 +180,19 @@ Deno.test("items 13-15: markup is escaped in both reports, terminal escapes are 
   const file = new URL("injection.toml", dir).pathname;
   const out = Deno.makeTempDirSync();
   const printed: string[] = [];
-  for (const args of [["run", file, "--out", `${out}/run`], ["sweep", file, "--out", `${out}/sweep`], ["check", file]]) {
+  for (
+    const args of [["run", file, "--out", `${out}/run`], ["sweep", file, "--out", `${out}/sweep`], [
+      "check",
+      file,
+    ]]
+  ) {
     const { code, stdout, stderr } = await runOrdo([...args, "--quiet"]);
     assert(code === 0 || code === 1, `${args[0]}: ${stderr}`);
     printed.push(stdout, stderr);
   }
-  for (const text of printed) assert(!/[\u0000-\u0008\u000b-\u001f\u007f]/.test(text), `no raw control character: ${text}`);
+  // deno-lint-ignore no-control-regex
+  const control = /[\x00-\x08\x0b-\x1f\x7f]/;
+  for (const text of printed) assert(!control.test(text), `no raw control character: ${text}`);
   assert(printed.join("").includes("\\x1b]0;pwned"), "escapes are shown, written out");
   for (const report of [`${out}/run/report.html`, `${out}/sweep/report.html`]) {
     const html = Deno.readTextFileSync(report);
@@ -172,4 +205,49 @@ Deno.test("items 13-15: markup is escaped in both reports, terminal escapes are 
   }
   const formulaLike = (cell: string) => /^[=+\-@]/.test(cell) && !Number.isFinite(Number(cell));
   assert(!csv.some((line) => line.split(",").some(formulaLike)), "no cell but a number begins with = + - @");
+});
+
+Deno.test("item 17: the ordo task runs without -A, net, run or env, and run, sweep and check work with its flags", async () => {
+  const root = new URL("../", import.meta.url);
+  const tasks = JSON.parse(Deno.readTextFileSync(new URL("deno.json", root))).tasks;
+  for (const name of ["ordo", "demo"]) {
+    const command: string = tasks[name].command;
+    assert(
+      !/(^|\s)(-A|--allow-all|--allow-net|--allow-run|--allow-env|--allow-ffi)(\s|=|$)/.test(command),
+      command,
+    );
+  }
+  const flags = (tasks.ordo.command as string).split(/\s+/).filter((w) => w.startsWith("--allow-"));
+  const out = Deno.makeTempDirSync();
+  const cases = new URL("cases/", root).pathname;
+  for (
+    const args of [
+      ["run", `${cases}leaky_transmon.toml`, "--out", `${out}/run`],
+      ["sweep", `${cases}weak_drive_check.toml`, "--out", `${out}/sweep`, "--workers", "2"],
+      ["check", `${cases}weak_drive_check.toml`],
+      ["inspect", `${cases}two_level.toml`],
+    ]
+  ) {
+    const main = new URL("cli/main.ts", root).pathname;
+    const r = await new Deno.Command(Deno.execPath(), { args: ["run", ...flags, main, ...args] }).output();
+    const stderr = new TextDecoder().decode(r.stderr);
+    assert(
+      r.code === 0 || (args[0] === "check" && r.code === 1),
+      `${args[0]} with ${flags.join(" ")}: ${stderr}`,
+    );
+    assert(!/NotCapable|Requires .* access/.test(stderr), stderr);
+  }
+});
+
+Deno.test("item 12: an eigensolver that cannot converge on a pathological matrix is a refusal by input (exit 2)", async () => {
+  const engine = await testEngine();
+  const h0 = new Float64Array([0, 0, 1e300, 0, 1e300, 0, Infinity, 0]);
+  const v = new Float64Array([0, 0, 1, 0, 1, 0, 0, 0]);
+  let thrown: unknown;
+  try {
+    solve(engine, constantModel(h0, v, new Float64Array([1, 0, 0, 0]), 1, 3, 2));
+  } catch (e) {
+    thrown = e;
+  }
+  assert(thrown instanceof EngineError && thrown.byInput, `EngineError by input, got ${thrown}`);
 });

@@ -46,7 +46,12 @@ Deno.test("resolveUnits() sends eV, meV, cm⁻¹, GHz and K through the exact SI
     ],
   ];
   for (const [units, expected] of cases) {
-    assertClose(resolveUnits(units).energyFactor, expected, { rel: 1e-15 }, `${units.energy} in rad/${units.time}`);
+    assertClose(
+      resolveUnits(units).energyFactor,
+      expected,
+      { rel: 1e-15 },
+      `${units.energy} in rad/${units.time}`,
+    );
   }
   // CODATA 2018 (exact since 2019), from memory: e/ħ = 1.519267447…e15 s⁻¹, so 1 eV/ħ ≈ 1.519267447 rad/fs.
   assertClose(resolveUnits({ time: "fs", energy: "eV" }).energyFactor, 1.519267447, { rel: 1e-9 });

@@ -75,7 +75,9 @@ export function coefficientRate(terms: AssembledTerm[], model: Model): number {
   const points = Math.min(200_001, Math.max(4001, 4 * model.steps + 1));
   const span = model.tEnd - model.tStart;
   const rates = coefficientRates(terms);
-  for (let k = 0; k < points; k++) rates.sample(model.tStart + span * k / (points - 1), k > 0 ? span / (points - 1) : 0);
+  for (let k = 0; k < points; k++) {
+    rates.sample(model.tStart + span * k / (points - 1), k > 0 ? span / (points - 1) : 0);
+  }
   return rates.fastest();
 }
 

@@ -230,7 +230,9 @@ function targetVerdict(
 /** Largest |‖ψ‖² − 1| over the recorded states. */
 function normDriftOf(states: Float64Array, d: number): number {
   let drift = 0;
-  for (let k = 0; k < states.length / (2 * d); k++) drift = Math.max(drift, Math.abs(stateNorm(states, d, k) ** 2 - 1));
+  for (let k = 0; k < states.length / (2 * d); k++) {
+    drift = Math.max(drift, Math.abs(stateNorm(states, d, k) ** 2 - 1));
+  }
   return drift;
 }
 

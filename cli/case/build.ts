@@ -14,7 +14,13 @@ import { resolveUnits, type UnitConvention } from "./units.ts";
 import { evaluateParams } from "./params.ts";
 import { buildSpace, listLabels, type Space } from "./space.ts";
 import { readSettings } from "./grid.ts";
-import { type AssembledTerm, assembleSection, checkCoefficientsFinite, engineTerm, termCount } from "./terms.ts";
+import {
+  type AssembledTerm,
+  assembleSection,
+  checkCoefficientsFinite,
+  engineTerm,
+  termCount,
+} from "./terms.ts";
 import { checkHermitian } from "./hermiticity.ts";
 import { startState } from "./start.ts";
 import { checkMemory, guardExactWork, guardSteppedWork } from "./limits.ts";

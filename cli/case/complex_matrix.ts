@@ -137,7 +137,7 @@ export class ComplexMatrix {
   /** this·this·…·this (n ≥ 0 factors; square matrices only), by repeated squaring: about 2·log₂ n products. */
   power(n: number): ComplexMatrix {
     let out = ComplexMatrix.identity(this.rows);
-    let square: ComplexMatrix = this;
+    let square = this.clone();
     for (let k = n; k > 0; k = Math.floor(k / 2)) {
       if (k % 2 === 1) out = out.mul(square);
       if (k > 1) square = square.mul(square);

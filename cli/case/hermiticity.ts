@@ -18,7 +18,7 @@
 
 import { CaseError } from "./errors.ts";
 import { ComplexMatrix } from "./complex_matrix.ts";
-import { type AssembledTerm, assembleAt, coefAt, type Section } from "./terms.ts";
+import { assembleAt, type AssembledTerm, coefAt, type Section } from "./terms.ts";
 import type { Space } from "./space.ts";
 import { forEachNode } from "../../engine/model.ts";
 
@@ -132,11 +132,19 @@ export function checkHermitian(
   });
 }
 
-function refuse(name: Section, terms: AssembledTerm[], space: Space, t: number, timeDependent: boolean): never {
+function refuse(
+  name: Section,
+  terms: AssembledTerm[],
+  space: Space,
+  t: number,
+  timeDependent: boolean,
+): never {
   const defect = assembleAt(terms, space.dim, t).hermiticityDefect();
   const at = `(${space.labels[defect.row]}, ${space.labels[defect.col]})`;
   throw new CaseError(
-    `Cannot build the ${name} as it is not Hermitian: largest |A−A†| is ${defect.value.toPrecision(3)} at ${at}` +
+    `Cannot build the ${name} as it is not Hermitian: largest |A−A†| is ${
+      defect.value.toPrecision(3)
+    } at ${at}` +
       (timeDependent ? ` at t = ${Number(t.toPrecision(6))}` : ""),
     [name],
     "add hc = true to the term (or end its op with + h.c.), or make the matrix Hermitian; a complex or " +

@@ -128,7 +128,7 @@ function readBounded(file: string, limit: number): string {
       throw new CaseError(
         `is longer than the ${limit / 1024 ** 2} MiB a case file may be`,
         [],
-        "write large operators as expressions (matrix = { entry = \"…\" }) rather than as tables",
+        'write large operators as expressions (matrix = { entry = "…" }) rather than as tables',
       );
     }
     return new TextDecoder().decode(buffer.subarray(0, size));

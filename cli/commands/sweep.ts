@@ -183,7 +183,9 @@ function openFolder(
     );
   }
   const shape = { targets: manifest.targets.length, order: manifest.order };
-  const resumed = existing ? finishedRows(csvPath, header, grid, shape) : { rows: [], dropped: 0, example: "" };
+  const resumed = existing
+    ? finishedRows(csvPath, header, grid, shape)
+    : { rows: [], dropped: 0, example: "" };
   if (!options.resume && (resumed.rows.length > 0 || resumed.dropped > 0)) {
     throw new UsageError(
       `${options.out} already holds ${resumed.rows.length} points of this sweep; pass --resume to continue it`,
@@ -285,7 +287,9 @@ async function evaluateInto(
       csv.writeSync(encoder.encode(row + "\n")); // one write per row: a kill keeps every finished point
     } catch (e) {
       throw new OutputError(
-        `cannot append to ${csvPath}: ${(e as Error).message}; the ${rows.length} points finished before are on ` +
+        `cannot append to ${csvPath}: ${
+          (e as Error).message
+        }; the ${rows.length} points finished before are on ` +
           "disk: make room, then continue with --resume",
       );
     }

@@ -121,7 +121,9 @@ export function buildGrid(spec: CaseSpec, vary: Axis[] = []): Grid {
   const size = axes.reduce((n, a) => n * a.values.length, 1);
   if (size > MAX_POINTS) {
     throw new CaseError(
-      `the grid has ${size.toPrecision(3)} points (${axes.map((a) => `${a.name}: ${a.values.length}`).join(" × ")}), ` +
+      `the grid has ${size.toPrecision(3)} points (${
+        axes.map((a) => `${a.name}: ${a.values.length}`).join(" × ")
+      }), ` +
         `more than the ${MAX_POINTS} a sweep may have`,
       ["sweep"],
       "use fewer values per axis, or split the study into several sweeps",

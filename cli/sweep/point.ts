@@ -153,7 +153,15 @@ function summarise(
     const pops = populationsAt(partial, d, 0);
     targets.forEach((a, j) => orders[j]!.push(pops[a]!));
   });
-  const analysis = analyse(result, built.space.labels, built.targets, 0, built.tolerance, undefined, resolution);
+  const analysis = analyse(
+    result,
+    built.space.labels,
+    built.targets,
+    0,
+    built.tolerance,
+    undefined,
+    resolution,
+  );
   return {
     index,
     values,

@@ -67,7 +67,9 @@ export function shardFile(shard?: { k: number; n: number }): string {
 /** Every CSV file of sweep points in a folder. */
 function pointFiles(dir: string): string[] {
   try {
-    return [...Deno.readDirSync(dir)].map((e) => e.name).filter((n) => /^points(\.shard-\d+-of-\d+)?\.csv$/.test(n));
+    return [...Deno.readDirSync(dir)].map((e) => e.name).filter((n) =>
+      /^points(\.shard-\d+-of-\d+)?\.csv$/.test(n)
+    );
   } catch {
     return [];
   }
@@ -87,7 +89,9 @@ export function readManifest(dir: string): Manifest | undefined {
     const files = pointFiles(dir);
     if (files.length === 0) return undefined;
     throw new UsageError(
-      `${dir} holds ${files.join(", ")} but no sweep.json, so ordo cannot tell which sweep the rows belong to; ` +
+      `${dir} holds ${
+        files.join(", ")
+      } but no sweep.json, so ordo cannot tell which sweep the rows belong to; ` +
         "nothing was overwritten: choose another --out, or move the point files away to start anew here",
     );
   }
@@ -345,7 +349,11 @@ export function mergeShardFiles(dir: string): { grid: Grid; manifest: Manifest; 
 }
 
 /** Every row of the shard files by grid index, refusing foreign headers, off-grid points and duplicates. */
-function collectShards(dir: string, files: string[], grid: Grid): { header: string; seen: Map<number, string> } {
+function collectShards(
+  dir: string,
+  files: string[],
+  grid: Grid,
+): { header: string; seen: Map<number, string> } {
   let header: string | undefined;
   const seen = new Map<number, string>();
   const index = keyIndex(grid);
