@@ -29,6 +29,7 @@
 
 import {
   CHUNK_STEPS,
+  GAUSS_NODES,
   type Model,
   type OperatorTerm,
   type Scheme,
@@ -60,6 +61,9 @@ interface Exports {
   prepare(scheme: number, strength: number): number;
   advance(nsteps: number, tau0: number, h: number): number;
   advanceExact(h: number): number;
+  macroStep(tau: number, h: number): number;
+  stepError(): number;
+  rejectStep(): void;
   record(tau: number): void;
   bufH0Terms(): number;
   bufVTerms(): number;
@@ -262,8 +266,6 @@ export function solve(
     });
   }
 
-  const per = stepsPerSample(model);
-  const h = interval / per;
   const all = [...h0, ...v];
   const kt = all.length;
   const fine = new Float64Array(
@@ -301,6 +303,22 @@ export function solve(
       }
     });
   };
+  if (model.accuracy !== undefined) {
+    const steps = adaptive(e, model, { fill, fine, coarse, store, onProgress });
+    return finite({
+      scheme,
+      steps,
+      stepSize: (model.tEnd - model.tStart) / Math.max(steps, 1),
+      times,
+      terms,
+      exact,
+      check: checkStates,
+      checkDivisor: 1,
+      elapsedMs: performance.now() - started,
+    });
+  }
+  const per = stepsPerSample(model);
+  const h = interval / per;
   const total = per * (samples - 1);
   for (let j = 0; j < samples - 1; j++) {
     for (let done = 0; done < per;) {
@@ -412,4 +430,78 @@ export function populationsAt(
     out[a] = re * re + im * im;
   }
   return out;
+}
+
+/** Samples the coefficients at node times into a coefficient buffer. */
+type Fill = (buffer: Float64Array, nodeTimes: Float64Array, count: number) => void;
+
+/** A local error estimate this small is round-off: it says nothing about the step size. */
+const ROUND_OFF = 4e-15;
+
+/** The most steps an accuracy-driven run may take before it is refused. */
+const MAX_ADAPTIVE_STEPS = 1e8;
+
+/**
+ * Accuracy-driven stepping: macro steps of 2h with a step-doubling error estimate on the whole stacked state
+ * (engine `macroStep`), the step size chosen by the standard controller h ← h·0.9·(allowed/err)^(1/5)
+ * (4th-order method; Hairer, Nørsett & Wanner, Solving ODEs I, §II.4), with the error allowed per step
+ * proportional to its length so that the errors of a whole run add up to at most half the requested
+ * accuracy. Recorded times are hit exactly (a step is shortened to end on them).
+ *
+ * @returns the number of steps of size h taken
+ */
+function adaptive(
+  e: Exports,
+  model: Model,
+  io: {
+    fill: Fill;
+    fine: Float64Array;
+    coarse: Float64Array;
+    store: (k: number, tau: number) => void;
+    onProgress?: (fraction: number) => void;
+  },
+): number {
+  const span = model.tEnd - model.tStart;
+  const accuracy = model.accuracy!;
+  const [c1, c2] = GAUSS_NODES;
+  const fineTimes = new Float64Array(4), coarseTimes = new Float64Array(2);
+  const interval = span / (model.samples - 1);
+  const longest = model.maxStep ?? Infinity;
+  let h = Math.min(interval, span / 16, longest) / 2;
+  let steps = 0, tries = 0;
+  for (let j = 0; j < model.samples - 1; j++) {
+    const end = j === model.samples - 2 ? model.tEnd : model.tStart + (j + 1) * interval;
+    let t = model.tStart + j * interval;
+    while (end - t > 1e-14 * span) {
+      const big = Math.min(2 * h, end - t), step = big / 2;
+      fineTimes.set([t + c1 * step, t + c2 * step, t + step + c1 * step, t + step + c2 * step]);
+      coarseTimes.set([t + c1 * big, t + c2 * big]);
+      io.fill(io.fine, fineTimes, 4);
+      io.fill(io.coarse, coarseTimes, 2);
+      check(e.macroStep(t - model.tStart, step));
+      // Below round-off (a few 1e-15 on unit vectors) no step size does better: accept, and let the
+      // accumulated estimate say what it cost.
+      const error = e.stepError(), allowed = Math.max(0.5 * accuracy * big / span, ROUND_OFF);
+      const factor = error > 0 ? Math.min(4, Math.max(0.2, 0.9 * (allowed / error) ** 0.2)) : 4;
+      if (error <= allowed) {
+        t = t + big >= end - 1e-14 * span ? end : t + big;
+        steps += 2;
+        if (big === 2 * h || factor < 1) h = Math.min(step * factor, longest);
+      } else {
+        e.rejectStep();
+        h = Math.min(step * factor, longest);
+      }
+      if (++tries > MAX_ADAPTIVE_STEPS || !(h > 1e-13 * span)) {
+        throw new EngineError(
+          `accuracy ${accuracy} would take more than ${MAX_ADAPTIVE_STEPS.toExponential(0)} steps here, or steps ` +
+            "shorter than round-off (is a coefficient not smooth, or far too fast?); ask for less accuracy or " +
+            "use fixed steps",
+          true,
+        );
+      }
+    }
+    io.store(j + 1, end - model.tStart);
+    io.onProgress?.((j + 1) / (model.samples - 1));
+  }
+  return steps;
 }

@@ -45,6 +45,13 @@ export interface Model {
   samples: number;
   /** Highest Dyson order N ≥ 0. */
   order: number;
+  /**
+   * When set, a stepped scheme chooses its own steps so that the final populations of the exact state and of
+   * every partial sum are within this (absolute) accuracy; `steps` is then ignored.
+   */
+  accuracy?: number;
+  /** With an accuracy: the longest step the engine may take (e.g. to resolve the fastest phase). */
+  maxStep?: number;
 }
 
 /** Whether a coefficient depends on time. */

@@ -186,7 +186,7 @@ Deno.test("inspect rejects invalid TOML with its line", async () => {
 Deno.test("inspect rejects an unknown key, listing the known ones", async () => {
   await expectError([["t_end = 30", "t_end = 30\ntend = 5"]], [
     'unknown key "tend"',
-    "known keys here: t_start, t_end, steps, samples",
+    "known keys here: t_start, t_end, steps, accuracy, samples",
   ]);
 });
 

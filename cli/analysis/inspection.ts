@@ -12,7 +12,7 @@ import type { BuiltCase } from "../case/build.ts";
 import { assembleAt } from "../case/terms.ts";
 import { bohrFrequencies, type BohrFrequency, spectrum } from "./spectra.ts";
 import { coefficientRate, type NormProfile, normProfile } from "./norms.ts";
-import type { Resolution } from "./verdict.ts";
+import { MAX_PHASE_PER_STEP } from "./verdict.ts";
 import { type Engine, estimateMemory, schemeFor, stepsPerSample } from "../../engine/mod.ts";
 
 export { normIntegralAt } from "./norms.ts";
@@ -59,18 +59,24 @@ function spectralFacts(engine: Engine, built: BuiltCase) {
 }
 
 /**
- * How fast H turns per integrator step, for the verdict: the fastest coupled phase or coefficient rate times
- * the step (0 for the time-independent scheme, which takes no steps).
+ * How fast H turns: the fastest coupled phase or coefficient rate, in rad per time unit (0 for the
+ * time-independent scheme, which takes no steps). Times a step, it is the verdict's phase per step; its
+ * inverse bounds the steps an accuracy-driven run may take.
  *
  * @param engine a loaded engine (for the eigensolver)
  * @param built the case
- * @param stepSize the step the engine took
- * @returns the resolution the verdict checks
+ * @returns the rate
  */
-export function resolutionOf(engine: Engine, built: BuiltCase, stepSize: number): Resolution {
-  if (schemeFor(built.model) === "time-independent") return { phasePerStep: 0 };
+export function fastestRate(engine: Engine, built: BuiltCase): number {
+  if (schemeFor(built.model) === "time-independent") return 0;
   const { omegaMax } = spectralFacts(engine, built);
-  return { phasePerStep: Math.max(omegaMax, coefficientRate(built.terms, built.model)) * stepSize };
+  return Math.max(omegaMax, coefficientRate(built.terms, built.model));
+}
+
+/** The model with the longest step an accuracy-driven run may take: half a radian of the fastest phase. */
+export function withStepLimit(built: BuiltCase, rate: number): BuiltCase["model"] {
+  if (built.model.accuracy === undefined || !(rate > 0)) return built.model;
+  return { ...built.model, maxStep: 0.5 * MAX_PHASE_PER_STEP / rate };
 }
 
 /**

@@ -47,6 +47,7 @@ export function runJson({ built, result, analysis }: RunOutcome): unknown {
       scheme: result.scheme,
       steps: result.steps,
       step_size: result.stepSize,
+      accuracy: built.model.accuracy ?? null,
       order: built.model.order,
       strength: built.model.strength,
       reference_error: analysis.referenceError,

@@ -29,11 +29,13 @@ export function formatRun(
   const tu = built.units.time ? ` ${built.units.time}` : "";
   out.push(`ordo ${VERSION} · ${built.title}`);
   out.push(`units   ${built.units.description}`);
+  const h = Number(result.stepSize.toPrecision(4));
   const stepText = result.scheme === "time-independent"
     ? `no time steps (time-independent H: exact exponentials between ${result.times.length} samples)`
-    : `${result.steps} steps of h = ${
-      Number(result.stepSize.toPrecision(4))
-    }${tu}, 4th-order commutator-free exponential integrator`;
+    : built.model.accuracy !== undefined
+    ? `${result.steps} steps chosen for accuracy ${built.model.accuracy} (mean h = ${h}${tu}), 4th-order ` +
+      "commutator-free exponential integrator"
+    : `${result.steps} steps of h = ${h}${tu}, 4th-order commutator-free exponential integrator`;
   out.push(
     `scheme  ${result.scheme}; ${stepText}; Dyson order ≤ ${built.model.order}; λ = ${built.model.strength}`,
   );
@@ -58,9 +60,11 @@ export function formatRun(
   }
   out.push("");
   out.push(`verdict (tolerance ${sci(analysis.tolerance, 2)} on populations)`);
-  const refText = result.checkDivisor === 15
-    ? "step doubling, |P(h) − P(2h)|/15"
-    : "exact by eigen-decomposition vs by Taylor series";
+  const refText = result.scheme === "time-independent"
+    ? "exact by eigen-decomposition vs by Taylor series"
+    : built.model.accuracy !== undefined
+    ? "step doubling on every step, carried to the reported time"
+    : "step doubling, |P(h) − P(2h)|/15";
   const judged = analysis.untrusted.length === 0;
   out.push(
     `  reference error ≈ ${sci(analysis.referenceError, 2)} (${refText}): ` +

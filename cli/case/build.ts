@@ -34,8 +34,10 @@ export interface BuildOptions {
   set?: Record<string, string>;
   /** `--order N`. */
   order?: number;
-  /** `--steps N`. */
+  /** `--steps N` (fixed steps; overrides an accuracy in the case). */
   steps?: number;
+  /** `--accuracy A` (steps chosen by the engine; overrides steps in the case). */
+  accuracy?: number;
   /** `--targets a,b`. */
   targets?: string[];
 }
@@ -123,7 +125,9 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   // Finite coefficients at a few times (the engine's sampler checks every node as it runs); Hermitian at
   // every node the integrator uses.
   const { tStart, tEnd } = settings;
-  if (terms.some((t) => t.coef?.usesTime)) guardSteppedWork({ dim: space.dim, ...settings });
+  if (terms.some((t) => t.coef?.usesTime)) {
+    if (settings.accuracy === undefined) guardSteppedWork({ dim: space.dim, ...settings });
+  }
   else guardExactWork(terms, tEnd - tStart, settings.strength);
   const checkTimes = Array.from({ length: 9 }, (_, k) => tStart + (tEnd - tStart) * k / 8);
   for (const name of sections) {
@@ -149,6 +153,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
     steps: settings.steps,
     samples: settings.samples,
     order: settings.order,
+    ...(settings.accuracy !== undefined ? { accuracy: settings.accuracy } : {}),
   };
   return {
     source,

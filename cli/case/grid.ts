@@ -11,6 +11,15 @@ import type { CaseSpec } from "./schema.ts";
 import { compileExpression, type Scope } from "./expression.ts";
 import { showValue } from "./params.ts";
 
+/** The accuracy a stepped run asks for when a case gives neither steps nor accuracy. */
+export const DEFAULT_ACCURACY = 1e-8;
+
+/**
+ * Integrator nodes at which an accuracy-driven run is checked before it starts (its own steps are chosen as it
+ * runs): this many steps' nodes over the window, or 8 per recorded interval if that is more.
+ */
+export const ACCURACY_CHECK_STEPS = 20_000;
+
 /** The highest Dyson order a case may ask for. */
 export const MAX_ORDER = 40;
 
@@ -18,7 +27,10 @@ export const MAX_ORDER = 40;
 export interface Settings {
   tStart: number;
   tEnd: number;
+  /** Fixed steps, or (with an accuracy) the steps whose nodes are checked before the run. */
   steps: number;
+  /** The accuracy the engine chooses its steps for; undefined for fixed steps. */
+  accuracy: number | undefined;
   samples: number;
   order: number;
   strength: number;
@@ -36,7 +48,7 @@ export interface Settings {
  */
 export function readSettings(
   spec: CaseSpec,
-  overrides: { order?: number; steps?: number },
+  overrides: { order?: number; steps?: number; accuracy?: number },
   scope: Scope,
 ): Settings {
   const tStart = realConstant(spec.grid.t_start, ["grid", "t_start"], scope);
@@ -53,7 +65,11 @@ export function readSettings(
       "set t_end larger than t_start",
     );
   }
-  const steps = overrides.steps ?? spec.grid.steps;
+  const samples = spec.grid.samples;
+  const accuracy = chooseAccuracy(spec, overrides);
+  const steps = accuracy !== undefined
+    ? Math.max(ACCURACY_CHECK_STEPS, 8 * (samples - 1))
+    : (overrides.steps ?? spec.grid.steps)!;
   if (steps < 1) {
     throw new CaseError(
       `steps = ${steps}, but at least 1 integrator step is needed`,
@@ -61,7 +77,6 @@ export function readSettings(
       "set steps ≥ 1 (see `ordo inspect` for a suggestion)",
     );
   }
-  const samples = spec.grid.samples;
   if (samples < 2) {
     throw new CaseError(
       `samples = ${samples}, but the two ends are always recorded`,
@@ -79,7 +94,30 @@ export function readSettings(
   }
   const strength = spec.series.strength ?? 1;
   const tolerance = spec.series.tolerance ?? 1e-6;
-  return { tStart, tEnd, steps, samples, order, strength, tolerance };
+  return { tStart, tEnd, steps, accuracy, samples, order, strength, tolerance };
+}
+
+/** Fixed steps (a number) or an accuracy: the command line first, then the case, then the default accuracy. */
+function chooseAccuracy(spec: CaseSpec, overrides: { steps?: number; accuracy?: number }): number | undefined {
+  if (overrides.steps !== undefined) return undefined;
+  if (overrides.accuracy !== undefined) {
+    if (!(overrides.accuracy > 0 && overrides.accuracy < 1)) {
+      throw new CaseError(`--accuracy ${overrides.accuracy} is not between 0 and 1`, [], "e.g. --accuracy 1e-8");
+    }
+    return overrides.accuracy;
+  }
+  if (spec.grid.steps !== undefined && spec.grid.accuracy !== undefined) {
+    throw new CaseError(
+      "gives both steps and accuracy",
+      ["grid"],
+      "keep accuracy (the engine chooses its steps) or steps (fixed steps), not both",
+    );
+  }
+  if (spec.grid.accuracy !== undefined && !(spec.grid.accuracy < 1)) {
+    throw new CaseError(`accuracy = ${spec.grid.accuracy} is not below 1`, ["grid", "accuracy"], "e.g. 1e-8");
+  }
+  if (spec.grid.steps !== undefined) return undefined;
+  return spec.grid.accuracy ?? DEFAULT_ACCURACY;
 }
 
 function realConstant(v: number | string, path: KeyPath, scope: Scope): number {

@@ -84,7 +84,8 @@ export const caseSchema = z.object({
   grid: z.object({
     t_start: scalar.default(0),
     t_end: scalar,
-    steps: z.number().int(),
+    steps: z.number().int().optional(),
+    accuracy: z.number().positive().optional(),
     samples: z.number().int().default(101),
   }).strict(),
   series: z.object({

@@ -17,6 +17,7 @@ export type Flags = NonNullable<ParseArgsConfig["options"]>;
 export const CASE_FLAGS: Flags = {
   order: { type: "string" },
   steps: { type: "string" },
+  accuracy: { type: "string" },
   set: { type: "string", multiple: true },
   targets: { type: "string" },
   quiet: { type: "boolean" },
@@ -48,7 +49,7 @@ export function integerFlag(value: unknown, flag: string): number | undefined {
   return n;
 }
 
-/** The case overrides given by `--set`, `--order`, `--steps` and `--targets`. */
+/** The case overrides given by `--set`, `--order`, `--steps`, `--accuracy` and `--targets`. */
 export function buildOptions(values: Record<string, unknown>): BuildOptions {
   const set: Record<string, string> = {};
   for (const item of (values.set as string[] | undefined) ?? []) {
@@ -59,10 +60,18 @@ export function buildOptions(values: Record<string, unknown>): BuildOptions {
   const targets = values.targets === undefined
     ? undefined
     : String(values.targets).split(",").map((s) => s.trim()).filter(Boolean);
+  if (values.steps !== undefined && values.accuracy !== undefined) {
+    usage("give --steps (fixed steps) or --accuracy (steps chosen by the engine), not both");
+  }
+  const accuracy = values.accuracy === undefined ? undefined : Number(values.accuracy);
+  if (accuracy !== undefined && !(accuracy > 0 && accuracy < 1)) {
+    usage(`--accuracy takes a number between 0 and 1, e.g. 1e-8; got "${values.accuracy}"`);
+  }
   return {
     set,
     order: integerFlag(values.order, "--order"),
     steps: integerFlag(values.steps, "--steps"),
+    ...(accuracy !== undefined ? { accuracy } : {}),
     targets,
   };
 }

@@ -129,7 +129,7 @@ function emitArray(args: string[], values: Record<string, unknown>, file: string
   const shards = integerFlag(values.shards, "--shards");
   if (!shards || shards < 1) usage("--emit-array needs --shards N, the number of array tasks");
   // Pass the flags that shape the sweep on to every shard.
-  const passed = ["--vary", "--set", "--order", "--steps", "--targets"];
+  const passed = ["--vary", "--set", "--order", "--steps", "--accuracy", "--targets"];
   const extra: string[] = [];
   args.forEach((arg, k) => {
     if (passed.includes(arg) && args[k + 1] !== undefined) extra.push(arg, args[k + 1]!);

@@ -8,7 +8,7 @@
  */
 
 import { analyse, type Resolution } from "../analysis/verdict.ts";
-import { resolutionOf } from "../analysis/inspection.ts";
+import { fastestRate, withStepLimit } from "../analysis/inspection.ts";
 import { buildCase, type BuildOptions, type BuiltCase } from "../case/build.ts";
 import { parseCase, withLocation } from "../case/parse.ts";
 import { CaseError } from "../case/errors.ts";
@@ -78,9 +78,10 @@ export class PointEvaluator {
   /** Evaluates one point. */
   evaluate(index: number, values: number[]): PointResult {
     const built = this.build(values);
-    const result = solve(this.#engine, built.model);
+    const rate = fastestRate(this.#engine, built);
+    const result = solve(this.#engine, withStepLimit(built, rate));
     return {
-      ...summarise(index, values, built, result, resolutionOf(this.#engine, built, result.stepSize)),
+      ...summarise(index, values, built, result, { phasePerStep: rate * result.stepSize }),
       formulas: this.#formulas(built),
     };
   }
@@ -118,11 +119,11 @@ export class PointEvaluator {
    */
   evaluateStrengths(points: { index: number; values: number[] }[], onPoint: (r: PointResult) => void): void {
     const built = this.build([1]);
-    const series = solve(this.#engine, built.model);
-    const resolution = resolutionOf(this.#engine, built, series.stepSize);
+    const rate = fastestRate(this.#engine, built);
+    const series = solve(this.#engine, withStepLimit(built, rate));
     for (const { index, values } of points) {
       const lambda = values[0]!;
-      const model = { ...built.model, strength: lambda, order: 0 };
+      const model = { ...withStepLimit(built, rate), strength: lambda, order: 0 };
       const exactRun = solve(this.#engine, model);
       const result: Result = {
         ...series,
@@ -131,6 +132,7 @@ export class PointEvaluator {
         check: exactRun.check,
       };
       const point = { ...built, model: { ...built.model, strength: lambda } };
+      const resolution = { phasePerStep: rate * exactRun.stepSize };
       onPoint({ ...summarise(index, values, point, result, resolution), formulas: this.#formulas(point) });
     }
   }

@@ -15,6 +15,9 @@ export {
   bufRecord,
   bufVTerms,
   init,
+  macroStep,
   prepare,
   record,
+  rejectStep,
+  stepError,
 } from "./schemes";

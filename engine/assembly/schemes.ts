@@ -81,6 +81,12 @@ let coefFine: usize = 0;
 let coefCoarse: usize = 0;
 let initial: usize = 0;
 let work: usize = 0;
+// Adaptive stepping: the start of a macro step (to restore on rejection), the 2h companion, and the
+// estimated error vector of the exact state, kept right after it (exact, err contiguous).
+let adaptive = false;
+let save: usize = 0;
+let comp: usize = 0;
+let errv: usize = 0;
 
 /**
  * Allocate every buffer for a run: dimension dim, Dyson order order, nH0 and
@@ -111,11 +117,12 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32): 
   x0a = arenaAlloc(mat);
   x0b = arenaAlloc(mat);
   series = arenaAlloc(<usize>r * vec);
-  exact = arenaAlloc(vec);
+  exact = arenaAlloc(vec << 1);
+  errv = exact + vec;
   check = arenaAlloc(vec);
   amp2 = arenaAlloc(vec);
-  t1 = arenaAlloc(<usize>r * vec);
-  t2 = arenaAlloc(<usize>r * vec);
+  t1 = arenaAlloc(<usize>max(r, 2) * vec);
+  t2 = arenaAlloc(<usize>max(r, 2) * vec);
   ph1 = arenaAlloc(vec);
   ph2 = arenaAlloc(vec);
   rec = arenaAlloc(<usize>(r + 2) * vec);
@@ -123,7 +130,10 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32): 
   coefFine = arenaAlloc(<usize>chunk * 2 * max(<i32>kt, 1) << 4);
   coefCoarse = arenaAlloc(<usize>chunk * max(<i32>kt, 1) << 4);
   initial = arenaAlloc(vec);
+  save = arenaAlloc(<usize>(r + 2) * vec);
+  comp = arenaAlloc(<usize>(r + 1) * vec);
   work = arenaAlloc(<usize>d << 6);
+  adaptive = false;
   return coefCoarse == 0 || work == 0 ? ERR_MEMORY : ERR_OK;
 }
 
@@ -205,6 +215,16 @@ function normInf(a: usize): f64 {
     best = max(best, s);
   }
   return best;
+}
+
+/** Σ|v_a|² of a d-vector. */
+function norm2(v: usize): f64 {
+  let s = 0.0;
+  for (let a = 0; a < d; a++) {
+    const p = v + (<usize>a << 4);
+    s += cre(p) * cre(p) + cim(p) * cim(p);
+  }
+  return s;
 }
 
 function norm1(v: usize): f64 {
@@ -328,6 +348,7 @@ function startVectors(v: usize): void {
   memory.fill(series, 0, <usize>r * vec);
   memory.copy(series, v, vec);
   memory.copy(exact, v, vec);
+  memory.fill(errv, 0, vec);
   memory.copy(check, v, vec);
 }
 
@@ -475,6 +496,94 @@ export function advance(nsteps: i32, tau0: f64, h: f64): i32 {
 }
 
 /**
+ * One step of size h from τ on the stacked series at ser and the exact state at ex (with nEx vectors: 2 carries
+ * the error vector along), from coefficient samples at step `step` of buf.
+ */
+function oneStep(buf: usize, step: i32, tau: f64, h: f64, ser: usize, ex: usize, nEx: i32): i32 {
+  let err = ERR_OK;
+  if (scheme == SCHEME_INTERACTION) {
+    ipFactors(buf, step, tau, h);
+    err |= expBlock(h, r, MODE_NONE, 0, 0.0, x1, ser);
+    err |= expBlock(h, r, MODE_NONE, 0, 0.0, x2, ser);
+    err |= expBlock(h, nEx, MODE_DENSE, x1, lambda, 0, ex);
+    err |= expBlock(h, nEx, MODE_DENSE, x2, lambda, 0, ex);
+  } else {
+    tdFactors(buf, step);
+    err |= expBlock(h, r, MODE_DENSE, x0a, 1.0, x1, ser);
+    err |= expBlock(h, r, MODE_DENSE, x0b, 1.0, x2, ser);
+    exactGenerator(x0a, x1);
+    err |= expBlock(h, nEx, MODE_DENSE, y, 1.0, 0, ex);
+    exactGenerator(x0b, x2);
+    err |= expBlock(h, nEx, MODE_DENSE, y, 1.0, 0, ex);
+  }
+  return err;
+}
+
+/** ‖a − b‖₂ over n complex entries. */
+function distance(a: usize, b: usize, n: i32): f64 {
+  let s = 0.0;
+  for (let e = 0; e < n; e++) {
+    const p = a + (<usize>e << 4), q = b + (<usize>e << 4);
+    const xr = cre(p) - cre(q), xi = cim(p) - cim(q);
+    s += xr * xr + xi * xi;
+  }
+  return Math.sqrt(s);
+}
+
+let lastError: f64 = 0.0;
+
+/**
+ * Adaptive stepping (step doubling on the whole stacked state): from τ, two steps of h (coefficient samples
+ * at steps 0 and 1 of the fine buffer) and, from the same start, one step of 2h (step 0 of the coarse
+ * buffer). The state becomes the two-step result; the start is kept for {@link rejectStep}. Returns an error
+ * code; the local error estimate, max over the exact state and every partial sum of ‖Ψ_h − Ψ_2h‖/15
+ * (Richardson for a 4th-order method), is read with {@link stepError}. On acceptance the estimated error
+ * vector of the exact state is carried along with it and grows by this step's (Ψ_h − Ψ_2h)/15.
+ * see: Hairer, Nørsett & Wanner, Solving ODEs I, §II.4 (step doubling).
+ */
+export function macroStep(tau: f64, h: f64): i32 {
+  adaptive = true;
+  memory.copy(save, series, <usize>r * vec);
+  memory.copy(save + <usize>r * vec, exact, vec << 1);
+  memory.copy(comp, series, <usize>r * vec);
+  memory.copy(comp + <usize>r * vec, exact, vec);
+  let err = oneStep(coefCoarse, 0, tau, 2 * h, comp, comp + <usize>r * vec, 1);
+  err |= oneStep(coefFine, 0, tau, h, series, exact, 2);
+  err |= oneStep(coefFine, 1, tau + h, h, series, exact, 2);
+  if (err != ERR_OK) return err;
+  // Partial sums' differences accumulate order by order; the exact state's difference is its own.
+  let worst = distance(exact, comp + <usize>r * vec, d);
+  memory.fill(tmp, 0, vec);
+  for (let n = 0; n < r; n++) {
+    const a = series + <usize>n * vec, b = comp + <usize>n * vec;
+    for (let e = 0; e < d; e++) {
+      const p = a + (<usize>e << 4), q = b + (<usize>e << 4), o = tmp + (<usize>e << 4);
+      cset(o, cre(o) + cre(p) - cre(q), cim(o) + cim(p) - cim(q));
+    }
+    worst = max(worst, Math.sqrt(norm2(tmp)));
+  }
+  lastError = worst / 15.0;
+  // err += (exact − companion)/15
+  const c = comp + <usize>r * vec;
+  for (let e = 0; e < d; e++) {
+    const p = exact + (<usize>e << 4), q = c + (<usize>e << 4), o = errv + (<usize>e << 4);
+    cset(o, cre(o) + (cre(p) - cre(q)) / 15.0, cim(o) + (cim(p) - cim(q)) / 15.0);
+  }
+  return ERR_OK;
+}
+
+/** The local error estimate of the last macro step. */
+export function stepError(): f64 {
+  return lastError;
+}
+
+/** Undo the last macro step (restore the stacked state and the error vector). */
+export function rejectStep(): void {
+  memory.copy(series, save, <usize>r * vec);
+  memory.copy(exact, save + <usize>r * vec, vec << 1);
+}
+
+/**
  * Advance a time-independent run by an interval h with no discretisation:
  * the series by the exact block exponential in H0's eigenbasis, the
  * independent check by the dense exponential of D + λW.
@@ -493,6 +602,13 @@ export function advanceExact(h: f64): i32 {
  */
 export function record(tau: f64): void {
   const n = r + 2;
+  if (adaptive) {
+    // the check slot: the exact state less its estimated error
+    for (let e = 0; e < d; e++) {
+      const p = exact + (<usize>e << 4), q = errv + (<usize>e << 4), o = check + (<usize>e << 4);
+      cset(o, cre(p) - cre(q), cim(p) - cim(q));
+    }
+  }
   if (scheme == SCHEME_TD_H0) {
     memory.copy(rec, series, <usize>r * vec);
     memory.copy(rec + <usize>r * vec, exact, vec);
