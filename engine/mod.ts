@@ -493,7 +493,9 @@ function adaptive(
       }
       if (++tries > MAX_ADAPTIVE_STEPS || !(h > 1e-13 * span)) {
         throw new EngineError(
-          `accuracy ${accuracy} would take more than ${MAX_ADAPTIVE_STEPS.toExponential(0)} steps here, or steps ` +
+          `accuracy ${accuracy} would take more than ${
+            MAX_ADAPTIVE_STEPS.toExponential(0)
+          } steps here, or steps ` +
             "shorter than round-off (is a coefficient not smooth, or far too fast?); ask for less accuracy or " +
             "use fixed steps",
           true,

@@ -68,11 +68,17 @@ Deno.test("with an accuracy, exact and partial-sum populations are within it and
     assert(built.model.accuracy === ACCURACY, `${built.title}: ${built.model.accuracy}`);
     const outcome = runCase(engine, built);
     const d = built.model.dim;
-    const reference = solve(engine, { ...built.model, accuracy: undefined, steps: 16 * outcome.result.steps });
+    const reference = solve(engine, {
+      ...built.model,
+      accuracy: undefined,
+      steps: 16 * outcome.result.steps,
+    });
     const last = reference.times.length - 1;
     const refOwn = Math.max(
-      ...Array.from(populationsAt(reference.exact, d, last), (p, a) =>
-        Math.abs(p - populationsAt(reference.check, d, last)[a]!) / 15),
+      ...Array.from(
+        populationsAt(reference.exact, d, last),
+        (p, a) => Math.abs(p - populationsAt(reference.check, d, last)[a]!) / 15,
+      ),
     );
     assert(refOwn < ACCURACY / 100, `${built.title}: the reference's own estimate ${refOwn}`);
     const mine = finalPopulations(outcome.result, d), ref = finalPopulations(reference, d);
@@ -85,8 +91,10 @@ Deno.test("with an accuracy, exact and partial-sum populations are within it and
       })
     );
     const estimate = Math.max(
-      ...Array.from(populationsAt(outcome.result.exact, d, last), (p, a) =>
-        Math.abs(p - populationsAt(outcome.result.check, d, last)[a]!)),
+      ...Array.from(
+        populationsAt(outcome.result.exact, d, last),
+        (p, a) => Math.abs(p - populationsAt(outcome.result.check, d, last)[a]!),
+      ),
     );
     // The estimate is judged where the true error stands clear of the reference's own error and round-off.
     if (exactError > Math.max(1e-12, 10 * refOwn)) {
@@ -99,8 +107,12 @@ Deno.test("with an accuracy, exact and partial-sum populations are within it and
     }
     assert(outcome.analysis.referenceOk, `${built.title}: judged`);
     console.log(
-      `${built.title}: ${outcome.result.steps} steps (fixed case: ${built.source.spec.grid.steps ?? "none"}); ` +
-        `true ${exactError.toExponential(1)}, estimated ${estimate.toExponential(1)} (reference ${refOwn.toExponential(1)})`,
+      `${built.title}: ${outcome.result.steps} steps (fixed case: ${
+        built.source.spec.grid.steps ?? "none"
+      }); ` +
+        `true ${exactError.toExponential(1)}, estimated ${estimate.toExponential(1)} (reference ${
+          refOwn.toExponential(1)
+        })`,
     );
   }
 });
@@ -134,6 +146,8 @@ order = 10
   let factorial = 1;
   for (let n = 0; n < 8; n++) {
     if (n > 0) factorial *= n;
-    assertClose(populationsAt(result.exact, 16, 2)[n]!, Math.exp(-mean) * mean ** n / factorial, { abs: 1e-9 });
+    assertClose(populationsAt(result.exact, 16, 2)[n]!, Math.exp(-mean) * mean ** n / factorial, {
+      abs: 1e-9,
+    });
   }
 });

@@ -127,8 +127,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   const { tStart, tEnd } = settings;
   if (terms.some((t) => t.coef?.usesTime)) {
     if (settings.accuracy === undefined) guardSteppedWork({ dim: space.dim, ...settings });
-  }
-  else guardExactWork(terms, tEnd - tStart, settings.strength);
+  } else guardExactWork(terms, tEnd - tStart, settings.strength);
   const checkTimes = Array.from({ length: 9 }, (_, k) => tStart + (tEnd - tStart) * k / 8);
   for (const name of sections) {
     const own = terms.filter((t) => t.section === name);

@@ -98,11 +98,18 @@ export function readSettings(
 }
 
 /** Fixed steps (a number) or an accuracy: the command line first, then the case, then the default accuracy. */
-function chooseAccuracy(spec: CaseSpec, overrides: { steps?: number; accuracy?: number }): number | undefined {
+function chooseAccuracy(
+  spec: CaseSpec,
+  overrides: { steps?: number; accuracy?: number },
+): number | undefined {
   if (overrides.steps !== undefined) return undefined;
   if (overrides.accuracy !== undefined) {
     if (!(overrides.accuracy > 0 && overrides.accuracy < 1)) {
-      throw new CaseError(`--accuracy ${overrides.accuracy} is not between 0 and 1`, [], "e.g. --accuracy 1e-8");
+      throw new CaseError(
+        `--accuracy ${overrides.accuracy} is not between 0 and 1`,
+        [],
+        "e.g. --accuracy 1e-8",
+      );
     }
     return overrides.accuracy;
   }

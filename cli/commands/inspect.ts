@@ -7,8 +7,10 @@
 
 import { buildCase, type BuiltCase } from "../case/build.ts";
 import { readCase } from "../case/parse.ts";
-import { inspectCase, type Inspection, PHASE_PER_STEP } from "../analysis/inspection.ts";
-import { loadEngine } from "../../engine/mod.ts";
+import { inspectCase, type Inspection, PHASE_PER_STEP, withStepLimit } from "../analysis/inspection.ts";
+import { MAX_PHASE_PER_STEP } from "../analysis/verdict.ts";
+import { DEFAULT_ACCURACY } from "../case/grid.ts";
+import { type Engine, loadEngine, solve } from "../../engine/mod.ts";
 import { buildOptions, oneCase, parseOrFail } from "./_args.ts";
 
 /**
@@ -23,8 +25,21 @@ export async function inspectCommand(args: string[]): Promise<number> {
   });
   const built = buildCase(readCase(oneCase(positionals, "inspect")), buildOptions(values));
   const engine = await loadEngine();
-  console.log(formatInspection(built, inspectCase(engine, built)));
+  const info = inspectCase(engine, built);
+  console.log(formatInspection(built, info, controllerSteps(engine, built, info)));
   return 0;
+}
+
+/**
+ * The steps the engine's controller takes for the case's accuracy (or the default one): a run of the exact
+ * state alone (order 0), which is what sets the steps. Undefined for a time-independent case.
+ */
+function controllerSteps(engine: Engine, built: BuiltCase, info: Inspection) {
+  if (info.scheme === "time-independent") return undefined;
+  const accuracy = built.model.accuracy ?? DEFAULT_ACCURACY;
+  const rate = Math.max(info.omegaMax, info.coefRate);
+  const model = withStepLimit({ ...built, model: { ...built.model, accuracy } }, rate);
+  return { accuracy, steps: solve(engine, { ...model, order: 0 }).steps };
 }
 
 function fmt(x: number, digits = 6): string {
@@ -40,8 +55,12 @@ function bytes(n: number): string {
   return `${n.toFixed(k ? 1 : 0)} ${units[k]}`;
 }
 
-/** The inspection as text for the terminal. */
-export function formatInspection(built: BuiltCase, info: Inspection): string {
+/** The inspection as text for the terminal (with the controller's steps for an accuracy, when known). */
+export function formatInspection(
+  built: BuiltCase,
+  info: Inspection,
+  controller?: { accuracy: number; steps: number },
+): string {
   const freq = built.units.time ? ` rad/${built.units.time}` : "";
   const lines = [
     ...describeCase(built, info),
@@ -49,7 +68,7 @@ export function formatInspection(built: BuiltCase, info: Inspection): string {
     `  norm bound x = ∫‖λV(t)‖dt ≤ ${fmt(info.normIntegral, 4)}  (‖λV‖ ≤ ${
       fmt(info.vMax, 4)
     }${freq}; the n-th Dyson term is at most xⁿ/n!)`,
-    ...describeSteps(built, info),
+    ...describeSteps(built, info, controller),
     `  memory     about ${bytes(info.memoryBytes)} (largest part: ${info.memoryLargest})`,
   ];
   for (const w of built.warnings) lines.push(`  warning    ${w}`);
@@ -100,7 +119,11 @@ function describeSpectrum(info: Inspection, freq: string): string[] {
   return lines;
 }
 
-function describeSteps(built: BuiltCase, info: Inspection): string[] {
+function describeSteps(
+  built: BuiltCase,
+  info: Inspection,
+  controller?: { accuracy: number; steps: number },
+): string[] {
   const { model } = built;
   const tu = built.units.time ? ` ${built.units.time}` : "";
   if (info.scheme === "time-independent") {
@@ -110,8 +133,23 @@ function describeSteps(built: BuiltCase, info: Inspection): string[] {
       }${tu})`,
     ];
   }
+  const span = model.tEnd - model.tStart;
+  if (model.accuracy !== undefined && controller) {
+    return [
+      `  steps      chosen by the engine for accuracy ${model.accuracy}: ${controller.steps} steps ` +
+      `(mean h = ${fmt(span / controller.steps)}${tu}; phase per step kept ≤ ${
+        0.5 * MAX_PHASE_PER_STEP
+      } rad)`,
+    ];
+  }
   const phase = info.omegaMax * info.stepSize;
   const verdict = info.steps >= info.suggestedSteps ? "enough" : "too few: raise [grid] steps";
+  const suggestion = controller
+    ? [
+      `  accuracy   suggested: [grid] accuracy = ${controller.accuracy} instead of steps (or --accuracy): ` +
+      `the engine would take ${controller.steps} steps for it`,
+    ]
+    : [];
   return [
     `  steps      ${info.steps} of h = ${fmt(info.stepSize)}${tu}` +
     (info.steps !== model.steps
@@ -121,5 +159,6 @@ function describeSteps(built: BuiltCase, info: Inspection): string[] {
       fmt(info.coefRate * info.stepSize, 3)
     }`,
     `             suggested ≥ ${info.suggestedSteps} steps (phase per step ≤ ${PHASE_PER_STEP}); ${verdict}`,
+    ...suggestion,
   ];
 }
