@@ -210,7 +210,8 @@ function normInf(a: usize): f64 {
     let s = 0.0;
     for (let j = 0; j < d; j++) {
       const p = a + ((<usize>i * d + j) << 4);
-      s += Math.hypot(cre(p), cim(p));
+      const re = cre(p), im = cim(p);
+      s += Math.sqrt(re * re + im * im);
     }
     best = max(best, s);
   }
@@ -299,7 +300,8 @@ function expBlock(h: f64, rr: i32, mode: i32, dOp: usize, dScale: f64, bOp: usiz
     mu = 0.5 * (lo + hi);
     normA = 0.5 * (hi - lo);
   }
-  if (bOp != 0 && rr > 1) normA += normInf(bOp);
+  // The norm sets the sub-steps, and a nilpotent generator (mode NONE) needs none.
+  if (mode != MODE_NONE && bOp != 0 && rr > 1) normA += normInf(bOp);
   let sub = 1;
   if (mode != MODE_NONE) {
     const need = Math.ceil(Math.abs(h) * normA / THETA);
