@@ -418,6 +418,41 @@ export function eigh(
   };
 }
 
+/**
+ * The product A·B of two d×d complex matrices (row-major, interleaved), by the engine's kernel: the columns of
+ * B are the vectors the kernel multiplies, so all O(d³) work runs in WebAssembly.
+ *
+ * @param engine a loaded engine
+ * @param a the left factor
+ * @param b the right factor
+ * @param d the dimension
+ * @returns A·B, row-major, interleaved
+ */
+export function multiply(engine: Engine, a: Float64Array, b: Float64Array, d: number): Float64Array {
+  const e = engine.exports;
+  e.arenaReset();
+  const pa = e.arenaAlloc(16 * d * d), px = e.arenaAlloc(16 * d * d), py = e.arenaAlloc(16 * d * d);
+  if (!pa || !px || !py) check(1);
+  new Float64Array(e.memory.buffer, pa, 2 * d * d).set(a);
+  const x = new Float64Array(e.memory.buffer, px, 2 * d * d);
+  transposeInto(x, b, d);
+  new Float64Array(e.memory.buffer, py, 2 * d * d).fill(0);
+  e.zgemvSimd(pa, d, px, py, d, 1, 0);
+  const out = new Float64Array(2 * d * d);
+  transposeInto(out, new Float64Array(e.memory.buffer, py, 2 * d * d), d);
+  return out;
+}
+
+/** out := mᵀ (no conjugation), d×d interleaved. */
+function transposeInto(out: Float64Array, m: Float64Array, d: number): void {
+  for (let i = 0; i < d; i++) {
+    for (let j = 0; j < d; j++) {
+      out[2 * (j * d + i)] = m[2 * (i * d + j)]!;
+      out[2 * (j * d + i) + 1] = m[2 * (i * d + j) + 1]!;
+    }
+  }
+}
+
 /** Populations |ψ_a|² of the state at sample k of a sample-major state array. */
 export function populationsAt(
   states: Float64Array,

@@ -4,7 +4,7 @@
 import { all, type Complex as MathComplex, create, type Matrix } from "mathjs";
 import { assert } from "./assert.ts";
 import { assertClose, randomHermitian, seeded, testEngine } from "./helpers.ts";
-import { eigh, solve } from "../engine/mod.ts";
+import { eigh, multiply, solve } from "../engine/mod.ts";
 import { constantModel } from "./engine_helpers.ts";
 
 const math = create(all!);
@@ -290,5 +290,22 @@ Deno.test("the selected kernel does not change results: a run with the reference
     simd.terms[4]!.forEach((x, k) => assertClose(x, ref.terms[4]![k]!, { abs: 1e-13 }));
   } finally {
     engine.exports.useSimd(1);
+  }
+});
+
+Deno.test("multiply() of two complex 7×7 matrices equals mathjs multiply to 1e-14", async () => {
+  const engine = await testEngine();
+  const random = seeded(11);
+  const d = 7;
+  const a = Float64Array.from({ length: 2 * d * d }, () => random() - 0.5);
+  const b = Float64Array.from({ length: 2 * d * d }, () => random() - 0.5);
+  const mine = multiply(engine, a, b, d);
+  const ref = math.multiply(toMath(a, d), toMath(b, d)) as Matrix;
+  for (let i = 0; i < d; i++) {
+    for (let j = 0; j < d; j++) {
+      const z = entry(ref, i, j);
+      assertClose(mine[2 * (i * d + j)]!, z.re, { abs: 1e-14 }, `re (${i},${j})`);
+      assertClose(mine[2 * (i * d + j) + 1]!, z.im, { abs: 1e-14 }, `im (${i},${j})`);
+    }
   }
 });

@@ -51,7 +51,7 @@ function spectralFacts(engine: Engine, built: BuiltCase) {
     at,
     ...spectrum(engine, assembleAt(h0Terms, d, at), space.labels),
   }));
-  let { bohr, omegaMax } = bohrFrequencies(spectra[0]!, vTerms);
+  let { bohr, omegaMax } = bohrFrequencies(engine, spectra[0]!, vTerms);
   if (h0TimeDependent) {
     for (const s of spectra) omegaMax = Math.max(omegaMax, s.values[d - 1]! - s.values[0]!);
   }

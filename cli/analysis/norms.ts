@@ -7,7 +7,7 @@
  */
 
 import { type AssembledTerm, coefAt } from "../case/terms.ts";
-import { eigh, type Engine } from "../../engine/mod.ts";
+import { eigh, type Engine, multiply } from "../../engine/mod.ts";
 import type { Model } from "../../engine/model.ts";
 
 /** The running norm integral and the coefficient rates over a window. */
@@ -36,7 +36,7 @@ export function normProfile(engine: Engine, terms: AssembledTerm[], model: Model
   const d = model.dim;
   const vTerms = terms.filter((t) => t.section === "perturbation");
   const termNorms = vTerms.map((t) => {
-    const ev = eigh(engine, t.matrix.dagger().mul(t.matrix).data, d).values;
+    const ev = eigh(engine, multiply(engine, t.matrix.dagger().data, t.matrix.data, d), d).values;
     return Math.sqrt(Math.max(0, ev[d - 1]!));
   });
   const points = Math.min(200_001, Math.max(4001, 4 * model.steps + 1));

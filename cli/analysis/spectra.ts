@@ -8,7 +8,7 @@
 
 import { ComplexMatrix } from "../case/complex_matrix.ts";
 import type { AssembledTerm } from "../case/terms.ts";
-import { eigh, type Engine } from "../../engine/mod.ts";
+import { eigh, type Engine, multiply } from "../../engine/mod.ts";
 
 /** A Hermitian matrix's spectrum, its eigenvectors (columns), and the dominant label of each. */
 export interface Spectrum {
@@ -51,25 +51,26 @@ export function spectrum(engine: Engine, m: ComplexMatrix, labels: string[]): Sp
 /**
  * The Bohr frequencies of pairs that V couples in H0's eigenbasis, strongest coupling first.
  *
+ * @param engine a loaded engine (its kernel does the change of basis)
  * @param h0 H0's spectrum
  * @param vTerms V's terms (each at its full matrix; coefficients are not applied)
  * @returns the coupled pairs and the largest |E_a − E_b| among them
  */
 export function bohrFrequencies(
+  engine: Engine,
   h0: Spectrum,
   vTerms: AssembledTerm[],
 ): { bohr: BohrFrequency[]; omegaMax: number } {
   const { values, vectors, dominant } = h0;
   const d = values.length;
-  const basis = new ComplexMatrix(d, d, vectors);
-  const basisH = basis.dagger();
+  const basisH = new ComplexMatrix(d, d, vectors).dagger().data;
   // Couplings in the H0 eigenbasis: the largest |W_ab| over V's terms.
   const coupling = new Float64Array(d * d);
   let largest = 0;
   for (const term of vTerms) {
-    const w = basisH.mul(term.matrix).mul(basis);
+    const w = multiply(engine, basisH, multiply(engine, term.matrix.data, vectors, d), d);
     for (let k = 0; k < d * d; k++) {
-      coupling[k] = Math.max(coupling[k]!, Math.hypot(w.data[2 * k]!, w.data[2 * k + 1]!));
+      coupling[k] = Math.max(coupling[k]!, Math.hypot(w[2 * k]!, w[2 * k + 1]!));
       largest = Math.max(largest, coupling[k]!);
     }
   }
