@@ -15,6 +15,7 @@
 import { type Engine, loadEngine, solve } from "../../engine/mod.ts";
 import { mathjsScheme } from "./_mathjs_scheme.ts";
 import { dense, drivenModel, timeIndependent, twoLevel } from "./_bench_cases.ts";
+import { scipyRows } from "./_bench_scipy.ts";
 import { compileExpression } from "../case/expression.ts";
 import { seeded } from "../base/seeded.ts";
 
@@ -81,6 +82,7 @@ export async function benchCommand(): Promise<number> {
     ...engineRows(engine),
     ...kernelRows(engine),
     await memoryRow(),
+    ...await scipyRows(engine, log),
   ];
   console.log(table(rows));
   console.log(
