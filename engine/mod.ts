@@ -58,7 +58,9 @@ interface Exports {
     nV: number,
     chunk: number,
   ): number;
-  prepare(scheme: number, strength: number): number;
+  prepare(scheme: number, strength: number, haveEigen: number): number;
+  bufEnergies(): number;
+  bufBasis(): number;
   advance(nsteps: number, tau0: number, h: number): number;
   advanceExact(h: number): number;
   macroStep(tau: number, h: number): number;
@@ -220,7 +222,12 @@ export function solve(
     "interaction-picture": 1,
     "time-dependent-h0": 2,
   }[scheme];
-  check(e.prepare(schemeCode, model.strength));
+  const eigen = scheme === "time-dependent-h0" ? undefined : model.unperturbedEigen;
+  if (eigen) {
+    new Float64Array(mem(), e.bufEnergies(), d).set(eigen.values);
+    new Float64Array(mem(), e.bufBasis(), 2 * d * d).set(eigen.vectors);
+  }
+  check(e.prepare(schemeCode, model.strength, eigen ? 1 : 0));
 
   const times = new Float64Array(samples);
   const interval = (model.tEnd - model.tStart) / (samples - 1);

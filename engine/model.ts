@@ -52,6 +52,11 @@ export interface Model {
   accuracy?: number;
   /** With an accuracy: the longest step the engine may take (e.g. to resolve the fastest phase). */
   maxStep?: number;
+  /**
+   * The eigen-decomposition of the constant H0 (ascending values; vectors as columns, row-major, interleaved)
+   * when the caller has it already, so that the engine does not compute it again. Ignored when H0 depends on t.
+   */
+  unperturbedEigen?: { values: Float64Array; vectors: Float64Array };
 }
 
 /** Whether a coefficient depends on time. */

@@ -25,7 +25,7 @@ export interface Inspection extends NormProfile {
   dim: number;
   scheme: string;
   /** H0 eigenvalues at t_start (and t_end when H0 depends on time). */
-  spectrum: { at: number; values: Float64Array; dominant: string[] }[];
+  spectrum: { at: number; values: Float64Array; vectors: Float64Array; dominant: string[] }[];
   /** Bohr frequencies E_a − E_b > 0 of pairs that V couples, with their labels, largest coupling first. */
   bohr: BohrFrequency[];
   /** Largest coupled |E_a − E_b| (the fastest interaction-picture phase). */
@@ -58,25 +58,48 @@ function spectralFacts(engine: Engine, built: BuiltCase) {
   return { scheme, spectra, bohr, omegaMax };
 }
 
+/** How fast H turns, and H0's eigen-decomposition when H0 is constant (to hand to the engine). */
+export interface Turning {
+  /**
+   * The fastest coupled phase or coefficient rate, in rad per time unit (0 for the time-independent scheme,
+   * which takes no steps). Times a step, it is the verdict's phase per step; its inverse bounds the steps an
+   * accuracy-driven run may take.
+   */
+  rate: number;
+  /** H0's eigen-decomposition (undefined when H0 depends on t). */
+  eigen?: { values: Float64Array; vectors: Float64Array };
+}
+
 /**
- * How fast H turns: the fastest coupled phase or coefficient rate, in rad per time unit (0 for the
- * time-independent scheme, which takes no steps). Times a step, it is the verdict's phase per step; its
- * inverse bounds the steps an accuracy-driven run may take.
+ * How fast H turns, with H0's eigen-decomposition computed once for the run.
  *
  * @param engine a loaded engine (for the eigensolver)
  * @param built the case
- * @returns the rate
+ * @returns the rate and the decomposition
  */
-export function fastestRate(engine: Engine, built: BuiltCase): number {
-  if (schemeFor(built.model) === "time-independent") return 0;
-  const { omegaMax } = spectralFacts(engine, built);
-  return Math.max(omegaMax, coefficientRate(built.terms, built.model));
+export function turningOf(engine: Engine, built: BuiltCase): Turning {
+  const facts = spectralFacts(engine, built);
+  const eigen = facts.scheme === "time-dependent-h0" ? undefined : facts.spectra[0]!;
+  if (facts.scheme === "time-independent") return { rate: 0, eigen };
+  return { rate: Math.max(facts.omegaMax, coefficientRate(built.terms, built.model)), eigen };
 }
 
-/** The model with the longest step an accuracy-driven run may take: half a radian of the fastest phase. */
-export function withStepLimit(built: BuiltCase, rate: number): BuiltCase["model"] {
-  if (built.model.accuracy === undefined || !(rate > 0)) return built.model;
-  return { ...built.model, maxStep: 0.5 * MAX_PHASE_PER_STEP / rate };
+/**
+ * The engine's model of a case for one run: H0's eigen-decomposition handed over (so that it is computed once),
+ * and for an accuracy-driven run the longest step: half a radian of the fastest phase.
+ */
+export function engineModel(built: BuiltCase, turning: Turning): BuiltCase["model"] {
+  const model = { ...built.model };
+  if (turning.eigen) model.unperturbedEigen = { values: turning.eigen.values, vectors: turning.eigen.vectors };
+  if (model.accuracy !== undefined && turning.rate > 0) model.maxStep = 0.5 * MAX_PHASE_PER_STEP / turning.rate;
+  return model;
+}
+
+/** What {@link turningOf} says, from an inspection already made. */
+export function turningFrom(info: Inspection): Turning {
+  const eigen = info.scheme === "time-dependent-h0" ? undefined : info.spectrum[0];
+  const rate = info.scheme === "time-independent" ? 0 : Math.max(info.omegaMax, info.coefRate);
+  return { rate, eigen };
 }
 
 /**
@@ -101,7 +124,7 @@ export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
   return {
     dim: d,
     scheme,
-    spectrum: spectra.map(({ at, values, dominant }) => ({ at, values, dominant })),
+    spectrum: spectra,
     bohr,
     omegaMax,
     ...norms,

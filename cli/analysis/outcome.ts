@@ -7,8 +7,8 @@
 
 import { analyse, type Analysis } from "./verdict.ts";
 import type { BuiltCase } from "../case/build.ts";
-import { inspectCase, type Inspection, normIntegralAt, withStepLimit } from "./inspection.ts";
-import { type Engine, type Result, schemeFor, solve } from "../../engine/mod.ts";
+import { engineModel, inspectCase, type Inspection, normIntegralAt, turningFrom } from "./inspection.ts";
+import { type Engine, type Result, solve } from "../../engine/mod.ts";
 
 /** A finished run with its analysis. */
 export interface RunOutcome {
@@ -34,8 +34,8 @@ export function runCase(
   onProgress?: (f: number) => void,
 ): RunOutcome {
   const info = inspectCase(engine, built);
-  const rate = schemeFor(built.model) === "time-independent" ? 0 : Math.max(info.omegaMax, info.coefRate);
-  const result = solve(engine, withStepLimit(built, rate), onProgress);
+  const turning = turningFrom(info);
+  const result = solve(engine, engineModel(built, turning), onProgress);
   let sample = result.times.length - 1;
   if (at !== undefined) {
     let best = Infinity;
@@ -45,7 +45,7 @@ export function runCase(
   }
   // The tail bound at the reported time uses x = ∫‖λV‖ds up to that time.
   const x = normIntegralAt(info, result.times[sample]!);
-  const resolution = { phasePerStep: rate * result.stepSize };
+  const resolution = { phasePerStep: turning.rate * result.stepSize };
   const analysis = analyse(result, built.space.labels, built.targets, x, built.tolerance, sample, resolution);
   return { built, info, result, analysis };
 }

@@ -7,7 +7,7 @@
 
 import { buildCase, type BuiltCase } from "../case/build.ts";
 import { readCase } from "../case/parse.ts";
-import { inspectCase, type Inspection, PHASE_PER_STEP, withStepLimit } from "../analysis/inspection.ts";
+import { engineModel, inspectCase, type Inspection, PHASE_PER_STEP, turningFrom } from "../analysis/inspection.ts";
 import { MAX_PHASE_PER_STEP } from "../analysis/verdict.ts";
 import { DEFAULT_ACCURACY } from "../case/grid.ts";
 import { type Engine, loadEngine, solve } from "../../engine/mod.ts";
@@ -37,8 +37,7 @@ export async function inspectCommand(args: string[]): Promise<number> {
 function controllerSteps(engine: Engine, built: BuiltCase, info: Inspection) {
   if (info.scheme === "time-independent") return undefined;
   const accuracy = built.model.accuracy ?? DEFAULT_ACCURACY;
-  const rate = Math.max(info.omegaMax, info.coefRate);
-  const model = withStepLimit({ ...built, model: { ...built.model, accuracy } }, rate);
+  const model = engineModel({ ...built, model: { ...built.model, accuracy } }, turningFrom(info));
   return { accuracy, steps: solve(engine, { ...model, order: 0 }).steps };
 }
 

@@ -8,7 +8,7 @@
  */
 
 import { analyse, type Resolution } from "../analysis/verdict.ts";
-import { fastestRate, withStepLimit } from "../analysis/inspection.ts";
+import { engineModel, turningOf } from "../analysis/inspection.ts";
 import { buildCase, type BuildOptions, type BuiltCase } from "../case/build.ts";
 import { parseCase, withLocation } from "../case/parse.ts";
 import { CaseError } from "../case/errors.ts";
@@ -78,10 +78,10 @@ export class PointEvaluator {
   /** Evaluates one point. */
   evaluate(index: number, values: number[]): PointResult {
     const built = this.build(values);
-    const rate = fastestRate(this.#engine, built);
-    const result = solve(this.#engine, withStepLimit(built, rate));
+    const turning = turningOf(this.#engine, built);
+    const result = solve(this.#engine, engineModel(built, turning));
     return {
-      ...summarise(index, values, built, result, { phasePerStep: rate * result.stepSize }),
+      ...summarise(index, values, built, result, { phasePerStep: turning.rate * result.stepSize }),
       formulas: this.#formulas(built),
     };
   }
@@ -119,11 +119,11 @@ export class PointEvaluator {
    */
   evaluateStrengths(points: { index: number; values: number[] }[], onPoint: (r: PointResult) => void): void {
     const built = this.build([1]);
-    const rate = fastestRate(this.#engine, built);
-    const series = solve(this.#engine, withStepLimit(built, rate));
+    const turning = turningOf(this.#engine, built);
+    const series = solve(this.#engine, engineModel(built, turning));
     for (const { index, values } of points) {
       const lambda = values[0]!;
-      const model = { ...withStepLimit(built, rate), strength: lambda, order: 0 };
+      const model = { ...engineModel(built, turning), strength: lambda, order: 0 };
       const exactRun = solve(this.#engine, model);
       const result: Result = {
         ...series,
@@ -132,7 +132,7 @@ export class PointEvaluator {
         check: exactRun.check,
       };
       const point = { ...built, model: { ...built.model, strength: lambda } };
-      const resolution = { phasePerStep: rate * exactRun.stepSize };
+      const resolution = { phasePerStep: turning.rate * exactRun.stepSize };
       onPoint({ ...summarise(index, values, point, result, resolution), formulas: this.#formulas(point) });
     }
   }

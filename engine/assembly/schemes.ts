@@ -371,15 +371,19 @@ function diagonalizeH0(): i32 {
  * time-independent and interaction schemes, H0 summed into one term and, for
  * time-independent, V summed into one term) and the initial state.
  */
-export function prepare(which: i32, strength: f64): i32 {
+export function prepare(which: i32, strength: f64, haveEigen: i32): i32 {
   scheme = which;
   lambda = strength;
   if (scheme == SCHEME_TD_H0) {
     startVectors(initial);
     return ERR_OK;
   }
-  const err = diagonalizeH0();
-  if (err != ERR_OK) return err;
+  // haveEigen: TypeScript has written H0's eigenvalues and eigenvectors (computed once for the whole run).
+  if (haveEigen != 0) transpose(basisH, basis, true);
+  else {
+    const err = diagonalizeH0();
+    if (err != ERR_OK) return err;
+  }
   for (let k = 0; k < kv; k++) toBasis(vTerms + <usize>k * mat);
   // c0 = U†ψ0
   memory.fill(tmp, 0, vec);
