@@ -211,3 +211,14 @@ Deno.test("every example's population errors stay under the a-priori bound at ev
     }
   }
 });
+
+Deno.test("run --out prints no notes of the plotting library (vega-lite) on the terminal", async () => {
+  const out = Deno.makeTempDirSync();
+  const main = new URL("../cli/main.ts", import.meta.url).pathname;
+  const file = new URL("../cases/leaky_transmon.toml", import.meta.url).pathname;
+  const r = await new Deno.Command(Deno.execPath(), { args: ["run", "-A", main, "run", file, "--out", out, "--quiet"] })
+    .output();
+  const stderr = new TextDecoder().decode(r.stderr);
+  assert(r.success, stderr);
+  assert(!/WARN/.test(stderr), stderr);
+});

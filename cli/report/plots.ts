@@ -90,7 +90,16 @@ export async function lineSvg(plot: LinePlot): Promise<string> {
       },
     },
   };
-  const view = new vega.View(vega.parse(compile(spec).spec), { renderer: "none" });
+  return await renderSvg(spec);
+}
+
+/**
+ * Renders a vega-lite spec to SVG text, headless. The compiler's notes on the spec (such as a log scale dropping
+ * its zero) go to a silent logger, not to the user's terminal.
+ */
+export async function renderSvg(spec: TopLevelSpec): Promise<string> {
+  const quiet = vega.logger(vega.None);
+  const view = new vega.View(vega.parse(compile(spec, { logger: quiet }).spec), { renderer: "none", logger: quiet });
   const svg = await view.toSVG();
   view.finalize();
   return svg;

@@ -7,9 +7,8 @@
  */
 
 import { join } from "node:path";
-import * as vega from "vega";
-import { compile, type TopLevelSpec } from "vega-lite";
-import { lineSvg, palette, type Point } from "./plots.ts";
+import type { TopLevelSpec } from "vega-lite";
+import { lineSvg, palette, type Point, renderSvg } from "./plots.ts";
 import { escapeHtml } from "./html.ts";
 import type { Grid } from "../sweep/grid.ts";
 import { VERSION } from "../base/version.ts";
@@ -102,13 +101,6 @@ export function contourSegments(
   return out;
 }
 
-async function render(spec: TopLevelSpec): Promise<string> {
-  const view = new vega.View(vega.parse(compile(spec).spec), { renderer: "none" });
-  const svg = await view.toSVG();
-  view.finalize();
-  return svg;
-}
-
 function isLog(values: number[]): boolean {
   if (values.length < 3 || values.some((v) => v <= 0)) return false;
   const r = values[1]! / values[0]!;
@@ -169,7 +161,7 @@ async function heatmap(
       },
     });
   }
-  return await render({
+  return await renderSvg({
     $schema: "https://vega.github.io/schema/vega-lite/v5.json",
     title,
     width: 420,
