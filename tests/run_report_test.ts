@@ -53,14 +53,11 @@ Deno.test("run --out writes result.json, a tidy populations.csv that round-trips
   assertEqual(code, 0, stderr);
   const result = JSON.parse(Deno.readTextFileSync(`${dir}/result.json`));
   assert(result.provenance.includes(result.case.sha256), "provenance in result.json");
-  // CSV: provenance line, header, then one row per (time, label, source).
+  // CSV: the header first (plain readers take the first line as the header; provenance is in result.json),
+  // then one row per (time, label, source).
   const lines = Deno.readTextFileSync(`${dir}/populations.csv`).trim().split("\n");
-  assert(
-    lines[0]!.startsWith("# ordo 0.1.0") && lines[0]!.includes(result.case.sha256),
-    "provenance in the CSV",
-  );
-  assertEqual(lines[1], "time,label,source,population");
-  const rows = lines.slice(2).map((l) => l.split(","));
+  assertEqual(lines[0], "time,label,source,population");
+  const rows = lines.slice(1).map((l) => l.split(","));
   assertEqual(rows.length, result.times.length * result.labels.length * (result.series.length + 1));
   for (const [time, label, source, population] of rows) {
     const k = result.times.indexOf(Number(time));
@@ -221,4 +218,16 @@ Deno.test("run --out prints no notes of the plotting library (vega-lite) on the 
   const stderr = new TextDecoder().decode(r.stderr);
   assert(r.success, stderr);
   assert(!/WARN/.test(stderr), stderr);
+});
+
+Deno.test("every CSV ordo writes starts with its header row, so that plain CSV readers take it as is", async () => {
+  const dir = Deno.makeTempDirSync();
+  const cases = new URL("../cases/", import.meta.url).pathname;
+  assertEqual((await runOrdo(["run", `${cases}two_level.toml`, "--out", `${dir}/run`, "--quiet"])).code, 0);
+  assertEqual((await runOrdo(["sweep", `${cases}weak_drive_check.toml`, "--out", `${dir}/sweep`, "--quiet"])).code, 0);
+  for (const csv of [`${dir}/run/populations.csv`, `${dir}/sweep/points.csv`]) {
+    const [header, first] = Deno.readTextFileSync(csv).split("\n");
+    assert(/^[A-Za-z_][\w:,]*$/.test(header!), `${csv}: a header of names, got ${header}`);
+    assertEqual(header!.split(",").length, first!.split(",").length, `${csv}: as many names as cells`);
+  }
 });

@@ -45,9 +45,9 @@ export function provenance(outcome: RunOutcome): string {
     `scheme ${result.scheme}; steps ${result.steps}; order ${built.model.order}; λ ${built.model.strength}`;
 }
 
-/** The tidy CSV: one row per (time, label, source), with provenance as leading `#` lines. */
-export function populationsCsv(outcome: RunOutcome, json: ResultJson): string {
-  const lines = [`# ${provenance(outcome)}`, "time,label,source,population"];
+/** The tidy CSV: its header first, then one row per (time, label, source); provenance is in result.json. */
+export function populationsCsv(json: ResultJson): string {
+  const lines = ["time,label,source,population"];
   json.times.forEach((t, k) => {
     for (const label of json.labels) {
       lines.push(`${t},${csvField(label)},exact,${json.exact[label]![k]}`);
@@ -137,7 +137,7 @@ export async function writeReport(outcome: RunOutcome, dir: string): Promise<str
     files[0]!,
     JSON.stringify({ ...json, provenance: provenance(outcome) }, null, 1) + "\n",
   );
-  Deno.writeTextFileSync(files[1]!, populationsCsv(outcome, json));
+  Deno.writeTextFileSync(files[1]!, populationsCsv(json));
   const sections: string[] = [];
   const plotted = json.labels.slice(0, MAX_PLOTTED_TARGETS);
   if (plotted.length < json.labels.length) {
