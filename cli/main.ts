@@ -23,40 +23,49 @@ const COMMANDS: Record<string, () => Promise<(args: string[]) => Promise<number>
   bench: async () => (await import("./commands/bench.ts")).benchCommand,
 };
 
-const HELP = `ordo ${VERSION}: how far is each Dyson order from the exact evolution?
-
-usage: ordo <command> [options]
-
-commands:
-  run CASE        Dyson series and exact propagation for one case: table and verdict
+/** Each command's usage, shown by `ordo --help` (all of them) and `ordo COMMAND --help` (its own). */
+const USAGE: Record<string, string> = {
+  run: `  run CASE        Dyson series and exact propagation for one case: table and verdict
                   --json              the result as JSON on stdout (nothing else there)
                   --order N           highest Dyson order (overrides [series] order)
-                  --steps N           integrator steps (overrides [grid] steps)
+                  --accuracy A        steps chosen by the engine for this accuracy (overrides [grid])
+                  --steps N           fixed integrator steps (overrides [grid])
                   --set name=value    override a param (repeatable)
                   --targets a,b       labels to report (overrides [series] targets)
                   --at t              report at the recorded time nearest to t
                   --quiet             no progress on stderr
-                  --out DIR           also write result.json, populations.csv, report.html
-  sweep CASE      a parameter sweep over the case's [sweep] grid: points.csv, report.html
+                  --out DIR           also write result.json, populations.csv, report.html`,
+  sweep: `  sweep CASE      a parameter sweep over the case's [sweep] grid: points.csv, report.html
                   --out DIR           the sweep folder (required)
                   --vary n=a:b:k[:log] sweep param n (or strength, λ) from a to b in k values
                   --workers N         parallel workers (default: all cores)
                   --resume            continue an interrupted sweep in DIR
                   --shard k/n         run the k-th of n slices into its own file
-                  --set, --order, --steps, --targets, --quiet as for run
+                  --set, --order, --accuracy, --steps, --targets, --quiet as for run
   sweep --merge DIR                   combine shard files, checking every point is there once
   sweep CASE --out DIR --emit-array SCRIPT --shards N
-                                      write a Slurm job-array script (bash SCRIPT submits it)
-  check CASE      the case's [[approx]] formulas against exact propagation: PASS/FAIL
-                  --vary, --workers, --set, --order, --steps, --quiet as for sweep
-  inspect CASE    parse and validate: dimension, spectrum, Bohr frequencies, steps, memory
-                  --set name=value    override a param (repeatable)
-  init NAME       write a starter case NAME.toml
+                                      write a Slurm job-array script (bash SCRIPT submits it)`,
+  check: `  check CASE      the case's [[approx]] formulas against exact propagation: PASS/FAIL
+                  --vary, --workers, --set, --order, --accuracy, --steps, --quiet as for sweep`,
+  inspect: `  inspect CASE    parse and validate: dimension, spectrum, Bohr frequencies, steps, memory
+                  --set name=value    override a param (repeatable)`,
+  init: `  init NAME       write a starter case NAME.toml
                   --example NAME      one of: ${Object.keys(EXAMPLES).join(", ")}
-                  --force             overwrite an existing file
-  bench           the performance benchmark suite
+                  --force             overwrite an existing file`,
+  bench:
+    `  bench           the performance benchmark suite (with a side-by-side run of bench/scipy_dyson.py)`,
+};
 
-exit codes: 0 success, 1 a check failed, 2 bad input, 3 internal error
+const EXIT_CODES = "exit codes: 0 success, 1 a check failed, 2 bad input, 3 internal error";
+
+const HELP = `ordo ${VERSION}: how far is each Dyson order from the exact evolution?
+
+usage: ordo <command> [options]        (ordo <command> --help for one command)
+
+commands:
+${Object.values(USAGE).join("\n")}
+
+${EXIT_CODES}
 `;
 
 async function main(argv: string[]): Promise<number> {
@@ -70,6 +79,10 @@ async function main(argv: string[]): Promise<number> {
     return 0;
   }
   const load = Object.hasOwn(COMMANDS, command) ? COMMANDS[command] : undefined;
+  if (load && (rest.includes("--help") || rest.includes("-h"))) {
+    console.log(`usage: ordo ${command} …\n\n${USAGE[command]}\n\n${EXIT_CODES}`);
+    return 0;
+  }
   if (!load) {
     throw new UsageError(
       `unknown command "${command}"; commands are ${Object.keys(COMMANDS).join(", ")} (see \`ordo --help\`)`,
@@ -143,4 +156,21 @@ function debugging(): boolean {
   }
 }
 
-if (import.meta.main) Deno.exit(await cli(Deno.args));
+if (import.meta.main) {
+  adoptCallerFolder();
+  Deno.exit(await cli(Deno.args));
+}
+
+/**
+ * `deno task` starts a command in the folder of deno.json and says where it was called from in INIT_CWD; the
+ * user's relative paths mean that folder, so ordo works there. (Installed as a command, it starts there.)
+ */
+function adoptCallerFolder(): void {
+  let caller: string | undefined;
+  try {
+    caller = Deno.env.get("INIT_CWD");
+  } catch {
+    return; // the environment may not be read: stay where started
+  }
+  if (caller) Deno.chdir(caller);
+}

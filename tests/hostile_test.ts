@@ -207,15 +207,14 @@ Deno.test("items 13-15: markup is escaped in both reports, terminal escapes are 
   assert(!csv.some((line) => line.split(",").some(formulaLike)), "no cell but a number begins with = + - @");
 });
 
-Deno.test("item 17: the ordo task runs without -A, net, run or env, and run, sweep and check work with its flags", async () => {
+Deno.test("item 17: the ordo task runs without -A, net, run or all of env, and run, sweep and check work with its flags", async () => {
   const root = new URL("../", import.meta.url);
   const tasks = JSON.parse(Deno.readTextFileSync(new URL("deno.json", root))).tasks;
   for (const name of ["ordo", "demo"]) {
     const command: string = tasks[name].command;
-    assert(
-      !/(^|\s)(-A|--allow-all|--allow-net|--allow-run|--allow-env|--allow-ffi)(\s|=|$)/.test(command),
-      command,
-    );
+    assert(!/(^|\s)(-A|--allow-all|--allow-net|--allow-run|--allow-ffi)(\s|=|$)/.test(command), command);
+    // the environment only by name (INIT_CWD: the folder the task was called from), never all of it
+    assert(!/(^|\s)--allow-env(\s|$)/.test(command), command);
   }
   const flags = (tasks.ordo.command as string).split(/\s+/).filter((w) => w.startsWith("--allow-"));
   const out = Deno.makeTempDirSync();
@@ -250,4 +249,38 @@ Deno.test("item 12: an eigensolver that cannot converge on a pathological matrix
     thrown = e;
   }
   assert(thrown instanceof EngineError && thrown.byInput, `EngineError by input, got ${thrown}`);
+});
+
+Deno.test("paths are the caller's: `deno task ordo` run from another folder reads and writes there", async () => {
+  const root = new URL("../", import.meta.url).pathname;
+  const elsewhere = Deno.makeTempDirSync();
+  Deno.copyFileSync(`${root}cases/two_level.toml`, `${elsewhere}/mine.toml`);
+  // As from a shell: no INIT_CWD inherited from the task running these tests (deno task keeps one it is given).
+  const env = Deno.env.toObject();
+  delete env.INIT_CWD;
+  const args = [
+    "task",
+    "--quiet",
+    "--config",
+    `${root}deno.json`,
+    "ordo",
+    "run",
+    "mine.toml",
+    "--out",
+    "out",
+  ];
+  const r = await new Deno.Command(Deno.execPath(), {
+    args: [...args, "--quiet"],
+    cwd: elsewhere,
+    clearEnv: true,
+    env,
+  })
+    .output();
+  assert(r.success, new TextDecoder().decode(r.stderr));
+  assert(Deno.statSync(`${elsewhere}/out/result.json`).isFile, "the report is written where the user is");
+  const help = await new Deno.Command(Deno.execPath(), {
+    args: ["run", "--allow-read", `${root}cli/main.ts`, "sweep", "--help"],
+  }).output();
+  const text = new TextDecoder().decode(help.stdout);
+  assert(help.success && text.includes("usage: ordo sweep") && text.includes("--resume"), text);
 });

@@ -213,7 +213,9 @@ Deno.test("run --out prints no notes of the plotting library (vega-lite) on the 
   const out = Deno.makeTempDirSync();
   const main = new URL("../cli/main.ts", import.meta.url).pathname;
   const file = new URL("../cases/leaky_transmon.toml", import.meta.url).pathname;
-  const r = await new Deno.Command(Deno.execPath(), { args: ["run", "-A", main, "run", file, "--out", out, "--quiet"] })
+  const r = await new Deno.Command(Deno.execPath(), {
+    args: ["run", "-A", main, "run", file, "--out", out, "--quiet"],
+  })
     .output();
   const stderr = new TextDecoder().decode(r.stderr);
   assert(r.success, stderr);
@@ -224,7 +226,10 @@ Deno.test("every CSV ordo writes starts with its header row, so that plain CSV r
   const dir = Deno.makeTempDirSync();
   const cases = new URL("../cases/", import.meta.url).pathname;
   assertEqual((await runOrdo(["run", `${cases}two_level.toml`, "--out", `${dir}/run`, "--quiet"])).code, 0);
-  assertEqual((await runOrdo(["sweep", `${cases}weak_drive_check.toml`, "--out", `${dir}/sweep`, "--quiet"])).code, 0);
+  assertEqual(
+    (await runOrdo(["sweep", `${cases}weak_drive_check.toml`, "--out", `${dir}/sweep`, "--quiet"])).code,
+    0,
+  );
   for (const csv of [`${dir}/run/populations.csv`, `${dir}/sweep/points.csv`]) {
     const [header, first] = Deno.readTextFileSync(csv).split("\n");
     assert(/^[A-Za-z_][\w:,]*$/.test(header!), `${csv}: a header of names, got ${header}`);

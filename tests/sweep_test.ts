@@ -166,6 +166,19 @@ Deno.test("--emit-array writes a Slurm array script with a dependent merge job",
   );
   const syntax = await new Deno.Command("bash", { args: ["-n", script] }).output();
   assert(syntax.success, "the script is valid bash");
+  // The jobs start in another folder: a relative --out is written as an absolute path.
+  const relative = await runOrdo([
+    "sweep",
+    tempCase(sweepCase()),
+    "--out",
+    "rel/out",
+    "--emit-array",
+    script,
+    "--shards",
+    "2",
+  ]);
+  assertEqual(relative.code, 0, relative.stderr);
+  assert(Deno.readTextFileSync(script).includes(`'${Deno.cwd()}/rel/out'`), "absolute folder in the script");
 });
 
 Deno.test("a λ-only sweep reuses the series and equals per-point runs", async () => {

@@ -90,8 +90,12 @@ export function turningOf(engine: Engine, built: BuiltCase): Turning {
  */
 export function engineModel(built: BuiltCase, turning: Turning): BuiltCase["model"] {
   const model = { ...built.model };
-  if (turning.eigen) model.unperturbedEigen = { values: turning.eigen.values, vectors: turning.eigen.vectors };
-  if (model.accuracy !== undefined && turning.rate > 0) model.maxStep = 0.5 * MAX_PHASE_PER_STEP / turning.rate;
+  if (turning.eigen) {
+    model.unperturbedEigen = { values: turning.eigen.values, vectors: turning.eigen.vectors };
+  }
+  if (model.accuracy !== undefined && turning.rate > 0) {
+    model.maxStep = 0.5 * MAX_PHASE_PER_STEP / turning.rate;
+  }
   return model;
 }
 

@@ -169,7 +169,8 @@ async function wholeProcessRow(
   const job = new TextEncoder().encode(
     JSON.stringify({ ...jobOf(model, "driven"), rtol: setting.rtol, atol: setting.rtol * 1e-2 }),
   );
-  const main = new URL("../main.ts", import.meta.url).pathname;
+  // The command line as a user runs it, in its own process (a program started, not a module imported).
+  const main = new URL("../../", import.meta.url).pathname + "cli/main.ts";
   const timed = async (command: string, args: string[], input?: Uint8Array) => {
     const started = performance.now();
     const child = new Deno.Command(command, {

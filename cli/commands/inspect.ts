@@ -7,7 +7,13 @@
 
 import { buildCase, type BuiltCase } from "../case/build.ts";
 import { readCase } from "../case/parse.ts";
-import { engineModel, inspectCase, type Inspection, PHASE_PER_STEP, turningFrom } from "../analysis/inspection.ts";
+import {
+  engineModel,
+  inspectCase,
+  type Inspection,
+  PHASE_PER_STEP,
+  turningFrom,
+} from "../analysis/inspection.ts";
 import { MAX_PHASE_PER_STEP } from "../analysis/verdict.ts";
 import { DEFAULT_ACCURACY } from "../case/grid.ts";
 import { type Engine, loadEngine, solve } from "../../engine/mod.ts";

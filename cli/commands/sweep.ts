@@ -6,7 +6,7 @@
  * @module
  */
 
-import { join } from "node:path";
+import { join, resolve } from "node:path";
 import { CaseError, OutputError, UsageError } from "../case/errors.ts";
 import type { BuildOptions } from "../case/build.ts";
 import { located, readCase } from "../case/parse.ts";
@@ -135,7 +135,9 @@ function emitArray(args: string[], values: Record<string, unknown>, file: string
     if (passed.includes(arg) && args[k + 1] !== undefined) extra.push(arg, args[k + 1]!);
   });
   const script = String(values["emit-array"]);
-  writeUserFile(script, arrayScript(script, file, out, shards!, extra), "the job script", 0o755);
+  // The jobs start elsewhere: every path in the script is absolute.
+  const text = arrayScript(script, resolve(file), resolve(out), shards!, extra);
+  writeUserFile(script, text, "the job script", 0o755);
   console.log(`wrote ${script}: submit it with \`bash ${script}\` on the cluster`);
   return 0;
 }

@@ -99,7 +99,10 @@ export async function lineSvg(plot: LinePlot): Promise<string> {
  */
 export async function renderSvg(spec: TopLevelSpec): Promise<string> {
   const quiet = vega.logger(vega.None);
-  const view = new vega.View(vega.parse(compile(spec, { logger: quiet }).spec), { renderer: "none", logger: quiet });
+  const view = new vega.View(vega.parse(compile(spec, { logger: quiet }).spec), {
+    renderer: "none",
+    logger: quiet,
+  });
   const svg = await view.toSVG();
   view.finalize();
   return svg;

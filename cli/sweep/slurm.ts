@@ -43,10 +43,10 @@ export function arrayScript(
 # Submit with:  bash ${commentText(script)}
 # It submits a Slurm job array of ${shards} tasks, each running one shard of the
 # sweep into ${commentText(out)}, and a job that merges the shards once every task succeeded.
-# Adjust the resources below to your cluster; ORDO may be set to the ordo command
-# (default: deno task ordo, run from this repository); the jobs inherit it.
+# Adjust the resources below to your cluster. ORDO is the command that runs ordo on the
+# nodes (default: ordo, installed with \`deno task install\` from a checkout); the jobs inherit it.
 set -euo pipefail
-export ORDO="\${ORDO:-deno task --quiet ordo}"
+export ORDO="\${ORDO:-ordo}"
 
 array_id=$(sbatch --parsable --array=1-${shards} --job-name=ordo-sweep --cpus-per-task=1 --time=02:00:00 <<'EOF'
 #!/usr/bin/env bash
