@@ -3,8 +3,11 @@
 import { XMLParser, XMLValidator } from "fast-xml-parser";
 import { all, type Complex, create, type Matrix } from "mathjs";
 import { assert, assertDeepEqual, assertEqual } from "./assert.ts";
-import { assertClose, runOrdo, tempCase } from "./helpers.ts";
+import { assertClose, runOrdo, tempCase, testEngine } from "./helpers.ts";
 import { twoLevel } from "./engine_helpers.ts";
+import { parseCase } from "../cli/case/parse.ts";
+import { buildCase } from "../cli/case/build.ts";
+import { inspectCase } from "../cli/analysis/inspection.ts";
 
 const math = create(all!);
 
@@ -235,4 +238,16 @@ Deno.test("every CSV ordo writes starts with its header row, so that plain CSV r
     assert(/^[A-Za-z_][\w:,]*$/.test(header!), `${csv}: a header of names, got ${header}`);
     assertEqual(header!.split(",").length, first!.split(",").length, `${csv}: as many names as cells`);
   }
+});
+
+// x = ∫‖λV(t)‖₂dt. For V = g(|e⟩⟨g| + |g⟩⟨e|) the norm is g (eigenvalues ±g, common practice): a term and its
+// + h.c. partner must be counted once, not twice by the triangle inequality.
+Deno.test("the norm bound x equals the exact ∫‖V‖dt for a two-level coupling with + h.c.", async () => {
+  const engine = await testEngine();
+  const g = 0.05;
+  const constant = buildCase(parseCase(twoLevel(1, g, 30), "x.toml"));
+  assertClose(inspectCase(engine, constant).normIntegral, g * 30, { rel: 1e-12 }, "constant coupling: g·T");
+  // g·cos(t) over [0, 4π]: ∫|cos t|dt = 8, so x = 8g (the trapezoid rule on 4001+ points, to 1e-5)
+  const driven = buildCase(parseCase(twoLevel(1, g, 4 * Math.PI, { coef: "cos(t)", steps: 2000 }), "y.toml"));
+  assertClose(inspectCase(engine, driven).normIntegral, 8 * g, { rel: 1e-5 }, "cos drive: 8g");
 });

@@ -7,6 +7,7 @@
  */
 
 import { type AssembledTerm, coefAt } from "../case/terms.ts";
+import { ComplexMatrix } from "../case/complex_matrix.ts";
 import { eigh, type Engine, multiply } from "../../engine/mod.ts";
 import type { Model } from "../../engine/model.ts";
 
@@ -33,12 +34,7 @@ export interface NormProfile {
  * @returns the profile
  */
 export function normProfile(engine: Engine, terms: AssembledTerm[], model: Model): NormProfile {
-  const d = model.dim;
-  const vTerms = terms.filter((t) => t.section === "perturbation");
-  const termNorms = vTerms.map((t) => {
-    const ev = eigh(engine, multiply(engine, t.matrix.dagger().data, t.matrix.data, d), d).values;
-    return Math.sqrt(Math.max(0, ev[d - 1]!));
-  });
+  const parts = boundParts(engine, terms.filter((t) => t.section === "perturbation"), model.dim);
   const points = Math.min(200_001, Math.max(4001, 4 * model.steps + 1));
   const span = model.tEnd - model.tStart;
   const dt = span / (points - 1);
@@ -48,10 +44,7 @@ export function normProfile(engine: Engine, terms: AssembledTerm[], model: Model
   for (let k = 0; k < points; k++) {
     const t = model.tStart + span * k / (points - 1);
     let norm = 0;
-    vTerms.forEach((term, j) => {
-      const c = coefAt(term, t);
-      norm += Math.hypot(c.re, c.im) * termNorms[j]!;
-    });
+    for (const part of parts) norm += Math.abs(part.weight(t)) * part.norm;
     rates.sample(t, k > 0 ? dt : 0);
     norm *= Math.abs(model.strength);
     vMax = Math.max(vMax, norm);
@@ -61,6 +54,59 @@ export function normProfile(engine: Engine, terms: AssembledTerm[], model: Model
     previous = norm;
   }
   return { vMax, normIntegral: integral, normCumulative, normTimes, coefRate: rates.fastest() };
+}
+
+/** A piece of the bound ‖V(t)‖ ≤ Σ |weight(t)|·norm. */
+interface BoundPart {
+  norm: number;
+  weight: (t: number) => number;
+}
+
+/**
+ * The pieces of an upper bound on ‖V(t)‖₂ that is exact for constant V: the constant terms summed into one
+ * matrix (its norm taken once); a time-dependent term with its conjugate partner, f·M + f*·M† =
+ * Re f·(M + M†) + Im f·i(M − M†), as two Hermitian pieces (so a pair is not counted twice); any other term as
+ * |f|·‖M‖₂. Norms by the engine's eigensolver.
+ */
+function boundParts(engine: Engine, vTerms: AssembledTerm[], d: number): BoundPart[] {
+  const parts: BoundPart[] = [];
+  let constant = new ComplexMatrix(d, d), anyConstant = false;
+  for (let i = 0; i < vTerms.length; i++) {
+    const term = vTerms[i]!;
+    if (!term.coef?.usesTime) {
+      constant = constant.add(term.matrix.scale(coefAt(term, 0)));
+      anyConstant = true;
+      continue;
+    }
+    if (vTerms[i + 1]?.conjugate) {
+      i++;
+      const m = term.matrix, dag = m.dagger();
+      parts.push({ norm: hermitianNorm(engine, m.add(dag)), weight: (t) => coefAt(term, t).re });
+      parts.push({
+        norm: hermitianNorm(engine, m.sub(dag).scale({ re: 0, im: 1 })),
+        weight: (t) => coefAt(term, t).im,
+      });
+      continue;
+    }
+    parts.push({
+      norm: operatorNorm(engine, term.matrix),
+      weight: (t) => Math.hypot(coefAt(term, t).re, coefAt(term, t).im),
+    });
+  }
+  if (anyConstant) parts.push({ norm: operatorNorm(engine, constant), weight: () => 1 });
+  return parts;
+}
+
+/** ‖H‖₂ = max |eigenvalue| of a Hermitian matrix. */
+function hermitianNorm(engine: Engine, h: ComplexMatrix): number {
+  const values = eigh(engine, h.data, h.rows).values;
+  return Math.max(Math.abs(values[0]!), Math.abs(values[values.length - 1]!));
+}
+
+/** ‖M‖₂ = √(largest eigenvalue of M†M). */
+function operatorNorm(engine: Engine, m: ComplexMatrix): number {
+  const values = eigh(engine, multiply(engine, m.dagger().data, m.data, m.rows), m.rows).values;
+  return Math.sqrt(Math.max(0, values[values.length - 1]!));
 }
 
 /**
