@@ -17,6 +17,9 @@ import { evaluatePool } from "../sweep/pool.ts";
 import { parseVary } from "../sweep/grid.ts";
 import { loadEngine } from "../../engine/mod.ts";
 import { progressBar } from "../report/progress.ts";
+import { ensureOutputDir } from "../report/output_dir.ts";
+import { type ApproxVerdict, type CheckReport, verdictOf } from "../sweep/approximations.ts";
+import { VERSION } from "../base/version.ts";
 import { buildOptions, CASE_FLAGS, integerFlag, oneCase, parseOrFail } from "./_args.ts";
 
 /** Options of `ordo check`. */
@@ -27,48 +30,8 @@ export interface CheckOptions {
   quiet: boolean;
 }
 
-/** The verdict on one formula. */
-export interface ApproxVerdict {
-  name: string;
-  target: string;
-  formula: string;
-  tolerance: string;
-  pass: boolean;
-  /** Points within tolerance, of all. */
-  passed: number;
-  total: number;
-  /** The point with the largest error relative to what is allowed. */
-  worst: { values: number[]; error: number; allowed: number; exact: number; formula: number };
-  /** Per swept parameter, where the formula holds for every value of the others. */
-  region: string[];
-  /** The Dyson order whose partial sum the formula follows most closely (largest deviation over the grid). */
-  bestOrder: { order: number; deviation: number };
-}
-
-/** The whole check. */
-export interface CheckReport {
-  file: string;
-  grid: Grid;
-  approximations: ApproxVerdict[];
-}
-
 function fmt(x: number): string {
   return Number(x.toPrecision(4)).toString();
-}
-
-/** Consecutive runs of values where holds[k] is true, as "[a, b]" ranges. */
-function ranges(values: number[], holds: boolean[]): string[] {
-  const out: string[] = [];
-  let start = -1;
-  for (let k = 0; k <= values.length; k++) {
-    if (k < values.length && holds[k]) {
-      if (start < 0) start = k;
-    } else if (start >= 0) {
-      out.push(start === k - 1 ? fmt(values[start]!) : `[${fmt(values[start]!)}, ${fmt(values[k - 1]!)}]`);
-      start = -1;
-    }
-  }
-  return out;
 }
 
 /**
@@ -81,15 +44,24 @@ export async function checkCommand(args: string[]): Promise<number> {
   const { values, positionals } = parseOrFail(args, {
     workers: { type: "string" },
     vary: { type: "string", multiple: true },
+    json: { type: "boolean" },
+    out: { type: "string" },
     ...CASE_FLAGS,
   });
+  if (values.out !== undefined) ensureOutputDir(String(values.out), "--out");
   const report = await runCheck(oneCase(positionals, "check"), {
     workers: integerFlag(values.workers, "--workers") ?? navigator.hardwareConcurrency,
     vary: ((values.vary as string[] | undefined) ?? []).map(parseVary),
     build: buildOptions(values),
     quiet: Boolean(values.quiet),
   });
-  console.log(formatCheck(report));
+  if (values.json) console.log(JSON.stringify(checkJson(report)));
+  else console.log(formatCheck(report));
+  if (values.out !== undefined) {
+    const { writeCheckReport } = await import("../report/check_report.ts");
+    const files = await writeCheckReport(report, String(values.out));
+    console.error(`ordo: wrote ${files.join(", ")}`);
+  }
   return report.approximations.every((a) => a.pass) ? 0 : 1;
 }
 
@@ -180,56 +152,47 @@ async function evaluateAll(
   return results.sort((a, b) => a.index - b.index);
 }
 
-/** The verdict on formula k (on target column j) over all points. */
-function verdictOf(
-  a: Approx,
-  k: number,
-  results: PointResult[],
-  grid: Grid,
-  j: number,
-  order: number,
-): ApproxVerdict {
-  let worst: ApproxVerdict["worst"] | undefined;
-  let worstRatio = -1, passed = 0;
-  const ok: boolean[] = [];
-  for (const r of results) {
-    const exact = r.exact[j]!, value = r.formulas[k]!;
-    const error = Math.abs(value - exact);
-    const allowed = Math.max(a.abs ?? 0, (a.rel ?? 0) * Math.abs(exact));
-    const good = error <= allowed;
-    ok.push(good);
-    if (good) passed++;
-    const ratio = allowed > 0 ? error / allowed : error > 0 ? Infinity : 0;
-    if (ratio > worstRatio) {
-      [worstRatio, worst] = [ratio, { values: r.values, error, allowed, exact, formula: value }];
-    }
-  }
-  const region = grid.axes.map((axis, ai) => {
-    const holds = axis.values.map((v) => results.every((r, p) => r.values[ai] !== v || ok[p]));
-    const where = ranges(axis.values, holds);
-    return `${axis.name}: ${where.length ? where.join(" ∪ ") : "nowhere on the grid"}`;
-  });
-  let bestOrder = { order: 0, deviation: Infinity };
-  for (let n = 0; n <= order; n++) {
-    let deviation = 0;
-    for (const r of results) deviation = Math.max(deviation, Math.abs(r.formulas[k]! - r.orders[j]![n]!));
-    if (deviation < bestOrder.deviation) bestOrder = { order: n, deviation };
-  }
-  const tolerance = [a.abs !== undefined ? `abs ${a.abs}` : "", a.rel !== undefined ? `rel ${a.rel}` : ""]
-    .filter(Boolean)
-    .join(" or ");
+/** The check as JSON: every approximation with every point (value, exact, error, allowed, pass). */
+export function checkJson(report: CheckReport): unknown {
   return {
-    name: a.name,
-    target: a.target,
-    formula: a.formula,
-    tolerance,
-    pass: passed === results.length,
-    passed,
-    total: results.length,
-    worst: worst!,
-    region,
-    bestOrder,
+    ordo: VERSION,
+    file: report.file,
+    axes: report.grid.axes.map((a) => ({ name: a.name, values: a.values })),
+    pass: report.approximations.every((a) => a.pass),
+    approximations: report.approximations.map((a) => ({
+      name: a.name,
+      target: a.target,
+      formula: a.formula,
+      tolerance: a.tolerance,
+      pass: a.pass,
+      passed: a.passed,
+      total: a.total,
+      worst: a.worst,
+      region: a.region,
+      tracks_order: a.tracks,
+      points: a.points,
+    })),
   };
+}
+
+/** Where a formula holds, in words that are true for any shape of region. */
+function regionText(a: ApproxVerdict): string {
+  switch (a.region.kind) {
+    case "everywhere":
+      return "holds at every point of the grid";
+    case "nowhere":
+      return "holds at no point of the grid";
+    case "box":
+      return `holds exactly on ${
+        a.region.box!.map((b) =>
+          b.from === b.to ? `${b.axis} = ${fmt(b.from)}` : `${b.axis} ∈ [${fmt(b.from)}, ${fmt(b.to)}]`
+        )
+          .join(", ")
+      } (and nowhere else on the grid)`;
+    default:
+      return `holds at ${a.passed} of ${a.total} points (${(100 * a.passed / a.total).toFixed(0)}%), ` +
+        "on a region that is not a box of the grid: see the pass/fail map (--out)";
+  }
 }
 
 /** The check as text. */
@@ -246,21 +209,26 @@ export function formatCheck(report: CheckReport): string {
       ? ` at ${grid.axes.map((ax, i) => `${ax.name} = ${fmt(a.worst.values[i]!)}`).join(", ")}`
       : "";
     lines.push("");
-    lines.push(`${a.pass ? "PASS" : "FAIL"}  ${a.name}  (target ${a.target}, tolerance ${a.tolerance})`);
+    const tolerance = [
+      a.tolerance.abs !== null ? `abs ${a.tolerance.abs}` : "",
+      a.tolerance.rel !== null ? `rel ${a.tolerance.rel}` : "",
+    ]
+      .filter(Boolean).join(" or ");
+    lines.push(`${a.pass ? "PASS" : "FAIL"}  ${a.name}  (target ${a.target}, tolerance ${tolerance})`);
     lines.push(`      formula ${a.formula}`);
     lines.push(`      holds at ${a.passed} of ${a.total} points`);
     lines.push(
-      `      worst point${at}: formula ${fmt(a.worst.formula)}, exact ${fmt(a.worst.exact)}, error ${
+      `      worst point${at}: formula ${fmt(a.worst.value)}, exact ${fmt(a.worst.exact)}, error ${
         a.worst.error.toExponential(2)
       } (allowed ${a.worst.allowed.toExponential(2)})`,
     );
-    if (grid.axes.length) {
-      lines.push(`      holds for every value of the others where ${a.region.join("; ")}`);
-    }
+    if (grid.axes.length) lines.push(`      ${regionText(a)}`);
     lines.push(
-      `      tracks Dyson order ${a.bestOrder.order} best (largest deviation ${
-        a.bestOrder.deviation.toExponential(2)
-      })`,
+      a.tracks
+        ? `      tracks Dyson order ${a.tracks.order} (within its tolerance everywhere; largest deviation ${
+          a.tracks.deviation.toExponential(2)
+        })`
+        : "      tracks no single Dyson order within its tolerance",
     );
   }
   return lines.join("\n");
