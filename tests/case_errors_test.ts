@@ -253,6 +253,16 @@ Deno.test("inspect works on every example and reports the items a run depends on
     if (!stdout.includes("H is time-independent")) {
       assert(/suggested ≥ \d+ steps/.test(stdout), `${entry.name}: step suggestion`);
     }
+    // Every drive (a time-dependent coefficient of V) is listed against the transitions, in the case's units.
+    const text = Deno.readTextFileSync(new URL(`../cases/${entry.name}`, import.meta.url));
+    const drive = /\[perturbation\][^[]*coef = "[^"]*\bt\b/.test(text);
+    assertEqual(
+      stdout.includes("drives     each coefficient's spectrum"),
+      drive,
+      `${entry.name}: drives listed`,
+    );
+    const unit = /^energy = "(\w+)"/m.exec(text)?.[1];
+    if (drive && unit) assert(/↔ .* at [\d.e+-]+ GHz: /.test(stdout) || stdout.includes(` ${unit}:`), stdout);
   }
 });
 

@@ -129,3 +129,24 @@ Deno.test("compileExpression() refuses what the restricted language does not all
     "t cannot appear here",
   );
 });
+
+Deno.test("angular(f) turns a frequency in the case's unit into rad per time unit (2π·f for GHz with ns)", () => {
+  // 5 GHz with times in ns: ω = 2π·5 rad/ns (the definition of a cyclic frequency, common practice)
+  const scope: Scope = { params: new Map([["f", 5]]), allowTime: true, angularFactor: 2 * Math.PI };
+  assertClose(compileExpression("angular(f)", scope, ["coef"]).at(0) as number, 10 * Math.PI, { rel: 1e-15 });
+  assertClose(
+    compileExpression("cos(angular(f)*t)", scope, ["coef"]).at(0.05) as number,
+    Math.cos(Math.PI / 2),
+    {
+      abs: 1e-15,
+    },
+  );
+  // dimensionless cases: angular(x) = x
+  assertClose(
+    compileExpression("angular(3)", { params: new Map(), allowTime: false }, ["x"]).at(0) as number,
+    3,
+    {
+      abs: 0,
+    },
+  );
+});

@@ -13,7 +13,7 @@ const dir = new URL("fixtures/hostile/", import.meta.url);
 const expectations = JSON.parse(Deno.readTextFileSync(new URL("expect.json", dir))).cases as Record<
   string,
   {
-    item: number;
+    item: number | string;
     args: string[];
     exit: number;
     stderr?: string[];

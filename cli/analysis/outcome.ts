@@ -6,6 +6,7 @@
  */
 
 import { analyse, type Analysis } from "./verdict.ts";
+import { driveSpectra, driveWarning } from "./drive_spectrum.ts";
 import type { BuiltCase } from "../case/build.ts";
 import { engineModel, inspectCase, type Inspection, normIntegralAt, turningFrom } from "./inspection.ts";
 import { type Engine, type Result, solve } from "../../engine/mod.ts";
@@ -34,6 +35,8 @@ export function runCase(
   onProgress?: (f: number) => void,
 ): RunOutcome {
   const info = inspectCase(engine, built);
+  const drives = driveWarning(built, driveSpectra(built, info));
+  if (drives && !built.warnings.includes(drives)) built.warnings.push(drives);
   const turning = turningFrom(info);
   const result = solve(engine, engineModel(built, turning), onProgress);
   let sample = result.times.length - 1;

@@ -104,9 +104,9 @@ export function buildCase(
 function build(source: CaseSource, options: BuildOptions): BuiltCase {
   const spec = source.spec;
   const warnings: string[] = [];
-  const params = evaluateParams(spec.params ?? {}, options.set ?? {});
-  const constScope: Scope = { params, allowTime: false };
   const units = resolveUnits(spec.units);
+  const params = evaluateParams(spec.params ?? {}, options.set ?? {}, units.energyFactor);
+  const constScope: Scope = { params, allowTime: false, angularFactor: units.energyFactor };
   const space = buildSpace(source);
   const relocate = (err: CaseError) => withLocation(err, source.file, source.text, source.format);
   const settings = readSettings(spec, options, constScope);

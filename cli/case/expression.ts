@@ -16,6 +16,7 @@ import { CaseError, type KeyPath, quoted } from "./errors.ts";
 import type { Complex } from "./complex_matrix.ts";
 import { PULSES } from "./pulses.ts";
 import {
+  ANGULAR,
   BUILTIN_NAMES,
   C,
   type Code,
@@ -48,6 +49,11 @@ export interface Scope {
   allowTime: boolean;
   /** Further variables passed at evaluation, after t (e.g. row and col of a matrix entry). */
   variables?: readonly string[];
+  /**
+   * What `angular(x)` multiplies by: from the case's energy or frequency unit to rad per time unit (2π for
+   * GHz with ns). 1 when the case is dimensionless.
+   */
+  angularFactor?: number;
 }
 
 /** A compiled expression. */
@@ -154,6 +160,13 @@ export function compileNode(
   };
 
   const call = (name: string, args: MathNode[]): Code => {
+    if (name === ANGULAR) {
+      if (args.length !== 1) fail(`${ANGULAR}() takes one frequency or energy, in the case's unit`);
+      const x = gen(args[0]!), factor = `(${scope.angularFactor ?? 1})`;
+      return x.kind === "r"
+        ? { kind: "r", js: `(${x.js}*${factor})` }
+        : { kind: "c", js: `C.mul(${x.js},C.c(${factor},0))` };
+    }
     if (!isFunctionName(name)) {
       if (scope.params.has(name)) {
         fail(`"${name}" is a parameter, not a function`, `write ${name}*(...) to multiply`);

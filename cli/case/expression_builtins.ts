@@ -123,6 +123,9 @@ const CONSTANTS: Record<string, Code> = {
   i: { kind: "c", js: "C.c(0,1)" },
 };
 
+/** The helper that turns a frequency or energy in the case's unit into rad per time unit (see Scope). */
+export const ANGULAR = "angular";
+
 /** Every built-in name an expression may use (for error messages and validation). */
 export const BUILTIN_NAMES: readonly string[] = [
   ...Object.keys(CONSTANTS),
@@ -130,6 +133,7 @@ export const BUILTIN_NAMES: readonly string[] = [
   ...Object.keys(REAL_ONLY),
   ...PARTS,
   ...Object.keys(PULSES),
+  ANGULAR,
 ];
 
 /** The code of a built-in constant, or undefined (own names only: nothing inherited is a constant). */

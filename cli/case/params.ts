@@ -43,12 +43,14 @@ export function showValue(v: Value): string {
  *
  * @param written the `[params]` table as parsed
  * @param set `--set` overrides, name → expression
+ * @param angularFactor what `angular(x)` multiplies by (the case's unit to rad per time unit)
  * @returns every param's value, in the order written
  * @throws {CaseError} for an unusable or reserved name, an unknown `--set` name, or a non-finite value
  */
 export function evaluateParams(
   written: Record<string, EntrySpec>,
   set: Record<string, string>,
+  angularFactor = 1,
 ): Map<string, Value> {
   const params = new Map<string, Value>();
   for (const name of Object.keys(set)) {
@@ -76,7 +78,7 @@ export function evaluateParams(
         "choose another name for this param",
       );
     }
-    const scope: Scope = { params, allowTime: false };
+    const scope: Scope = { params, allowTime: false, angularFactor };
     const value = Object.hasOwn(set, name)
       ? compileExpression(set[name]!, scope, path).at(0)
       : entryValue(entry, scope, path);

@@ -127,7 +127,8 @@ export function assembleSection(
     const hc = written.hc;
     let coef: Compiled | undefined;
     if (term.coef !== undefined && term.coef !== 1) {
-      coef = compileExpression(String(term.coef), { params, allowTime: true }, [...path, "coef"]);
+      const scope = { params, allowTime: true, angularFactor: units.energyFactor };
+      coef = compileExpression(String(term.coef), scope, [...path, "coef"]);
       if (!coef.usesTime && !isFiniteValue(coef.at(0))) {
         throw relocate(
           new CaseError(

@@ -16,6 +16,7 @@ import {
 } from "../analysis/inspection.ts";
 import { MAX_PHASE_PER_STEP } from "../analysis/verdict.ts";
 import { DEFAULT_ACCURACY } from "../case/grid.ts";
+import { driveSpectra, type DriveSpectrum, driveWarning } from "../analysis/drive_spectrum.ts";
 import { type Engine, loadEngine, solve } from "../../engine/mod.ts";
 import { buildOptions, oneCase, parseOrFail } from "./_args.ts";
 
@@ -32,7 +33,7 @@ export async function inspectCommand(args: string[]): Promise<number> {
   const built = buildCase(readCase(oneCase(positionals, "inspect")), buildOptions(values));
   const engine = await loadEngine();
   const info = inspectCase(engine, built);
-  console.log(formatInspection(built, info, controllerSteps(engine, built, info)));
+  console.log(formatInspection(built, info, controllerSteps(engine, built, info), driveSpectra(built, info)));
   return 0;
 }
 
@@ -65,6 +66,7 @@ export function formatInspection(
   built: BuiltCase,
   info: Inspection,
   controller?: { accuracy: number; steps: number },
+  drives: DriveSpectrum[] = [],
 ): string {
   const freq = built.units.time ? ` rad/${built.units.time}` : "";
   const lines = [
@@ -73,6 +75,7 @@ export function formatInspection(
     `  norm bound x = ∫‖λV(t)‖dt ≤ ${fmt(info.normIntegral, 4)}  (‖λV‖ ≤ ${
       fmt(info.vMax, 4)
     }${freq}; the n-th Dyson term is at most xⁿ/n!)`,
+    ...describeDrives(built, drives),
     ...describeSteps(built, info, controller),
     `  memory     about ${bytes(info.memoryBytes)} (largest part: ${info.memoryLargest})`,
   ];
@@ -121,6 +124,31 @@ function describeSpectrum(info: Inspection, freq: string): string[] {
     );
   }
   if (info.bohr.length > 10) lines.push(`             … and ${info.bohr.length - 10} more pairs`);
+  return lines;
+}
+
+/** Each drive's spectrum against the transitions V couples, in the case's own frequency unit. */
+function describeDrives(built: BuiltCase, drives: DriveSpectrum[]): string[] {
+  if (drives.length === 0) return [];
+  const unit = built.units.energy && !built.units.energy.startsWith("rad/") ? built.units.energy : "";
+  const f = (omega: number) =>
+    unit ? `${fmt(omega / built.units.energyFactor, 4)} ${unit}` : `ω = ${fmt(omega, 4)}`;
+  const lines = [
+    "  drives     each coefficient's spectrum |f̃(ω)|² (first-order weight) at the coupled transitions:",
+  ];
+  for (const d of drives) {
+    lines.push(
+      `             ${d.term}: peaks at ${f(d.peak.omega)}${
+        d.reaches ? "" : "; reaches NO coupled transition"
+      }`,
+    );
+    for (const t of d.transitions.slice(0, 4)) {
+      const share = d.peak.weight > 0 ? t.weight / d.peak.weight : 0;
+      lines.push(`               ${t.upper} ↔ ${t.lower} at ${f(t.omega)}: ${fmt(share, 2)} of the peak`);
+    }
+  }
+  const warning = driveWarning(built, drives);
+  if (warning) lines.push(`  warning    ${warning}`);
   return lines;
 }
 

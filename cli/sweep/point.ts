@@ -93,6 +93,7 @@ export class PointEvaluator {
         // Formulas may use λ as `strength` beside the params.
         params: new Map([...built.params, [STRENGTH, built.model.strength]]),
         allowTime: true,
+        angularFactor: built.units.energyFactor,
       }, path).at(
         built.model.tEnd,
       );
