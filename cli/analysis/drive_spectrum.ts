@@ -24,8 +24,6 @@ export interface DriveSpectrum {
   reaches: boolean;
 }
 
-/** Frequencies scanned for the peak. */
-const SCAN = 512;
 /** A transition counts as reached when its weight is at least this fraction of the peak. */
 const REACH = 1e-3;
 
@@ -41,8 +39,9 @@ export function driveSpectra(built: BuiltCase, info: Inspection): DriveSpectrum[
   const span = tEnd - tStart;
   const bohr = info.bohr.slice(0, 10);
   const highest = Math.max(info.omegaMax, info.coefRate, 1 / span);
-  // samples: 16 per period of the fastest frequency that matters here, 2048 … 65536
-  const SAMPLES = Math.min(65536, Math.max(2048, Math.ceil(16 * span * 4 * highest / (2 * Math.PI))));
+  // samples: 16 per period of the fastest frequency that matters here, 2048 … 65536 (a power of 2, for the FFT)
+  const wanted = Math.min(65536, Math.max(2048, Math.ceil(16 * span * 4 * highest / (2 * Math.PI))));
+  const SAMPLES = 2 ** Math.ceil(Math.log2(wanted));
   const dt = span / (SAMPLES - 1);
   return built.terms.filter((t) => t.section === "perturbation" && t.coef?.usesTime && !t.conjugate).map(
     (term) => {
@@ -63,15 +62,8 @@ export function driveSpectra(built: BuiltCase, info: Inspection): DriveSpectrum[
         }
         return sr * sr + si * si;
       };
-      // the peak, over 0 … 4× the fastest phase (and the sampling's own limit), either sign
-      const top = Math.min(4 * highest, Math.PI / dt);
-      let peak = { omega: 0, weight: -1 };
-      for (let q = 0; q <= SCAN; q++) {
-        for (const omega of [q * top / SCAN, -q * top / SCAN]) {
-          const w = weight(omega);
-          if (w > peak.weight) peak = { omega: Math.abs(omega), weight: w };
-        }
-      }
+      // the peak, over every frequency the samples resolve: a zero-padded FFT of the same sum
+      const peak = spectralPeak(re, im, dt);
       const transitions = bohr.map((b) => ({
         upper: b.upper,
         lower: b.lower,
@@ -101,4 +93,52 @@ export function driveWarning(built: BuiltCase, spectra: DriveSpectrum[]): string
     } of the peak). A frequency written without its 2π? ` +
     "In a coef, frequencies are angular (rad per time unit): write angular(f) for a frequency f in the case's " +
     "energy unit (cos(angular(f)*t) = cos(2π·f·t) for f in GHz)";
+}
+
+/**
+ * Where |f̃(ω)|² peaks, from a radix-2 FFT of the samples zero-padded to twice their length (Cooley–Tukey;
+ * common practice): bin k is ω_k = 2πk/(M·dt), the upper half the negative frequencies.
+ */
+function spectralPeak(re: Float64Array, im: Float64Array, dt: number): { omega: number; weight: number } {
+  const m = 2 * re.length;
+  const xr = new Float64Array(m), xi = new Float64Array(m);
+  xr.set(re);
+  xi.set(im);
+  fft(xr, xi);
+  let best = 0, weight = -1;
+  for (let k = 0; k < m; k++) {
+    const w = (xr[k]! * xr[k]! + xi[k]! * xi[k]!) * dt * dt;
+    if (w > weight) [best, weight] = [k, w];
+  }
+  const signed = best <= m / 2 ? best : best - m;
+  return { omega: Math.abs(2 * Math.PI * signed / (m * dt)), weight };
+}
+
+/** In-place radix-2 FFT with the e^{+iωt} sign of f̃ (length a power of 2). */
+function fft(re: Float64Array, im: Float64Array): void {
+  const n = re.length;
+  for (let i = 1, j = 0; i < n; i++) {
+    let bit = n >> 1;
+    for (; j & bit; bit >>= 1) j ^= bit;
+    j ^= bit;
+    if (i < j) {
+      [re[i], re[j]] = [re[j]!, re[i]!];
+      [im[i], im[j]] = [im[j]!, im[i]!];
+    }
+  }
+  for (let len = 2; len <= n; len <<= 1) {
+    const angle = 2 * Math.PI / len, wr = Math.cos(angle), wi = Math.sin(angle);
+    for (let i = 0; i < n; i += len) {
+      let cr = 1, ci = 0;
+      for (let k = 0; k < len / 2; k++) {
+        const a = i + k, b = a + len / 2;
+        const tr = re[b]! * cr - im[b]! * ci, ti = re[b]! * ci + im[b]! * cr;
+        re[b] = re[a]! - tr;
+        im[b] = im[a]! - ti;
+        re[a] = re[a]! + tr;
+        im[a] = im[a]! + ti;
+        [cr, ci] = [cr * wr - ci * wi, cr * wi + ci * wr];
+      }
+    }
+  }
 }
