@@ -8,6 +8,7 @@ import { twoLevel } from "./engine_helpers.ts";
 import { parseCase } from "../cli/case/parse.ts";
 import { buildCase } from "../cli/case/build.ts";
 import { inspectCase } from "../cli/analysis/inspection.ts";
+import { palette } from "../cli/report/plots.ts";
 
 const math = create(all!);
 
@@ -250,4 +251,36 @@ Deno.test("the norm bound x equals the exact ∫‖V‖dt for a two-level coupli
   // g·cos(t) over [0, 4π]: ∫|cos t|dt = 8, so x = 8g (the trapezoid rule on 4001+ points, to 1e-5)
   const driven = buildCase(parseCase(twoLevel(1, g, 4 * Math.PI, { coef: "cos(t)", steps: 2000 }), "y.toml"));
   assertClose(inspectCase(engine, driven).normIntegral, 8 * g, { rel: 1e-5 }, "cos drive: 8g");
+});
+
+Deno.test("run --out writes every plot as a standalone SVG and PNG, with a caption line in the case's units", async () => {
+  const dir = Deno.makeTempDirSync();
+  const file = new URL("../cases/leaky_transmon.toml", import.meta.url).pathname;
+  assertEqual((await runOrdo(["run", file, "--out", dir, "--quiet"])).code, 0);
+  const captions = Deno.readTextFileSync(`${dir}/figures.md`).split("\n").filter((l) => l.startsWith("- "));
+  assertEqual(captions.length, 6, "three figures per target, two targets");
+  for (const target of ["1", "2"]) {
+    for (const name of ["populations", "error-by-order", "error-by-time"]) {
+      assertEqual(XMLValidator.validate(Deno.readTextFileSync(`${dir}/${target}-${name}.svg`)), true);
+      const png = Deno.readFileSync(`${dir}/${target}-${name}.png`);
+      // the PNG signature, then an IHDR chunk whose width and height are not zero (PNG specification)
+      assertDeepEqual([...png.slice(0, 8)], [137, 80, 78, 71, 13, 10, 26, 10]);
+      const view = new DataView(png.buffer, png.byteOffset);
+      assert(view.getUint32(16) > 400 && view.getUint32(20) > 200, `${target}-${name}.png has a size`);
+    }
+  }
+  assert(captions.some((c) => c.includes("t in ns")), "captions give the time unit");
+});
+
+Deno.test("orders are coloured along a sequential scale: each next order is lighter (relative luminance, sRGB)", () => {
+  const colours = palette(11);
+  assertEqual(new Set(colours).size, 11);
+  const luminance = (hex: string) => {
+    const [r, g, b] = [1, 3, 5].map((p) => parseInt(hex.slice(p, p + 2), 16) / 255)
+      .map((c) => (c <= 0.04045 ? c / 12.92 : ((c + 0.055) / 1.055) ** 2.4));
+    return 0.2126 * r! + 0.7152 * g! + 0.0722 * b!;
+  };
+  for (let k = 1; k < colours.length; k++) {
+    assert(luminance(colours[k]!) > luminance(colours[k - 1]!), colours.join());
+  }
 });

@@ -11,6 +11,7 @@ import type { TopLevelSpec } from "vega-lite";
 import type { CheckReport } from "../sweep/approximations.ts";
 import { renderSvg } from "./plots.ts";
 import { escapeHtml } from "./html.ts";
+import { Figures, slug } from "./figures.ts";
 import { csvField } from "./run_report.ts";
 import { VERSION } from "../base/version.ts";
 
@@ -104,8 +105,17 @@ export async function writeCheckReport(report: CheckReport, dir: string): Promis
   const files = [join(dir, "points.csv"), join(dir, "report.html")];
   Deno.writeTextFileSync(files[0]!, checkCsv(report));
   const sections: string[] = [];
+  const figures = new Figures(dir);
   for (const [k, a] of report.approximations.entries()) {
     const map = await passMap(report, k);
+    if (map) {
+      await figures.add(
+        `pass-map-${slug(a.name)}`,
+        await map,
+        `where "${a.name}" holds (green) or fails (red) over the sweep grid, against the exact population of ` +
+          `${a.target} at the final time.`,
+      );
+    }
     sections.push(
       `<h2>${a.pass ? "PASS" : "FAIL"}: ${escapeHtml(a.name)}</h2>\n<p>target ${
         escapeHtml(a.target)
@@ -132,5 +142,5 @@ ${sections.join("\n")}
 </body></html>
 `,
   );
-  return files;
+  return [...files, ...figures.finish(`ordo check ${report.file}`)];
 }

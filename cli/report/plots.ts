@@ -30,14 +30,33 @@ export interface LinePlot {
   black?: string[];
   /** Lower end of a log axis: values below it are clipped to it (round-off floor). */
   floor?: number;
+  /** A logarithmic x axis (a log-spaced sweep). */
+  logX?: boolean;
+  /** Series named "order n" with odd n are drawn dashed, so that neighbouring orders differ in two ways. */
+  dashOdd?: boolean;
 }
 
-/** n distinguishable colours along a hue sweep (blue → red), for ordered series. */
+/** Anchors of the viridis scale (a sequential, perceptually even scheme; common practice), dark to light. */
+const VIRIDIS = ["#440154", "#414487", "#2a788e", "#22a884", "#7ad151", "#d2e21b"];
+
+/** n colours in order along a sequential scale (viridis, stopping short of its palest yellow), for orders. */
 export function palette(n: number): string[] {
   return Array.from({ length: n }, (_, k) => {
-    const hue = 240 - 240 * (n === 1 ? 0 : k / (n - 1));
-    return `hsl(${hue.toFixed(0)}, 70%, ${k % 2 ? 38 : 48}%)`;
+    const f = n === 1 ? 0 : k / (n - 1);
+    const x = f * (VIRIDIS.length - 1), i = Math.min(Math.floor(x), VIRIDIS.length - 2), u = x - i;
+    const [a, b] = [VIRIDIS[i]!, VIRIDIS[i + 1]!].map((c) =>
+      [1, 3, 5].map((p) => parseInt(c.slice(p, p + 2), 16))
+    );
+    const mix = a!.map((v, j) => Math.round(v + (b![j]! - v) * u));
+    return `#${mix.map((v) => v.toString(16).padStart(2, "0")).join("")}`;
   });
+}
+
+/** Whether a series is drawn dashed: named dashed, or an odd order when orders alternate. */
+function dashedSeries(plot: LinePlot, series: string): boolean {
+  if (plot.dashed?.includes(series)) return true;
+  const order = /^order (\d+)$/.exec(series);
+  return Boolean(plot.dashOdd && order && Number(order[1]) % 2 === 1);
 }
 
 /**
@@ -48,10 +67,11 @@ export function palette(n: number): string[] {
  */
 export async function lineSvg(plot: LinePlot): Promise<string> {
   const floor = plot.floor ?? 0;
-  const points = plot.logY
+  const shown = plot.logY
     ? plot.points.filter((p) => Number.isFinite(p.y)).map((p) => ({ ...p, y: Math.max(p.y, floor) }))
       .filter((p) => p.y > 0)
     : plot.points;
+  const points = shown.map((p) => ({ ...p, dash: dashedSeries(plot, p.series) ? "dashed" : "solid" }));
   const series = plot.order ?? [...new Set(points.map((p) => p.series))];
   const black = plot.black ?? [];
   const colours = palette(series.length - black.filter((b) => series.includes(b)).length);
@@ -66,7 +86,12 @@ export async function lineSvg(plot: LinePlot): Promise<string> {
     data: { values: points },
     mark: { type: "line", point: false, strokeWidth: 1.6 },
     encoding: {
-      x: { field: "x", type: "quantitative", title: plot.xTitle },
+      x: {
+        field: "x",
+        type: "quantitative",
+        title: plot.xTitle,
+        ...(plot.logX ? { scale: { type: "log" }, axis: { format: ".1e" } } : {}),
+      },
       y: {
         field: "y",
         type: "quantitative",
@@ -82,11 +107,10 @@ export async function lineSvg(plot: LinePlot): Promise<string> {
         legend: { orient: "right" },
       },
       strokeDash: {
-        condition: {
-          test: `indexof(${JSON.stringify(plot.dashed ?? [])}, datum.series) >= 0`,
-          value: [5, 3],
-        },
-        value: [1, 0],
+        field: "dash",
+        type: "nominal",
+        scale: { domain: ["solid", "dashed"], range: [[1, 0], [6, 3]] },
+        legend: null,
       },
     },
   };

@@ -10,6 +10,7 @@
 import { join } from "node:path";
 import { lineSvg, type Point } from "./plots.ts";
 import { escapeHtml } from "./html.ts";
+import { Figures, slug } from "./figures.ts";
 import type { RunOutcome } from "../analysis/outcome.ts";
 import { formatRun } from "../analysis/table.ts";
 import { runJson } from "../analysis/result_json.ts";
@@ -97,6 +98,7 @@ async function targetPlots(outcome: RunOutcome, json: ResultJson, label: string)
       order: ["exact", ...orders],
       black: ["exact"],
       dashed: ["exact"],
+      dashOdd: true,
     }),
     await lineSvg({
       title: `population error of ${label} at t = ${
@@ -117,6 +119,7 @@ async function targetPlots(outcome: RunOutcome, json: ResultJson, label: string)
       logY: true,
       points: overTime,
       order: orders,
+      dashOdd: true,
       floor: 1e-16,
     }),
   ];
@@ -145,11 +148,24 @@ export async function writeReport(outcome: RunOutcome, dir: string): Promise<str
       `<p>Plots for the first ${MAX_PLOTTED_TARGETS} of ${json.labels.length} targets; the rest are in result.json and populations.csv (choose targets with --targets).</p>`,
     );
   }
+  const figures = new Figures(dir);
+  const time = outcome.built.units.time ? `t in ${outcome.built.units.time}` : "t in the case's time unit";
   for (const label of plotted) {
     const svgs = await targetPlots(outcome, json, label);
     sections.push(
       `<h2>target ${escapeHtml(label)}</h2>\n${svgs.map((s) => `<figure>${s}</figure>`).join("\n")}`,
     );
+    const captions = [
+      `population of ${label} against time (${time}): exact (black, dashed) and the partial sums ψ0 + … + ψn ` +
+      "of the Dyson series, colour by order n (odd orders dashed).",
+      `population error |P_n − P_exact| of ${label} at t = ${
+        Number(outcome.analysis.time.toPrecision(6))
+      } against the ` +
+      "Dyson order n, with the a-priori bound from x = ∫‖λV‖dt (dashed).",
+      `population error |P_n − P_exact| of ${label} against time (${time}), one line per order n.`,
+    ];
+    const names = ["populations", "error-by-order", "error-by-time"];
+    for (const [k, svg] of svgs.entries()) await figures.add(`${slug(label)}-${names[k]}`, svg, captions[k]!);
   }
   const html = `<!doctype html>
 <html lang="en">
@@ -173,5 +189,5 @@ ${sections.join("\n")}
 </html>
 `;
   Deno.writeTextFileSync(files[2]!, html);
-  return files;
+  return [...files, ...figures.finish(outcome.built.title)];
 }

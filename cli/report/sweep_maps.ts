@@ -10,6 +10,7 @@ import { join } from "node:path";
 import type { TopLevelSpec } from "vega-lite";
 import { lineSvg, palette, type Point, renderSvg } from "./plots.ts";
 import { escapeHtml } from "./html.ts";
+import { Figures, slug } from "./figures.ts";
 import type { Grid } from "../sweep/grid.ts";
 import { VERSION } from "../base/version.ts";
 
@@ -188,10 +189,22 @@ export async function writeSweepReport(
 ): Promise<string> {
   const parsed = parseRows(rows, grid, info);
   const figures: string[] = [];
+  const files = new Figures(dir);
   const note: string[] = [];
+  const add = async (svg: string, name: string, caption: string) => {
+    figures.push(svg);
+    await files.add(name, svg, caption);
+  };
+  const tolerance = info.tolerance.toExponential(0);
   if (grid.axes.length === 1) {
+    const axis = grid.axes[0]!.name;
     for (const [j, target] of info.targets.entries()) {
-      figures.push(await errorAgainstAxis(grid, info, parsed, j, target));
+      await add(
+        await errorAgainstAxis(grid, info, parsed, j, target),
+        `error-vs-${slug(axis)}-${slug(target)}`,
+        `population error |P_n − P_exact| of ${target} at the final time against ${axis}, one line per Dyson ` +
+          `order n (colour by n, odd orders dashed), with the tolerance ${tolerance} (black, dashed).`,
+      );
     }
   } else if (grid.axes.length >= 2) {
     if (grid.axes.length > 2) {
@@ -201,14 +214,23 @@ export async function writeSweepReport(
         }.`,
       );
     }
+    const [x, y] = [grid.axes[0]!.name, grid.axes[1]!.name];
     const fixed = parsed.filter((r) => r.values.slice(2).every((v, k) => v === grid.axes[k + 2]!.values[0]));
     for (const [j, target] of info.targets.entries()) {
-      figures.push(
+      await add(
         await minOrderMap(grid, info, fixed, j, target),
+        `min-order-${slug(target)}`,
+        `smallest Dyson order within ${tolerance} for ${target} over ${x} × ${y} (grey: none up to ${info.order}).`,
+      );
+      await add(
         await firstOrderMap(grid, info, fixed, j, target),
+        `first-order-error-${slug(target)}`,
+        `first-order population error |P_1 − P_exact| of ${target} over ${x} × ${y}, with the contour where it ` +
+          `equals the tolerance ${tolerance}.`,
       );
     }
   }
+  files.finish(info.title);
   const path = join(dir, "report.html");
   Deno.writeTextFileSync(
     path,
@@ -258,6 +280,8 @@ function errorAgainstAxis(
     order: [...orders, "tolerance"],
     dashed: ["tolerance"],
     black: ["tolerance"],
+    dashOdd: true,
+    logX: grid.axes[0]!.scale === "log" || isLog(grid.axes[0]!.values),
   });
 }
 
