@@ -253,6 +253,18 @@ export function solve(
     checkStates.set(rec.subarray((r + 1) * 2 * d, (r + 2) * 2 * d), k * 2 * d);
   };
   store(0, 0);
+  const finish = (steps: number, stepSize: number, checkDivisor: number): Result =>
+    finite({
+      scheme,
+      steps,
+      stepSize,
+      times,
+      terms,
+      exact,
+      check: checkStates,
+      checkDivisor,
+      elapsedMs: performance.now() - started,
+    });
 
   if (scheme === "time-independent") {
     for (let k = 1; k < samples; k++) {
@@ -260,17 +272,7 @@ export function solve(
       store(k, k * interval);
       onProgress?.(k / (samples - 1));
     }
-    return finite({
-      scheme,
-      steps: 0,
-      stepSize: interval,
-      times,
-      terms,
-      exact,
-      check: checkStates,
-      checkDivisor: 1,
-      elapsedMs: performance.now() - started,
-    });
+    return finish(0, interval, 1);
   }
 
   const all = [...h0, ...v];
@@ -312,17 +314,7 @@ export function solve(
   };
   if (model.accuracy !== undefined) {
     const steps = adaptive(e, model, { fill, fine, coarse, store, onProgress });
-    return finite({
-      scheme,
-      steps,
-      stepSize: (model.tEnd - model.tStart) / Math.max(steps, 1),
-      times,
-      terms,
-      exact,
-      check: checkStates,
-      checkDivisor: 1,
-      elapsedMs: performance.now() - started,
-    });
+    return finish(steps, (model.tEnd - model.tStart) / Math.max(steps, 1), 1);
   }
   const per = stepsPerSample(model);
   const h = interval / per;
@@ -349,17 +341,7 @@ export function solve(
     }
     store(j + 1, (j + 1) * per * h);
   }
-  return finite({
-    scheme,
-    steps: total,
-    stepSize: h,
-    times,
-    terms,
-    exact,
-    check: checkStates,
-    checkDivisor: 15,
-    elapsedMs: performance.now() - started,
-  });
+  return finish(total, h, 15);
 }
 
 /**

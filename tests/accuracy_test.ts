@@ -8,7 +8,7 @@
 
 import { assert } from "./assert.ts";
 import { assertClose, testEngine } from "./helpers.ts";
-import { solveText } from "./engine_helpers.ts";
+import { drivenOscillator, glauberPopulations, solveText } from "./engine_helpers.ts";
 import { readCase } from "../cli/case/parse.ts";
 import { buildCase, type BuiltCase } from "../cli/case/build.ts";
 import { parseCase } from "../cli/case/parse.ts";
@@ -121,33 +121,8 @@ Deno.test("with an accuracy, exact and partial-sum populations are within it and
 // populations with mean |α|², α = −i∫f(s)e^{iωs}ds = F·w·√(2π)·e^{iωc}·e^{−ω²w²/2} for a Gaussian f.
 Deno.test("accuracy 1e-9 on the driven oscillator reproduces Glauber's Poisson populations to 1e-9", async () => {
   const omega = 1, F = 0.3, w = 2;
-  const { result } = await solveText(`
-[params]
-omega = ${omega}
-F = ${F}
-w = ${w}
-[subsystems]
-m = { oscillator = 16 }
-[unperturbed]
-op = "omega*n_m"
-[perturbation]
-op = "a_m + a_m†"
-coef = "F*gauss(t, 15, w)"
-[start]
-state = "0"
-[grid]
-t_end = 30
-accuracy = 1e-9
-samples = 3
-[series]
-order = 10
-`);
-  const mean = (F * w * Math.sqrt(2 * Math.PI)) ** 2 * Math.exp(-omega * omega * w * w);
-  let factorial = 1;
-  for (let n = 0; n < 8; n++) {
-    if (n > 0) factorial *= n;
-    assertClose(populationsAt(result.exact, 16, 2)[n]!, Math.exp(-mean) * mean ** n / factorial, {
-      abs: 1e-9,
-    });
-  }
+  const { result } = await solveText(drivenOscillator(omega, F, w, "accuracy = 1e-9"));
+  glauberPopulations(omega, F, w, 8).forEach((poisson, n) =>
+    assertClose(populationsAt(result.exact, 16, 2)[n]!, poisson, { abs: 1e-9 }, `P(${n})`)
+  );
 });

@@ -109,3 +109,44 @@ export function constantModel(
     order,
   };
 }
+
+/**
+ * H = ωa†a + f(t)(a + a†) on 16 Fock states from |0⟩ with f = F·gauss(t, 15, w) over [0, 30], recorded at 3 times:
+ * Glauber's driven oscillator (Phys. Rev. 131, 1963). `grid` is the [grid] line choosing steps or an accuracy.
+ */
+export function drivenOscillator(omega: number, force: number, w: number, grid: string): string {
+  return `
+[params]
+omega = ${omega}
+F = ${force}
+w = ${w}
+[subsystems]
+m = { oscillator = 16 }
+[unperturbed]
+op = "omega*n_m"
+[perturbation]
+op = "a_m + a_m†"
+coef = "F*gauss(t, 15, w)"
+[start]
+state = "0"
+[grid]
+t_end = 30
+${grid}
+samples = 3
+[series]
+order = 10
+`;
+}
+
+/** Glauber's Poisson populations of the coherent state that drivenOscillator() ends in: P(n) for n < count. */
+export function glauberPopulations(omega: number, force: number, w: number, count: number): number[] {
+  // |α|² with α = −i∫f(s)e^{iωs}ds = F·w·√(2π)·e^{iωc}·e^{−ω²w²/2} over the line (the window cuts e^{−28} of it)
+  const mean = (force * w * Math.sqrt(2 * Math.PI)) ** 2 * Math.exp(-omega * omega * w * w);
+  const out: number[] = [];
+  let factorial = 1;
+  for (let n = 0; n < count; n++) {
+    if (n > 0) factorial *= n;
+    out.push(Math.exp(-mean) * mean ** n / factorial);
+  }
+  return out;
+}

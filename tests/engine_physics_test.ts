@@ -4,6 +4,8 @@ import { assertClose, testEngine } from "./helpers.ts";
 import { solve } from "../engine/mod.ts";
 import {
   constantModel,
+  drivenOscillator,
+  glauberPopulations,
   maxDifference,
   partialSum,
   population,
@@ -237,41 +239,10 @@ Deno.test("swept avoided crossing: first order is the finite-window Fresnel valu
 // the line is F·w·√(2π)·e^{iωc}·e^{−ω²w²/2}; the window [0, 30] with c = 15, w = 2 cuts e^{−28} of it.
 Deno.test("a driven truncated oscillator ends in a coherent state: Poisson populations to 1e-8", async () => {
   const omega = 1, F = 0.3, w = 2;
-  const text = `
-[params]
-omega = ${omega}
-F = ${F}
-w = ${w}
-[subsystems]
-m = { oscillator = 16 }
-[unperturbed]
-op = "omega*n_m"
-[perturbation]
-op = "a_m + a_m†"
-coef = "F*gauss(t, 15, w)"
-[start]
-state = "0"
-[grid]
-t_end = 30
-steps = 3000
-samples = 3
-[series]
-order = 10
-`;
-  const { result } = await solveText(text);
-  const mean = (F * w * Math.sqrt(2 * Math.PI)) ** 2 *
-    Math.exp(-omega * omega * w * w);
-  let factorial = 1;
-  for (let n = 0; n < 8; n++) {
-    if (n > 0) factorial *= n;
-    const poisson = Math.exp(-mean) * mean ** n / factorial;
-    assertClose(
-      population(result.exact, 16, 2, n),
-      poisson,
-      { abs: 1e-8 },
-      `P(${n}), mean ${mean}`,
-    );
-  }
+  const { result } = await solveText(drivenOscillator(omega, F, w, "steps = 3000"));
+  glauberPopulations(omega, F, w, 8).forEach((poisson, n) =>
+    assertClose(population(result.exact, 16, 2, n), poisson, { abs: 1e-8 }, `P(${n})`)
+  );
 });
 
 // --- convergence of the scheme and of the series -------------------------------------
