@@ -66,6 +66,8 @@ interface Exports {
   macroStep(tau: number, h: number): number;
   stepError(): number;
   rejectStep(): void;
+  sampleWithin(tau: number, h: number): number;
+  recordSample(tau: number): void;
   record(tau: number): void;
   bufH0Terms(): number;
   bufVTerms(): number;
@@ -242,8 +244,9 @@ export function solve(
   const checkStates = new Float64Array(samples * 2 * d);
   const rec = new Float64Array(mem(), e.bufRecord(), (r + 2) * 2 * d);
   const powers = Array.from({ length: r }, (_, n) => model.strength ** n);
-  const store = (k: number, tau: number) => {
-    e.record(tau);
+  const store = (k: number, tau: number, inside = false) => {
+    if (inside) e.recordSample(tau);
+    else e.record(tau);
     for (let n = 0; n < r; n++) {
       const src = rec.subarray(n * 2 * d, (n + 1) * 2 * d);
       const dst = terms[n]!.subarray(k * 2 * d, (k + 1) * 2 * d);
@@ -470,7 +473,8 @@ const MAX_ADAPTIVE_STEPS = 1e8;
  * (engine `macroStep`), the step size chosen by the standard controller h ← h·0.9·(allowed/err)^(1/5)
  * (4th-order method; Hairer, Nørsett & Wanner, Solving ODEs I, §II.4), with the error allowed per step
  * proportional to its length so that the errors of a whole run add up to at most half the requested
- * accuracy. Recorded times are hit exactly (a step is shortened to end on them).
+ * accuracy. Recorded times inside a step get their states by two steps from its start (so they do not
+ * shorten the steps); the error estimate recorded there is the one at the step's start.
  *
  * @returns the number of steps of size h taken
  */
@@ -481,7 +485,7 @@ function adaptive(
     fill: Fill;
     fine: Float64Array;
     coarse: Float64Array;
-    store: (k: number, tau: number) => void;
+    store: (k: number, tau: number, inside?: boolean) => void;
     onProgress?: (fraction: number) => void;
   },
 ): number {
@@ -490,44 +494,55 @@ function adaptive(
   const [c1, c2] = GAUSS_NODES;
   const fineTimes = new Float64Array(4), coarseTimes = new Float64Array(2);
   const interval = span / (model.samples - 1);
+  const sampleTime = (k: number) => (k === model.samples - 1 ? model.tEnd : model.tStart + k * interval);
+  const near = 1e-14 * span;
   const longest = model.maxStep ?? Infinity;
-  let h = Math.min(interval, span / 16, longest) / 2;
-  let steps = 0, tries = 0;
-  for (let j = 0; j < model.samples - 1; j++) {
-    const end = j === model.samples - 2 ? model.tEnd : model.tStart + (j + 1) * interval;
-    let t = model.tStart + j * interval;
-    while (end - t > 1e-14 * span) {
-      const big = Math.min(2 * h, end - t), step = big / 2;
-      fineTimes.set([t + c1 * step, t + c2 * step, t + step + c1 * step, t + step + c2 * step]);
-      coarseTimes.set([t + c1 * big, t + c2 * big]);
-      io.fill(io.fine, fineTimes, 4);
-      io.fill(io.coarse, coarseTimes, 2);
-      check(e.macroStep(t - model.tStart, step));
-      // Below round-off (a few 1e-15 on unit vectors) no step size does better: accept, and let the
-      // accumulated estimate say what it cost.
-      const error = e.stepError(), allowed = Math.max(0.5 * accuracy * big / span, ROUND_OFF);
-      const factor = error > 0 ? Math.min(4, Math.max(0.2, 0.9 * (allowed / error) ** 0.2)) : 4;
-      if (error <= allowed) {
-        t = t + big >= end - 1e-14 * span ? end : t + big;
-        steps += 2;
-        if (big === 2 * h || factor < 1) h = Math.min(step * factor, longest);
-      } else {
-        e.rejectStep();
-        h = Math.min(step * factor, longest);
+  let h = Math.min(span / 16, longest) / 2;
+  let steps = 0, tries = 0, next = 1, t = model.tStart;
+  const twoSteps = (from: number, step: number) => {
+    fineTimes.set([from + c1 * step, from + c2 * step, from + step + c1 * step, from + step + c2 * step]);
+    io.fill(io.fine, fineTimes, 4);
+  };
+  while (next < model.samples) {
+    const big = Math.min(2 * h, model.tEnd - t), step = big / 2;
+    twoSteps(t, step);
+    coarseTimes.set([t + c1 * big, t + c2 * big]);
+    io.fill(io.coarse, coarseTimes, 2);
+    check(e.macroStep(t - model.tStart, step));
+    // Below round-off (a few 1e-15 on unit vectors) no step size does better: accept, and let the
+    // accumulated estimate say what it cost.
+    const error = e.stepError(), allowed = Math.max(0.5 * accuracy * big / span, ROUND_OFF);
+    const factor = error > 0 ? Math.min(4, Math.max(0.2, 0.9 * (allowed / error) ** 0.2)) : 4;
+    if (error <= allowed) {
+      const end = model.tEnd - (t + big) <= near ? model.tEnd : t + big;
+      // Recorded times inside the step: two steps from its start to each of them, without shortening it.
+      for (; next < model.samples && sampleTime(next) < end - near; next++) {
+        const at = sampleTime(next);
+        twoSteps(t, (at - t) / 2);
+        check(e.sampleWithin(t - model.tStart, (at - t) / 2));
+        io.store(next, at - model.tStart, true);
       }
-      if (++tries > MAX_ADAPTIVE_STEPS || !(h > 1e-13 * span)) {
-        throw new EngineError(
-          `accuracy ${accuracy} would take more than ${
-            MAX_ADAPTIVE_STEPS.toExponential(0)
-          } steps here, or steps ` +
-            "shorter than round-off (is a coefficient not smooth, or far too fast?); ask for less accuracy or " +
-            "use fixed steps",
-          true,
-        );
+      t = end;
+      steps += 2;
+      if (next < model.samples && sampleTime(next) - t <= near) {
+        io.store(next++, sampleTime(next - 1) - model.tStart);
       }
+      io.onProgress?.((t - model.tStart) / span);
+      if (big === 2 * h || factor < 1) h = Math.min(step * factor, longest);
+    } else {
+      e.rejectStep();
+      h = Math.min(step * factor, longest);
     }
-    io.store(j + 1, end - model.tStart);
-    io.onProgress?.((j + 1) / (model.samples - 1));
+    if (++tries > MAX_ADAPTIVE_STEPS || !(h > 1e-13 * span)) {
+      throw new EngineError(
+        `accuracy ${accuracy} would take more than ${
+          MAX_ADAPTIVE_STEPS.toExponential(0)
+        } steps here, or steps ` +
+          "shorter than round-off (is a coefficient not smooth, or far too fast?); ask for less accuracy or " +
+          "use fixed steps",
+        true,
+      );
+    }
   }
   return steps;
 }

@@ -86,7 +86,8 @@ export function turningOf(engine: Engine, built: BuiltCase): Turning {
 
 /**
  * The engine's model of a case for one run: H0's eigen-decomposition handed over (so that it is computed once),
- * and for an accuracy-driven run the longest step: half a radian of the fastest phase.
+ * and for an accuracy-driven run the longest step: a quarter radian of the fastest phase (where step doubling
+ * still reads the error honestly).
  */
 export function engineModel(built: BuiltCase, turning: Turning): BuiltCase["model"] {
   const model = { ...built.model };
@@ -94,7 +95,7 @@ export function engineModel(built: BuiltCase, turning: Turning): BuiltCase["mode
     model.unperturbedEigen = { values: turning.eigen.values, vectors: turning.eigen.vectors };
   }
   if (model.accuracy !== undefined && turning.rate > 0) {
-    model.maxStep = 0.5 * MAX_PHASE_PER_STEP / turning.rate;
+    model.maxStep = 0.25 * MAX_PHASE_PER_STEP / turning.rate;
   }
   return model;
 }

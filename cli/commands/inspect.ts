@@ -171,7 +171,7 @@ function describeSteps(
     return [
       `  steps      chosen by the engine for accuracy ${model.accuracy}: ${controller.steps} steps ` +
       `(mean h = ${fmt(span / controller.steps)}${tu}; phase per step kept ≤ ${
-        0.5 * MAX_PHASE_PER_STEP
+        0.25 * MAX_PHASE_PER_STEP
       } rad)`,
     ];
   }

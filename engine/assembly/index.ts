@@ -18,6 +18,8 @@ export {
   macroStep,
   prepare,
   record,
+  recordSample,
   rejectStep,
+  sampleWithin,
   stepError,
 } from "./schemes";

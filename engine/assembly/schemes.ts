@@ -599,6 +599,30 @@ export function stepError(): f64 {
   return lastError;
 }
 
+/**
+ * The state at a recorded time inside the last (accepted) macro step: from the macro step's start, two steps
+ * of h (coefficient samples at steps 0 and 1 of the fine buffer) into the companion buffer, which
+ * {@link recordSample} then records. The main state is not touched, so recorded times do not shorten steps.
+ */
+export function sampleWithin(tau: f64, h: f64): i32 {
+  memory.copy(comp, save, <usize>(r + 1) * vec);
+  let err = oneStep(coefFine, 0, tau, h, comp, comp + <usize>r * vec, 1);
+  err |= oneStep(coefFine, 1, tau + h, h, comp, comp + <usize>r * vec, 1);
+  return err;
+}
+
+/** Records the state {@link sampleWithin} computed (its error estimate: the one at the macro step's start). */
+export function recordSample(tau: f64): void {
+  const s0 = series, e0 = exact, r0 = errv;
+  series = comp;
+  exact = comp + <usize>r * vec;
+  errv = save + <usize>(r + 1) * vec;
+  record(tau);
+  series = s0;
+  exact = e0;
+  errv = r0;
+}
+
 /** Undo the last macro step (restore the stacked state and the error vector). */
 export function rejectStep(): void {
   memory.copy(series, save, <usize>r * vec);
