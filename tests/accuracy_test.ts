@@ -126,3 +126,20 @@ Deno.test("accuracy 1e-9 on the driven oscillator reproduces Glauber's Poisson p
     assertClose(populationsAt(result.exact, 16, 2)[n]!, poisson, { abs: 1e-9 }, `P(${n})`)
   );
 });
+
+Deno.test("with an accuracy, the steps do not depend on how many times are recorded, and inner records are accurate", async () => {
+  const engine = await testEngine();
+  const file = new URL("cases/leaky_transmon.toml", root).pathname;
+  const few = buildCase(readCase(file), { accuracy: ACCURACY });
+  const many = { ...few, model: { ...few.model, samples: 401 } };
+  const a = runCase(engine, { ...few, model: { ...few.model, samples: 2 } }), b = runCase(engine, many);
+  assert(
+    a.result.steps === b.result.steps,
+    `${a.result.steps} steps with 2 records, ${b.result.steps} with 401`,
+  );
+  // An inner recorded time (t = 10 ns, record 200 of 401) against a fixed-step reference recorded there.
+  const reference = solve(engine, { ...many.model, accuracy: undefined, steps: 400 * 64 });
+  const d = many.model.dim;
+  const mine = populationsAt(b.result.exact, d, 200), ref = populationsAt(reference.exact, d, 200);
+  mine.forEach((p, k) => assertClose(p, ref[k]!, { abs: ACCURACY }, `level ${k} at t = 10 ns`));
+});
