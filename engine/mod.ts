@@ -67,6 +67,7 @@ interface Exports {
   stepError(): number;
   rejectStep(): void;
   sampleWithin(tau: number, h: number): number;
+  setTaylorTolerance(tolerance: number): void;
   recordSample(tau: number): void;
   record(tau: number): void;
   bufH0Terms(): number;
@@ -512,6 +513,8 @@ function adaptive(
     // Below round-off (a few 1e-15 on unit vectors) no step size does better: accept, and let the
     // accumulated estimate say what it cost.
     const error = e.stepError(), allowed = Math.max(0.5 * accuracy * big / span, ROUND_OFF);
+    // The next step's Taylor series may stop at 1% of the error this step may make (never above 1e-12).
+    e.setTaylorTolerance(Math.min(1e-12, 0.01 * allowed));
     const factor = error > 0 ? Math.min(4, Math.max(0.2, 0.9 * (allowed / error) ** 0.2)) : 4;
     if (error <= allowed) {
       const end = model.tEnd - (t + big) <= near ? model.tEnd : t + big;

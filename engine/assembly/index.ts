@@ -21,5 +21,6 @@ export {
   recordSample,
   rejectStep,
   sampleWithin,
+  setTaylorTolerance,
   stepError,
 } from "./schemes";

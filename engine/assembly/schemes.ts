@@ -20,9 +20,17 @@ const C2: f64 = 0.5 + SQ3 / 6.0;
 const A1: f64 = 0.25 + SQ3 / 6.0;
 const A2: f64 = 0.25 - SQ3 / 6.0;
 
-// Taylor truncation: sub-steps keep ‖hA‖ ≤ THETA; terms until two in a row are below TINY relative.
+// Taylor truncation: sub-steps keep ‖hA‖ ≤ THETA; terms until two in a row are below `tiny` relative: TINY
+// (round-off) by default; an accuracy-driven run may loosen it to a small share of its error per step
+// (see: Al-Mohy & Higham, SIAM J. Sci. Comput. 33 (2011): the degree chosen from the tolerance).
 const THETA: f64 = 2.0;
 const TINY: f64 = 1e-18;
+let tiny: f64 = TINY;
+
+/** The relative size of the last Taylor term kept (TINY for round-off; larger only for a looser accuracy). */
+export function setTaylorTolerance(t: f64): void {
+  tiny = max(TINY, t);
+}
 const MAX_TERMS: i32 = 60;
 
 const MODE_NONE: i32 = 0;
@@ -134,6 +142,7 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32): 
   comp = arenaAlloc(<usize>(r + 1) * vec);
   work = arenaAlloc(<usize>d << 6);
   adaptive = false;
+  tiny = TINY;
   return coefCoarse == 0 || work == 0 ? ERR_MEMORY : ERR_OK;
 }
 
@@ -329,7 +338,7 @@ function expBlock(
           const p = term + (<usize>a << 4), o = acc + (<usize>a << 4);
           cset(o, cre(o) + cre(p), cim(o) + cim(p));
         }
-        if (mode != MODE_NONE && norm1(term) > TINY * norm1(acc)) small = false;
+        if (mode != MODE_NONE && norm1(term) > tiny * norm1(acc)) small = false;
       }
       if (mode == MODE_NONE) {
         if (low >= rr - 1) break;
