@@ -68,6 +68,7 @@ interface Exports {
   rejectStep(): void;
   sampleWithin(tau: number, h: number): number;
   setTaylorTolerance(tolerance: number): void;
+  takeKernelFlops(): number;
   recordSample(tau: number): void;
   record(tau: number): void;
   bufH0Terms(): number;

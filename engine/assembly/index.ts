@@ -22,5 +22,6 @@ export {
   rejectStep,
   sampleWithin,
   setTaylorTolerance,
+  takeKernelFlops,
   stepError,
 } from "./schemes";
