@@ -143,3 +143,13 @@ Deno.test("with an accuracy, the steps do not depend on how many times are recor
   const mine = populationsAt(b.result.exact, d, 200), ref = populationsAt(reference.exact, d, 200);
   mine.forEach((p, k) => assertClose(p, ref[k]!, { abs: ACCURACY }, `level ${k} at t = 10 ns`));
 });
+
+Deno.test("the verdict judges with the larger of the estimate and the accuracy asked for", async () => {
+  const engine = await testEngine();
+  const file = new URL("cases/leaky_transmon.toml", root).pathname; // tolerance 1e-6
+  const loose = runCase(engine, buildCase(readCase(file), { accuracy: 5e-7 }));
+  assert(loose.analysis.referenceError < 5e-8, `the estimate is small: ${loose.analysis.referenceError}`);
+  assert(!loose.analysis.referenceOk, "an accuracy of 5e-7 cannot judge orders at a tolerance of 1e-6");
+  const tight = runCase(engine, buildCase(readCase(file), { accuracy: 1e-8 }));
+  assert(tight.analysis.referenceOk, "an accuracy of 1e-8 can");
+});

@@ -48,7 +48,11 @@ export function runCase(
   }
   // The tail bound at the reported time uses x = ∫‖λV‖ds up to that time.
   const x = normIntegralAt(info, result.times[sample]!);
-  const resolution = { phasePerStep: turning.rate * result.stepSize };
+  const stepped = result.scheme !== "time-independent";
+  const resolution = {
+    phasePerStep: turning.rate * result.stepSize,
+    accuracy: stepped ? built.model.accuracy : undefined,
+  };
   const analysis = analyse(result, built.space.labels, built.targets, x, built.tolerance, sample, resolution);
   return { built, info, result, analysis };
 }

@@ -63,7 +63,7 @@ export function formatRun(
   const refText = result.scheme === "time-independent"
     ? "exact by eigen-decomposition vs by Taylor series"
     : built.model.accuracy !== undefined
-    ? "step doubling on every step, carried to the reported time"
+    ? `step doubling on every step, carried to the reported time; judged with the accuracy ${built.model.accuracy} the steps were chosen for`
     : "step doubling, |P(h) − P(2h)|/15";
   const judged = analysis.untrusted.length === 0;
   out.push(

@@ -81,7 +81,10 @@ export class PointEvaluator {
     const turning = turningOf(this.#engine, built);
     const result = solve(this.#engine, engineModel(built, turning));
     return {
-      ...summarise(index, values, built, result, { phasePerStep: turning.rate * result.stepSize }),
+      ...summarise(index, values, built, result, {
+        phasePerStep: turning.rate * result.stepSize,
+        accuracy: result.scheme === "time-independent" ? undefined : built.model.accuracy,
+      }),
       formulas: this.#formulas(built),
     };
   }
@@ -133,7 +136,10 @@ export class PointEvaluator {
         check: exactRun.check,
       };
       const point = { ...built, model: { ...built.model, strength: lambda } };
-      const resolution = { phasePerStep: turning.rate * exactRun.stepSize };
+      const resolution = {
+        phasePerStep: turning.rate * exactRun.stepSize,
+        accuracy: exactRun.scheme === "time-independent" ? undefined : built.model.accuracy,
+      };
       onPoint({ ...summarise(index, values, point, result, resolution), formulas: this.#formulas(point) });
     }
   }
