@@ -59,7 +59,7 @@ for (const [file, expected] of Object.entries(expectations)) {
         assert(Number.isFinite(p) && p >= 0, `partial sum ${p}`);
       }
     }
-    if (result.labels.length === result.basis.length) {
+    if (result.labels.length === result.levels.length) {
       const last = result.times.length - 1;
       const total = result.labels.reduce((s: number, l: string) => s + result.exact[l][last], 0);
       assert(Math.abs(total - 1) < 1e-8, `exact populations sum to ${total}`);

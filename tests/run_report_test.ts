@@ -234,7 +234,7 @@ Deno.test("every CSV ordo writes starts with its header row, so that plain CSV r
     (await runOrdo(["sweep", `${cases}weak_drive_check.toml`, "--out", `${dir}/sweep`, "--quiet"])).code,
     0,
   );
-  for (const csv of [`${dir}/run/populations.csv`, `${dir}/sweep/points.csv`]) {
+  for (const csv of [`${dir}/run/populations.csv`, `${dir}/run/amplitudes.csv`, `${dir}/sweep/points.csv`]) {
     const [header, first] = Deno.readTextFileSync(csv).split("\n");
     assert(/^[A-Za-z_][\w:,]*$/.test(header!), `${csv}: a header of names, got ${header}`);
     assertEqual(header!.split(",").length, first!.split(",").length, `${csv}: as many names as cells`);
@@ -283,4 +283,44 @@ Deno.test("orders are coloured along a sequential scale: each next order is ligh
   for (let k = 1; k < colours.length; k++) {
     assert(luminance(colours[k]!) > luminance(colours[k - 1]!), colours.join());
   }
+});
+
+// Rabi's problem H = δ|e⟩⟨e| + g(|e⟩⟨g| + |g⟩⟨e|) from |g⟩ (Rabi 1937; Sakurai, Modern Quantum Mechanics §5.5, from
+// memory), in the Schrödinger picture: with Ω = √(δ² + 4g²),
+// c_g(t) = e^{−iδt/2}[cos(Ωt/2) + i(δ/Ω) sin(Ωt/2)],  c_e(t) = −i e^{−iδt/2}(2g/Ω) sin(Ωt/2).
+Deno.test("amplitudes: the exact ones follow Rabi's closed form with its phase (Schrödinger picture), to 1e-10", async () => {
+  const delta = 0.7, g = 0.2;
+  const r = await runJson([tempCase(twoLevel(delta, g, 30, { samples: 31, order: 4 }))]);
+  assertEqual(r.amplitudes.picture, "schrodinger");
+  assertEqual(r.basis, "bare");
+  const omega = Math.sqrt(delta ** 2 + 4 * g ** 2);
+  r.times.forEach((t: number, k: number) => {
+    const [pr, pi] = [Math.cos(-delta * t / 2), Math.sin(-delta * t / 2)];
+    const [gr, gi] = [Math.cos(omega * t / 2), (delta / omega) * Math.sin(omega * t / 2)];
+    const eIm = -(2 * g / omega) * Math.sin(omega * t / 2);
+    const expected: Record<string, [number, number]> = {
+      g: [pr * gr - pi * gi, pr * gi + pi * gr],
+      e: [-pi * eIm, pr * eIm], // e^{iφ}·(i·eIm)
+    };
+    for (const label of ["g", "e"]) {
+      const [re, im] = r.amplitudes.exact[label][k];
+      assertClose(re, expected[label]![0], { abs: 1e-10 }, `Re c_${label}(${t})`);
+      assertClose(im, expected[label]![1], { abs: 1e-10 }, `Im c_${label}(${t})`);
+    }
+  });
+});
+
+// First order for a Gaussian pulse f(t) = exp(−(t−c)²/(2w²)) on V = g(|e⟩⟨g| + h.c.), H0 = δ|e⟩⟨e|:
+// ψ_e⁽¹⁾(T) = −i g e^{−iδT} ∫₀ᵀ f(s) e^{iδs} ds, and ∫ over the line is w√(2π)·e^{iδc}·e^{−δ²w²/2} (the Fourier
+// transform of a Gaussian); the window [0, 40] with c = 20, w = 2.5 cuts e^{−32} of it.
+Deno.test("amplitudes: the first-order term of a Gaussian pulse is the Gaussian's Fourier transform, to 1e-9", async () => {
+  const delta = 0.9, g = 0.01, c = 20, w = 2.5, T = 40;
+  const text = twoLevel(delta, g, T, { coef: `gauss(t, ${c}, ${w})`, steps: 4000, samples: 3, order: 2 });
+  const r = await runJson([tempCase(text)]);
+  const last = r.times.length - 1;
+  const [s1r, s1i] = r.amplitudes.series[1].e[last], [s0r, s0i] = r.amplitudes.series[0].e[last];
+  const mag = g * w * Math.sqrt(2 * Math.PI) * Math.exp(-((delta * w) ** 2) / 2);
+  const phase = delta * c - delta * T - Math.PI / 2; // −i·e^{−iδT}·e^{iδc}
+  assertClose(s1r - s0r, mag * Math.cos(phase), { abs: 1e-9 }, "Re ψ_e⁽¹⁾(T)");
+  assertClose(s1i - s0i, mag * Math.sin(phase), { abs: 1e-9 }, "Im ψ_e⁽¹⁾(T)");
 });

@@ -14,6 +14,18 @@ export function runJson({ built, result, analysis }: RunOutcome): unknown {
   const labels = built.targets;
   const index = labels.map((l) => built.space.labels.indexOf(l));
   const samples = result.times.length;
+  /** [re, im] of each target's amplitude at every recorded time. */
+  const ampsOf = (states: Float64Array) => {
+    const perLabel: Record<string, [number, number][]> = {};
+    labels.forEach((l, j) => {
+      const a = index[j]!;
+      perLabel[l] = Array.from(
+        { length: samples },
+        (_, k) => [states[2 * (k * d + a)]!, states[2 * (k * d + a) + 1]!],
+      );
+    });
+    return perLabel;
+  };
   const popsOf = (states: Float64Array) => {
     const perLabel: Record<string, number[]> = {};
     labels.forEach((l) => (perLabel[l] = []));
@@ -24,8 +36,10 @@ export function runJson({ built, result, analysis }: RunOutcome): unknown {
     return perLabel;
   };
   const partial = new Float64Array(result.exact.length);
+  const seriesAmplitudes: Record<string, [number, number][]>[] = [];
   const series = result.terms.map((term) => {
     for (let k = 0; k < partial.length; k++) partial[k]! += term[k]!;
+    seriesAmplitudes.push(ampsOf(partial));
     return popsOf(partial);
   });
   const exact = popsOf(result.exact);
@@ -54,11 +68,18 @@ export function runJson({ built, result, analysis }: RunOutcome): unknown {
       units: built.units.description,
     },
     labels,
-    basis: built.space.labels,
+    basis: "bare",
+    levels: built.space.labels,
     times: Array.from(result.times),
     exact,
     series,
     final: { exact: last(exact), series: series.map(last) },
+    amplitudes: {
+      // ψ(t) itself, in the case's (bare) basis: the phases include the free evolution under H0
+      picture: "schrodinger",
+      exact: ampsOf(result.exact),
+      series: seriesAmplitudes,
+    },
     warnings: built.warnings,
     analysis: {
       time: analysis.time,

@@ -22,6 +22,11 @@ interface ResultJson {
   times: number[];
   exact: Record<string, number[]>;
   series: Record<string, number[]>[];
+  amplitudes: {
+    picture: string;
+    exact: Record<string, [number, number][]>;
+    series: Record<string, [number, number][]>[];
+  };
   analysis: {
     targets: {
       label: string;
@@ -53,6 +58,25 @@ export function populationsCsv(json: ResultJson): string {
     for (const label of json.labels) {
       lines.push(`${t},${csvField(label)},exact,${json.exact[label]![k]}`);
       json.series.forEach((s, n) => lines.push(`${t},${csvField(label)},order${n},${s[label]![k]}`));
+    }
+  });
+  return lines.join("\n") + "\n";
+}
+
+/**
+ * The tidy amplitudes: header first, one row per (time, label, source) with the real and imaginary parts of the
+ * amplitude, in the picture result.json names (Schrödinger: ψ(t) in the case's basis).
+ */
+export function amplitudesCsv(json: ResultJson): string {
+  const lines = ["time,label,source,re,im"];
+  json.times.forEach((t, k) => {
+    for (const label of json.labels) {
+      const [re, im] = json.amplitudes.exact[label]![k]!;
+      lines.push(`${t},${csvField(label)},exact,${re},${im}`);
+      json.amplitudes.series.forEach((s, n) => {
+        const [sr, si] = s[label]![k]!;
+        lines.push(`${t},${csvField(label)},order${n},${sr},${si}`);
+      });
     }
   });
   return lines.join("\n") + "\n";
@@ -135,12 +159,18 @@ async function targetPlots(outcome: RunOutcome, json: ResultJson, label: string)
 export async function writeReport(outcome: RunOutcome, dir: string): Promise<string[]> {
   Deno.mkdirSync(dir, { recursive: true });
   const json = runJson(outcome) as ResultJson & Record<string, unknown>;
-  const files = [join(dir, "result.json"), join(dir, "populations.csv"), join(dir, "report.html")];
+  const files = [
+    join(dir, "result.json"),
+    join(dir, "populations.csv"),
+    join(dir, "report.html"),
+    join(dir, "amplitudes.csv"),
+  ];
   Deno.writeTextFileSync(
     files[0]!,
     JSON.stringify({ ...json, provenance: provenance(outcome) }, null, 1) + "\n",
   );
   Deno.writeTextFileSync(files[1]!, populationsCsv(json));
+  Deno.writeTextFileSync(files[3]!, amplitudesCsv(json));
   const sections: string[] = [];
   const plotted = json.labels.slice(0, MAX_PLOTTED_TARGETS);
   if (plotted.length < json.labels.length) {
