@@ -324,3 +324,44 @@ Deno.test("amplitudes: the first-order term of a Gaussian pulse is the Gaussian'
   assertClose(s1r - s0r, mag * Math.cos(phase), { abs: 1e-9 }, "Re ψ_e⁽¹⁾(T)");
   assertClose(s1i - s0i, mag * Math.sin(phase), { abs: 1e-9 }, "Im ψ_e⁽¹⁾(T)");
 });
+
+// ⟨σz⟩ with σz = |e⟩⟨e| − |g⟩⟨g| is the population difference P_e − P_g (common practice): for the exact state, for
+// every partial sum, and order by order in λ for the consistent expansion.
+Deno.test("an observable σz equals the population difference, exactly and order by order", async () => {
+  const text = twoLevel(1, 0.3, 20, { coef: "gauss(t, 10, 3)", steps: 800, samples: 11, order: 5 }) + `
+[[observable]]
+name = "sigma_z"
+op = "|e><e| - |g><g|"
+`;
+  const r = await runJson([tempCase(text), "--targets", "g,e"]);
+  const o = r.observables.sigma_z;
+  r.times.forEach((_: number, k: number) => {
+    assertClose(o.exact[k], r.exact.e[k] - r.exact.g[k], { abs: 1e-14 }, `exact at ${k}`);
+    r.series.forEach((s: Record<string, number[]>, n: number) => {
+      assertClose(o.series[n][k], s.e![k]! - s.g![k]!, { abs: 1e-14 }, `order ${n} at ${k}`);
+    });
+  });
+  const last = r.times.length - 1;
+  const [g, e] = ["g", "e"].map((l) => r.analysis.targets.find((t: { label: string }) => t.label === l));
+  for (let n = 0; n <= 5; n++) {
+    assertClose(
+      o.consistent[n][last],
+      e.orders[n].consistent - g.orders[n].consistent,
+      { abs: 1e-14 },
+      `λ^${n}`,
+    );
+  }
+  const { stdout } = await runOrdo(["run", tempCase(text), "--quiet"]);
+  assert(stdout.includes("observable sigma_z: exact"), stdout);
+});
+
+Deno.test("an observable that is not Hermitian is refused with where", async () => {
+  const text = twoLevel(1, 0.3, 20) + `
+[[observable]]
+name = "bad"
+op = "|e><g|"
+`;
+  const { code, stderr } = await runOrdo(["run", tempCase(text), "--quiet"]);
+  assertEqual(code, 2);
+  assert(stderr.includes('observable "bad" is not Hermitian') && stderr.includes("observable[0].op"), stderr);
+});

@@ -7,6 +7,7 @@
 
 import { analyse, type Analysis } from "./verdict.ts";
 import { driveSpectra, driveWarning } from "./drive_spectrum.ts";
+import { type Expectation, expectations } from "./expectations.ts";
 import type { BuiltCase } from "../case/build.ts";
 import { engineModel, inspectCase, type Inspection, normIntegralAt, turningFrom } from "./inspection.ts";
 import { type Engine, type Result, solve } from "../../engine/mod.ts";
@@ -17,6 +18,8 @@ export interface RunOutcome {
   info: Inspection;
   result: Result;
   analysis: Analysis;
+  /** The case's observables at every recorded time. */
+  observed: Expectation[];
 }
 
 /**
@@ -54,5 +57,11 @@ export function runCase(
     accuracy: stepped ? built.model.accuracy : undefined,
   };
   const analysis = analyse(result, built.space.labels, built.targets, x, built.tolerance, sample, resolution);
-  return { built, info, result, analysis };
+  return {
+    built,
+    info,
+    result,
+    analysis,
+    observed: expectations(built.observables, result, built.model.dim),
+  };
 }

@@ -9,7 +9,7 @@ import { populationsAt } from "../../engine/mod.ts";
 import { VERSION } from "../base/version.ts";
 
 /** The stable JSON result (PRODUCT.md), plus the analysis. */
-export function runJson({ built, result, analysis }: RunOutcome): unknown {
+export function runJson({ built, result, analysis, observed }: RunOutcome): unknown {
   const d = built.model.dim;
   const labels = built.targets;
   const index = labels.map((l) => built.space.labels.indexOf(l));
@@ -74,6 +74,9 @@ export function runJson({ built, result, analysis }: RunOutcome): unknown {
     exact,
     series,
     final: { exact: last(exact), series: series.map(last) },
+    observables: Object.fromEntries(
+      observed.map((e) => [e.name, { exact: e.exact, series: e.series, consistent: e.consistent }]),
+    ),
     amplitudes: {
       // ψ(t) itself, in the case's (bare) basis: the phases include the free evolution under H0
       picture: "schrodinger",

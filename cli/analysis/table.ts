@@ -22,9 +22,8 @@ function pop(x: number): string {
 }
 
 /** The terminal report: header, one table per target, verdict. */
-export function formatRun(
-  { built, info, result, analysis }: RunOutcome,
-): string {
+export function formatRun(outcome: RunOutcome): string {
+  const { built, info, result, analysis } = outcome;
   const out: string[] = [];
   const tu = built.units.time ? ` ${built.units.time}` : "";
   out.push(`ordo ${VERSION} · ${built.title}`);
@@ -57,6 +56,19 @@ export function formatRun(
         }`,
       );
     }
+  }
+  for (const o of outcome.observed) {
+    const k = analysis.sample, exact = o.exact[k]!;
+    out.push("");
+    out.push(`observable ${o.name}: exact ${pop(exact)}`);
+    out.push("  order  partial sum      error      consistent");
+    o.series.forEach((values, n) => {
+      out.push(
+        `  ${String(n).padStart(5)}  ${pop(values[k]!).padEnd(15)}  ${
+          sci(Math.abs(values[k]! - exact)).padStart(9)
+        }  ${pop(o.consistent[n]![k]!).padStart(14)}`,
+      );
+    });
   }
   out.push("");
   out.push(`verdict (tolerance ${sci(analysis.tolerance, 2)} on populations)`);

@@ -23,6 +23,7 @@ import {
 } from "./terms.ts";
 import { checkHermitian } from "./hermiticity.ts";
 import { startState } from "./start.ts";
+import { buildObservables, type Observable } from "./observables.ts";
 import { checkMemory, guardExactWork, guardSteppedWork } from "./limits.ts";
 import type { Model } from "../../engine/model.ts";
 
@@ -52,6 +53,8 @@ export interface BuiltCase {
   targets: string[];
   tolerance: number;
   terms: AssembledTerm[];
+  /** `[[observable]]` entries, as matrices in the case's basis. */
+  observables: Observable[];
   model: Model;
   warnings: string[];
 }
@@ -136,6 +139,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   }
 
   const initial = startState(spec.start, space, constScope, warnings);
+  const observables = buildObservables(spec, space, constScope);
   const targets = options.targets ?? spec.series.targets ?? space.labels;
   checkTargets(targets, space, options.targets !== undefined);
 
@@ -163,6 +167,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
     targets,
     tolerance: settings.tolerance,
     terms,
+    observables,
     model,
     warnings,
   };

@@ -96,6 +96,7 @@ export const caseSchema = z.object({
   }).strict(),
   sweep: z.record(sweepAxisSchema).optional(),
   approx: z.array(approxSchema).optional(),
+  observable: z.array(z.object({ name: z.string(), op: z.string() }).strict()).optional(),
 }).strict();
 
 /** A case as written (after the shape check). */

@@ -82,6 +82,20 @@ export function amplitudesCsv(json: ResultJson): string {
   return lines.join("\n") + "\n";
 }
 
+/** The tidy observables: header first, one row per (time, observable, source): exact, order<n>, consistent<n>. */
+export function observablesCsv(outcome: RunOutcome, times: number[]): string {
+  const lines = ["time,observable,source,value"];
+  times.forEach((t, k) => {
+    for (const o of outcome.observed) {
+      const name = csvField(o.name);
+      lines.push(`${t},${name},exact,${o.exact[k]}`);
+      o.series.forEach((s, n) => lines.push(`${t},${name},order${n},${s[k]}`));
+      o.consistent.forEach((s, n) => lines.push(`${t},${name},consistent${n},${s[k]}`));
+    }
+  });
+  return lines.join("\n") + "\n";
+}
+
 /**
  * A text cell: a cell that begins with = + - @ (or a tab or return) gets a leading ' so that spreadsheets
  * show it rather than run it as a formula (common practice against CSV formula injection); cells with a
@@ -171,6 +185,10 @@ export async function writeReport(outcome: RunOutcome, dir: string): Promise<str
   );
   Deno.writeTextFileSync(files[1]!, populationsCsv(json));
   Deno.writeTextFileSync(files[3]!, amplitudesCsv(json));
+  if (outcome.observed.length > 0) {
+    files.push(join(dir, "observables.csv"));
+    Deno.writeTextFileSync(files[4]!, observablesCsv(outcome, json.times));
+  }
   const sections: string[] = [];
   const plotted = json.labels.slice(0, MAX_PLOTTED_TARGETS);
   if (plotted.length < json.labels.length) {
