@@ -84,29 +84,34 @@ export function runJson({ built, result, analysis, observed }: RunOutcome): unkn
       series: seriesAmplitudes,
     },
     warnings: built.warnings,
-    analysis: {
-      time: analysis.time,
-      tolerance: analysis.tolerance,
-      reference_ok: analysis.referenceOk,
-      untrusted: analysis.untrusted,
-      norm_drift: analysis.normDrift,
-      term_norms: analysis.termNorms,
-      growing_terms: analysis.growing,
-      targets: analysis.targets.map((t) => ({
-        label: t.label,
-        exact: t.exact,
-        min_order: t.minOrder,
-        leading_order: t.leadingOrder,
-        first_order_relative_error: Number.isNaN(t.firstOrderRelative) ? null : t.firstOrderRelative,
-        orders: t.rows.map((r) => ({
-          order: r.order,
-          population: r.population,
-          error: r.error,
-          bound: r.bound,
-          consistent: r.consistent,
-          ratio: Number.isNaN(r.ratio) ? null : r.ratio,
-        })),
+    analysis: analysisJson(analysis),
+  };
+}
+
+/** The analysis part of the JSON result. */
+function analysisJson(analysis: RunOutcome["analysis"]): Record<string, unknown> {
+  return {
+    time: analysis.time,
+    tolerance: analysis.tolerance,
+    reference_ok: analysis.referenceOk,
+    untrusted: analysis.untrusted,
+    norm_drift: analysis.normDrift,
+    term_norms: analysis.termNorms,
+    growing_terms: analysis.growing,
+    targets: analysis.targets.map((t) => ({
+      label: t.label,
+      exact: t.exact,
+      min_order: t.minOrder,
+      leading_order: t.leadingOrder,
+      first_order_relative_error: Number.isNaN(t.firstOrderRelative) ? null : t.firstOrderRelative,
+      orders: t.rows.map((r) => ({
+        order: r.order,
+        population: r.population,
+        error: r.error,
+        bound: r.bound,
+        consistent: r.consistent,
+        ratio: Number.isNaN(r.ratio) ? null : r.ratio,
       })),
-    },
+    })),
   };
 }

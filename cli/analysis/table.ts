@@ -21,55 +21,10 @@ function pop(x: number): string {
   return Math.abs(x) >= 1e-3 ? x.toPrecision(8) : x.toExponential(7);
 }
 
-/** The terminal report: header, one table per target, verdict. */
+/** The terminal report: header, one table per target and per observable, verdict. */
 export function formatRun(outcome: RunOutcome): string {
-  const { built, info, result, analysis } = outcome;
-  const out: string[] = [];
-  const tu = built.units.time ? ` ${built.units.time}` : "";
-  out.push(`ordo ${VERSION} · ${built.title}`);
-  out.push(`units   ${built.units.description}`);
-  const h = Number(result.stepSize.toPrecision(4));
-  const stepText = result.scheme === "time-independent"
-    ? `no time steps (time-independent H: exact exponentials between ${result.times.length} samples)`
-    : built.model.accuracy !== undefined
-    ? `${result.steps} steps chosen for accuracy ${built.model.accuracy} (mean h = ${h}${tu}), 4th-order ` +
-      "commutator-free exponential integrator"
-    : `${result.steps} steps of h = ${h}${tu}, 4th-order commutator-free exponential integrator`;
-  out.push(
-    `scheme  ${result.scheme}; ${stepText}; Dyson order ≤ ${built.model.order}; λ = ${built.model.strength}`,
-  );
-  out.push(
-    `window  t = ${built.model.tStart} … ${built.model.tEnd}${tu}; reporting t = ${
-      Number(analysis.time.toPrecision(6))
-    }${tu}; x = ∫‖λV‖dt ≤ ${sci(normIntegralAt(info, analysis.time), 3)}`,
-  );
-  for (const target of analysis.targets) {
-    out.push("");
-    out.push(`population of ${target.label}: exact ${pop(target.exact)}`);
-    out.push("  order  partial sum      error      bound      consistent     ‖ψn‖/‖ψn−1‖");
-    for (const row of target.rows) {
-      out.push(
-        `  ${String(row.order).padStart(5)}  ${pop(row.population).padEnd(15)}  ${
-          sci(row.error).padStart(9)
-        }  ${sci(row.bound).padStart(9)}  ${pop(row.consistent).padStart(14)}  ${
-          sci(row.ratio, 3).padStart(9)
-        }`,
-      );
-    }
-  }
-  for (const o of outcome.observed) {
-    const k = analysis.sample, exact = o.exact[k]!;
-    out.push("");
-    out.push(`observable ${o.name}: exact ${pop(exact)}`);
-    out.push("  order  partial sum      error      consistent");
-    o.series.forEach((values, n) => {
-      out.push(
-        `  ${String(n).padStart(5)}  ${pop(values[k]!).padEnd(15)}  ${
-          sci(Math.abs(values[k]! - exact)).padStart(9)
-        }  ${pop(o.consistent[n]![k]!).padStart(14)}`,
-      );
-    });
-  }
+  const out = [...header(outcome), ...targetTables(outcome), ...observableTables(outcome)];
+  const { built, result, analysis } = outcome;
   out.push("");
   out.push(`verdict (tolerance ${sci(analysis.tolerance, 2)} on populations)`);
   const refText = result.scheme === "time-independent"
@@ -116,4 +71,61 @@ export function formatRun(outcome: RunOutcome): string {
   }
   for (const w of built.warnings) out.push(`  warning: ${w}`);
   return out.join("\n");
+}
+
+function header({ built, info, result, analysis }: RunOutcome): string[] {
+  const tu = built.units.time ? ` ${built.units.time}` : "";
+  const h = Number(result.stepSize.toPrecision(4));
+  const stepText = result.scheme === "time-independent"
+    ? `no time steps (time-independent H: exact exponentials between ${result.times.length} samples)`
+    : built.model.accuracy !== undefined
+    ? `${result.steps} steps chosen for accuracy ${built.model.accuracy} (mean h = ${h}${tu}), 4th-order ` +
+      "commutator-free exponential integrator"
+    : `${result.steps} steps of h = ${h}${tu}, 4th-order commutator-free exponential integrator`;
+  return [
+    `ordo ${VERSION} · ${built.title}`,
+    `units   ${built.units.description}`,
+    `scheme  ${result.scheme}; ${stepText}; Dyson order ≤ ${built.model.order}; λ = ${built.model.strength}`,
+    `window  t = ${built.model.tStart} … ${built.model.tEnd}${tu}; reporting t = ${
+      Number(analysis.time.toPrecision(6))
+    }${tu}; x = ∫‖λV‖dt ≤ ${sci(normIntegralAt(info, analysis.time), 3)}`,
+  ];
+}
+
+function targetTables({ analysis }: RunOutcome): string[] {
+  const out: string[] = [];
+  for (const target of analysis.targets) {
+    out.push("", `population of ${target.label}: exact ${pop(target.exact)}`);
+    out.push("  order  partial sum      error      bound      consistent     ‖ψn‖/‖ψn−1‖");
+    for (const row of target.rows) {
+      out.push(
+        `  ${String(row.order).padStart(5)}  ${pop(row.population).padEnd(15)}  ${
+          sci(row.error).padStart(9)
+        }  ${sci(row.bound).padStart(9)}  ${pop(row.consistent).padStart(14)}  ${
+          sci(row.ratio, 3).padStart(9)
+        }`,
+      );
+    }
+  }
+  return out;
+}
+
+function observableTables({ analysis, observed }: RunOutcome): string[] {
+  const out: string[] = [];
+  for (const o of observed) {
+    const k = analysis.sample, exact = o.exact[k]!;
+    out.push(
+      "",
+      `observable ${o.name}: exact ${pop(exact)}`,
+      "  order  partial sum      error      consistent",
+    );
+    o.series.forEach((values, n) => {
+      out.push(
+        `  ${String(n).padStart(5)}  ${pop(values[k]!).padEnd(15)}  ${
+          sci(Math.abs(values[k]! - exact)).padStart(9)
+        }  ${pop(o.consistent[n]![k]!).padStart(14)}`,
+      );
+    });
+  }
+  return out;
 }
