@@ -365,3 +365,22 @@ op = "|e><g|"
   assertEqual(code, 2);
   assert(stderr.includes('observable "bad" is not Hermitian') && stderr.includes("observable[0].op"), stderr);
 });
+
+// A weak off-resonant coupling leaves a population of order (2g/δ)²·sin² ≈ 4e-7 in e (the sinc² form, NUMERICS.md).
+// Judged absolutely at 1e-6 order 0 (nothing in e) "meets the tolerance"; judged relatively it does not.
+Deno.test("a relative tolerance judges a small population by its size; the verdict says which tolerance applied", async () => {
+  const base = twoLevel(1, 0.0003, 30, { samples: 2, order: 4 });
+  const absolute = await runJson([tempCase(base)]);
+  const e = (r: { analysis: { targets: { label: string; min_order: number | null }[] } }) =>
+    r.analysis.targets.find((t) => t.label === "e")!;
+  assertEqual(e(absolute).min_order, 0, "absolutely, order 0 is within 1e-6 of a tiny population");
+  const relative = tempCase(base.replace("order = 4", "order = 4\ntolerance = { rel = 0.01, abs = 1e-12 }"));
+  const r = await runJson([relative]);
+  assertEqual(r.analysis.relative_tolerance, 0.01);
+  assert(
+    e(r).min_order !== null && e(r).min_order! >= 1,
+    `relatively, first order is needed: ${e(r).min_order}`,
+  );
+  const { stdout } = await runOrdo(["run", relative, "--quiet"]);
+  assert(stdout.includes("1% of the exact value, or 1.0e-12 absolute"), stdout);
+});

@@ -55,6 +55,7 @@ export function runCase(
   const resolution = {
     phasePerStep: turning.rate * result.stepSize,
     accuracy: stepped ? built.model.accuracy : undefined,
+    relative: built.relativeTolerance,
   };
   const analysis = analyse(result, built.space.labels, built.targets, x, built.tolerance, sample, resolution);
   return {

@@ -93,6 +93,7 @@ function analysisJson(analysis: RunOutcome["analysis"]): Record<string, unknown>
   return {
     time: analysis.time,
     tolerance: analysis.tolerance,
+    relative_tolerance: analysis.relative,
     reference_ok: analysis.referenceOk,
     untrusted: analysis.untrusted,
     norm_drift: analysis.normDrift,

@@ -26,7 +26,13 @@ export function formatRun(outcome: RunOutcome): string {
   const out = [...header(outcome), ...targetTables(outcome), ...observableTables(outcome)];
   const { built, result, analysis } = outcome;
   out.push("");
-  out.push(`verdict (tolerance ${sci(analysis.tolerance, 2)} on populations)`);
+  out.push(
+    analysis.relative > 0
+      ? `verdict (tolerance on populations: ${analysis.relative * 100}% of the exact value, or ${
+        sci(analysis.tolerance, 2)
+      } absolute, whichever is larger)`
+      : `verdict (tolerance ${sci(analysis.tolerance, 2)} absolute on populations)`,
+  );
   const refText = result.scheme === "time-independent"
     ? "exact by eigen-decomposition vs by Taylor series"
     : built.model.accuracy !== undefined

@@ -45,6 +45,8 @@ export interface Analysis {
   time: number;
   sample: number;
   tolerance: number;
+  /** The relative tolerance on populations (0: none; `tolerance` is then the floor). */
+  relative: number;
   /** Estimated error of the exact populations (largest over targets and times). */
   referenceError: number;
   /** The reference is good enough to judge orders at the tolerance (and nothing below makes it untrustworthy). */
@@ -64,6 +66,8 @@ export interface Analysis {
 export interface Resolution {
   /** The fastest phase per step: max(largest coupled |E_a − E_b|, fastest coefficient rate) × h, in rad. */
   phasePerStep: number;
+  /** A relative tolerance on populations (0 or absent: none): a population passes within max(abs, rel·P). */
+  relative?: number;
   /**
    * The accuracy the steps were chosen for, when they were: the estimate is then judged together with it (the
    * larger of the two), since step doubling can under-read the error where a coefficient is not smooth.
@@ -138,12 +142,21 @@ export function analyse(
   const normDrift = normDriftOf(result.exact, d);
   const untrusted = distrust(resolution, normDrift);
   const judged = Math.max(referenceError, resolution.accuracy ?? 0);
-  const referenceOk = judged <= 0.1 * tolerance && untrusted.length === 0;
+  const relative = resolution.relative ?? 0;
+  // the smallest error any target is allowed, at the reported time
+  let tightest = Infinity;
+  for (const label of targets) {
+    const a = labels.indexOf(label);
+    const [er, ei] = amp(result.exact, d, k, a);
+    tightest = Math.min(tightest, Math.max(tolerance, relative * (er * er + ei * ei)));
+  }
+  const referenceOk = judged <= 0.1 * tightest && untrusted.length === 0;
   const verdicts = targets.map((label) =>
     targetVerdict(result, { d, a: labels.indexOf(label), label, k }, {
       termNorms,
       x: normIntegral,
       tolerance,
+      relative,
       referenceOk,
     })
   );
@@ -155,6 +168,7 @@ export function analyse(
     time: result.times[k]!,
     sample: k,
     tolerance,
+    relative,
     referenceError,
     referenceOk,
     untrusted,
@@ -187,10 +201,11 @@ function referenceErrorOf(result: Result, labels: string[], targets: string[]): 
 function targetVerdict(
   result: Result,
   { d, a, label, k }: { d: number; a: number; label: string; k: number },
-  { termNorms, x, tolerance, referenceOk }: {
+  { termNorms, x, tolerance, relative, referenceOk }: {
     termNorms: number[];
     x: number;
     tolerance: number;
+    relative: number;
     referenceOk: boolean;
   },
 ): TargetVerdict {
@@ -218,7 +233,8 @@ function targetVerdict(
     });
   }
   // No order is called converged below what the reference itself can resolve.
-  const hit = referenceOk ? rows.find((r) => r.error <= tolerance) : undefined;
+  const allowed = Math.max(tolerance, relative * exact);
+  const hit = referenceOk ? rows.find((r) => r.error <= allowed) : undefined;
   const first = rows[1];
   // Leading order: the first partial sum that is not zero at round-off level (relative to the exact value).
   const lead = rows.find((r) => r.population > 1e-14 * Math.max(exact, 1e-300));

@@ -52,6 +52,8 @@ export interface BuiltCase {
   space: Space;
   targets: string[];
   tolerance: number;
+  /** Relative tolerance on populations (0: none); `tolerance` is then the floor. */
+  relativeTolerance: number;
   terms: AssembledTerm[];
   /** `[[observable]]` entries, as matrices in the case's basis. */
   observables: Observable[];
@@ -166,6 +168,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
     space,
     targets,
     tolerance: settings.tolerance,
+    relativeTolerance: settings.relativeTolerance,
     terms,
     observables,
     model,

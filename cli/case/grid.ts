@@ -34,7 +34,10 @@ export interface Settings {
   samples: number;
   order: number;
   strength: number;
+  /** Absolute tolerance on populations (with a relative one: the floor below which populations are judged absolutely). */
   tolerance: number;
+  /** Relative tolerance on populations (0: none): a population passes within max(tolerance, relative·P). */
+  relativeTolerance: number;
 }
 
 /**
@@ -93,8 +96,18 @@ export function readSettings(
     );
   }
   const strength = spec.series.strength ?? 1;
-  const tolerance = spec.series.tolerance ?? 1e-6;
-  return { tStart, tEnd, steps, accuracy, samples, order, strength, tolerance };
+  const written = spec.series.tolerance;
+  if (typeof written === "object" && written.abs === undefined && written.rel === undefined) {
+    throw new CaseError(
+      "tolerance gives neither abs nor rel",
+      ["series", "tolerance"],
+      "e.g. { rel = 0.01, abs = 1e-10 }",
+    );
+  }
+  // A relative tolerance alone is judged absolutely below 1e-12 (where a population is round-off).
+  const tolerance = typeof written === "number" ? written : written?.abs ?? (written?.rel ? 1e-12 : 1e-6);
+  const relativeTolerance = typeof written === "object" ? written.rel ?? 0 : 0;
+  return { tStart, tEnd, steps, accuracy, samples, order, strength, tolerance, relativeTolerance };
 }
 
 /** Fixed steps (a number) or an accuracy: the command line first, then the case, then the default accuracy. */

@@ -91,7 +91,10 @@ export const caseSchema = z.object({
   series: z.object({
     order: z.number().int(),
     targets: z.array(z.string()).optional(),
-    tolerance: z.number().positive().optional(),
+    tolerance: z.union([
+      z.number().positive(),
+      z.object({ abs: z.number().positive().optional(), rel: z.number().positive().optional() }).strict(),
+    ]).optional(),
     strength: z.number().optional(),
   }).strict(),
   sweep: z.record(sweepAxisSchema).optional(),

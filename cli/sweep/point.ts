@@ -84,6 +84,7 @@ export class PointEvaluator {
       ...summarise(index, values, built, result, {
         phasePerStep: turning.rate * result.stepSize,
         accuracy: result.scheme === "time-independent" ? undefined : built.model.accuracy,
+        relative: built.relativeTolerance,
       }),
       formulas: this.#formulas(built),
     };
@@ -139,6 +140,7 @@ export class PointEvaluator {
       const resolution = {
         phasePerStep: turning.rate * exactRun.stepSize,
         accuracy: exactRun.scheme === "time-independent" ? undefined : built.model.accuracy,
+        relative: built.relativeTolerance,
       };
       onPoint({ ...summarise(index, values, point, result, resolution), formulas: this.#formulas(point) });
     }
