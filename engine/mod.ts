@@ -437,6 +437,36 @@ export function multiply(engine: Engine, a: Float64Array, b: Float64Array, d: nu
   return out;
 }
 
+/**
+ * Every vector of a sample-major state array multiplied by a d×d matrix (e.g. a change of basis), by the
+ * engine's kernel.
+ *
+ * @param engine a loaded engine
+ * @param m the matrix, row-major, interleaved
+ * @param states vectors of length d one after another
+ * @param d the dimension
+ * @returns the transformed vectors, in the same layout
+ */
+export function transformStates(
+  engine: Engine,
+  m: Float64Array,
+  states: Float64Array,
+  d: number,
+): Float64Array {
+  const e = engine.exports;
+  const count = states.length / (2 * d);
+  e.arenaReset();
+  const pa = e.arenaAlloc(16 * d * d),
+    px = e.arenaAlloc(states.length * 8),
+    py = e.arenaAlloc(states.length * 8);
+  if (!pa || !px || !py) check(1);
+  new Float64Array(e.memory.buffer, pa, 2 * d * d).set(m);
+  new Float64Array(e.memory.buffer, px, states.length).set(states);
+  new Float64Array(e.memory.buffer, py, states.length).fill(0);
+  e.zgemvSimd(pa, d, px, py, count, 1, 0);
+  return new Float64Array(e.memory.buffer, py, states.length).slice();
+}
+
 /** out := mᵀ (no conjugation), d×d interleaved. */
 function transposeInto(out: Float64Array, m: Float64Array, d: number): void {
   for (let i = 0; i < d; i++) {

@@ -384,3 +384,45 @@ Deno.test("a relative tolerance judges a small population by its size; the verdi
   const { stdout } = await runOrdo(["run", relative, "--quiet"]);
   assert(stdout.includes("1% of the exact value, or 1.0e-12 absolute"), stdout);
 });
+
+// Dressed states: with a non-diagonal H0 the eigenbasis populations differ from the bare ones. The independent
+// computation uses mathjs only: eigs of the real symmetric H0 (its eigenvectors φ_k) and expm(−iHt)ψ0, then
+// |⟨φ_k|ψ(t)⟩|².
+Deno.test("basis = eigen reports populations in H0's eigenstates, as mathjs eigs and expm give them", async () => {
+  const h0 = [[0, 0.3, 0], [0.3, 1, 0.2], [0, 0.2, 2.1]], v = [[0, 0, 0.05], [0, 0, 0], [0.05, 0, 0]];
+  const text = `
+[levels]
+names = ["a", "b", "c"]
+[unperturbed]
+matrix = ${JSON.stringify(h0)}
+[perturbation]
+matrix = ${JSON.stringify(v)}
+[start]
+state = "a"
+[grid]
+t_end = 7
+samples = 2
+[series]
+order = 6
+basis = "eigen"
+`;
+  const r = await runJson([tempCase(text)]);
+  assertEqual(r.basis, "eigen");
+  const eig = math.eigs(h0) as unknown as { eigenvectors: { value: number; vector: number[] }[] };
+  const vectors = eig.eigenvectors.sort((x, y) => x.value - y.value).map((e) => e.vector);
+  const h = math.add(math.matrix(h0), math.matrix(v));
+  const u = math.expm(math.multiply(math.complex(0, -7), h) as Matrix) as Matrix;
+  const psi = [0, 1, 2].map((i) => math.complex(u.get([i, 0]) as Complex));
+  const labels: string[] = r.levels;
+  vectors.forEach((phi, k) => {
+    const overlap = phi.reduce(
+      (s: Complex, x, i) => math.add(s, math.multiply(x, psi[i]!)) as Complex,
+      math.complex(0, 0),
+    );
+    const expected = Number(math.abs(overlap)) ** 2;
+    assertClose(r.final.exact[labels[k]!], expected, { abs: 1e-10 }, `eigenstate ${k} (${labels[k]})`);
+  });
+  // and they are not the bare populations
+  const bare = await runJson([tempCase(text.replace('basis = "eigen"', ""))]);
+  assert(Math.abs(bare.final.exact.a - r.final.exact[labels[0]!]) > 1e-3, "dressed and bare differ here");
+});

@@ -7,6 +7,7 @@
 
 import { analyse, type Analysis } from "./verdict.ts";
 import { driveSpectra, driveWarning } from "./drive_spectrum.ts";
+import { inChosenBasis } from "./eigenbasis.ts";
 import { type Expectation, expectations } from "./expectations.ts";
 import type { BuiltCase } from "../case/build.ts";
 import { engineModel, inspectCase, type Inspection, normIntegralAt, turningFrom } from "./inspection.ts";
@@ -41,7 +42,11 @@ export function runCase(
   const drives = driveWarning(built, driveSpectra(built, info));
   if (drives && !built.warnings.includes(drives)) built.warnings.push(drives);
   const turning = turningFrom(info);
-  const result = solve(engine, engineModel(built, turning), onProgress);
+  const solved = solve(engine, engineModel(built, turning), onProgress);
+  // From here on the case and result are seen in the basis the case asks for.
+  const chosen = inChosenBasis(engine, built, info, solved);
+  const result = chosen.result;
+  built = chosen.built;
   let sample = result.times.length - 1;
   if (at !== undefined) {
     let best = Infinity;

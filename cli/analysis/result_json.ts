@@ -68,7 +68,7 @@ export function runJson({ built, result, analysis, observed }: RunOutcome): unkn
       units: built.units.description,
     },
     labels,
-    basis: "bare",
+    basis: built.basis,
     levels: built.space.labels,
     times: Array.from(result.times),
     exact,
@@ -78,7 +78,7 @@ export function runJson({ built, result, analysis, observed }: RunOutcome): unkn
       observed.map((e) => [e.name, { exact: e.exact, series: e.series, consistent: e.consistent }]),
     ),
     amplitudes: {
-      // ψ(t) itself, in the case's (bare) basis: the phases include the free evolution under H0
+      // ψ(t) itself, in the basis named by `basis`: the phases include the free evolution under H0
       picture: "schrodinger",
       exact: ampsOf(result.exact),
       series: seriesAmplitudes,

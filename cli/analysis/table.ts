@@ -91,6 +91,9 @@ function header({ built, info, result, analysis }: RunOutcome): string[] {
   return [
     `ordo ${VERSION} · ${built.title}`,
     `units   ${built.units.description}`,
+    built.basis === "eigen"
+      ? "basis   eigen: populations and amplitudes in H0's eigenstates, each named by its largest bare component"
+      : "basis   bare: populations and amplitudes in the case's own labels",
     `scheme  ${result.scheme}; ${stepText}; Dyson order ≤ ${built.model.order}; λ = ${built.model.strength}`,
     `window  t = ${built.model.tStart} … ${built.model.tEnd}${tu}; reporting t = ${
       Number(analysis.time.toPrecision(6))

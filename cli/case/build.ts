@@ -41,6 +41,8 @@ export interface BuildOptions {
   accuracy?: number;
   /** `--targets a,b`. */
   targets?: string[];
+  /** `--basis bare|eigen`. */
+  basis?: "bare" | "eigen";
 }
 
 /** A case ready for the engine, with everything a report needs. */
@@ -54,6 +56,8 @@ export interface BuiltCase {
   tolerance: number;
   /** Relative tolerance on populations (0: none); `tolerance` is then the floor. */
   relativeTolerance: number;
+  /** The basis populations and amplitudes are reported in: the case's own, or H0's eigenbasis. */
+  basis: "bare" | "eigen";
   terms: AssembledTerm[];
   /** `[[observable]]` entries, as matrices in the case's basis. */
   observables: Observable[];
@@ -142,8 +146,10 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
 
   const initial = startState(spec.start, space, constScope, warnings);
   const observables = buildObservables(spec, space, constScope);
+  const basis = options.basis ?? spec.series.basis ?? "bare";
   const targets = options.targets ?? spec.series.targets ?? space.labels;
-  checkTargets(targets, space, options.targets !== undefined);
+  // eigenstates are named after their dominant bare label, known only once H0 is diagonalised: checked then
+  if (basis === "bare") checkTargets(targets, space, options.targets !== undefined);
 
   const of = (name: (typeof sections)[number]) =>
     terms.filter((t) => t.section === name).map((t) => engineTerm(t, relocate));
@@ -169,6 +175,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
     targets,
     tolerance: settings.tolerance,
     relativeTolerance: settings.relativeTolerance,
+    basis,
     terms,
     observables,
     model,
@@ -176,7 +183,8 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   };
 }
 
-function checkTargets(targets: string[], space: Space, fromFlag: boolean): void {
+/** Refuses a target that is not a label of the space. */
+export function checkTargets(targets: string[], space: Space, fromFlag: boolean): void {
   const known = new Set(space.labels);
   targets.forEach((label, k) => {
     if (!known.has(label)) {

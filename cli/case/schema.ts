@@ -96,6 +96,7 @@ export const caseSchema = z.object({
       z.object({ abs: z.number().positive().optional(), rel: z.number().positive().optional() }).strict(),
     ]).optional(),
     strength: z.number().optional(),
+    basis: z.enum(["bare", "eigen"]).optional(),
   }).strict(),
   sweep: z.record(sweepAxisSchema).optional(),
   approx: z.array(approxSchema).optional(),

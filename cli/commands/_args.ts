@@ -20,6 +20,7 @@ export const CASE_FLAGS: Flags = {
   accuracy: { type: "string" },
   set: { type: "string", multiple: true },
   targets: { type: "string" },
+  basis: { type: "string" },
   quiet: { type: "boolean" },
 };
 
@@ -67,8 +68,13 @@ export function buildOptions(values: Record<string, unknown>): BuildOptions {
   if (accuracy !== undefined && !(accuracy > 0 && accuracy < 1)) {
     usage(`--accuracy takes a number between 0 and 1, e.g. 1e-8; got "${values.accuracy}"`);
   }
+  const basis = values.basis as string | undefined;
+  if (basis !== undefined && basis !== "bare" && basis !== "eigen") {
+    usage(`--basis takes bare (the case's labels) or eigen (H0's eigenstates), got "${basis}"`);
+  }
   return {
     set,
+    ...(basis !== undefined ? { basis: basis as "bare" | "eigen" } : {}),
     order: integerFlag(values.order, "--order"),
     steps: integerFlag(values.steps, "--steps"),
     ...(accuracy !== undefined ? { accuracy } : {}),
