@@ -33,6 +33,8 @@ const USAGE: Record<string, string> = {
                   --set name=value    override a param (repeatable)
                   --targets a,b       labels to report (overrides [series] targets)
                   --at t              report at the recorded time nearest to t
+                  --show amplitude    also the amplitude (modulus, phase) of each partial sum
+                  --basis eigen       report in H0's eigenstates (default: bare, the case's labels)
                   --quiet             no progress on stderr
                   --out DIR           also write result.json, populations.csv, report.html`,
   sweep: `  sweep CASE      a parameter sweep over the case's [sweep] grid: points.csv, report.html

@@ -426,3 +426,22 @@ basis = "eigen"
   const bare = await runJson([tempCase(text.replace('basis = "eigen"', ""))]);
   assert(Math.abs(bare.final.exact.a - r.final.exact[labels[0]!]) > 1e-3, "dressed and bare differ here");
 });
+
+Deno.test("run --show amplitude prints each partial sum's modulus and phase; the exact phase is Rabi's", async () => {
+  // Rabi (see above): c_e(T) = −i e^{−iδT/2}(2g/Ω) sin(ΩT/2); δ = 1, g = 0.05, T = 30.
+  const delta = 1, g = 0.05, T = 30, omega = Math.sqrt(delta ** 2 + 4 * g ** 2);
+  const { stdout } = await runOrdo([
+    "run",
+    new URL("../cases/two_level.toml", import.meta.url).pathname,
+    "--show",
+    "amplitude",
+    "--quiet",
+  ]);
+  const m = /amplitude of e \(Schrödinger picture\): exact \|c\| = ([\d.e-]+)\s+(-?[\d.]+) rad/.exec(stdout);
+  assert(m, stdout);
+  const s = Math.sin(omega * T / 2), modulus = (2 * g / omega) * Math.abs(s);
+  let phase = -Math.PI / 2 - delta * T / 2 + (s < 0 ? Math.PI : 0);
+  phase = Math.atan2(Math.sin(phase), Math.cos(phase));
+  assertClose(Number(m[1]), modulus, { rel: 1e-7 }, "|c_e|");
+  assertClose(Number(m[2]), phase, { abs: 1e-6 }, "arg c_e");
+});

@@ -21,9 +21,17 @@ function pop(x: number): string {
   return Math.abs(x) >= 1e-3 ? x.toPrecision(8) : x.toExponential(7);
 }
 
-/** The terminal report: header, one table per target and per observable, verdict. */
-export function formatRun(outcome: RunOutcome): string {
-  const out = [...header(outcome), ...targetTables(outcome), ...observableTables(outcome)];
+/**
+ * The terminal report: header, one table per target (with `show = "amplitude"` also the amplitude of each partial
+ * sum as modulus and phase) and per observable, verdict.
+ */
+export function formatRun(outcome: RunOutcome, show: "population" | "amplitude" = "population"): string {
+  const out = [
+    ...header(outcome),
+    ...targetTables(outcome),
+    ...(show === "amplitude" ? amplitudeTables(outcome) : []),
+    ...observableTables(outcome),
+  ];
   const { built, result, analysis } = outcome;
   out.push("");
   out.push(
@@ -134,6 +142,27 @@ function observableTables({ analysis, observed }: RunOutcome): string[] {
           sci(Math.abs(values[k]! - exact)).padStart(9)
         }  ${pop(o.consistent[n]![k]!).padStart(14)}`,
       );
+    });
+  }
+  return out;
+}
+
+/** Modulus and phase (rad, in (−π, π]) of each target's amplitude, exact and per partial sum, at the reported time. */
+function amplitudeTables({ built, result, analysis }: RunOutcome): string[] {
+  const out: string[] = [];
+  const d = built.model.dim, k = analysis.sample;
+  const polar = (states: Float64Array, a: number) => {
+    const re = states[2 * (k * d + a)]!, im = states[2 * (k * d + a) + 1]!;
+    return `${pop(Math.hypot(re, im)).padEnd(15)}  ${Math.atan2(im, re).toFixed(6).padStart(10)}`;
+  };
+  for (const label of built.targets) {
+    const a = built.space.labels.indexOf(label);
+    out.push("", `amplitude of ${label} (Schrödinger picture): exact |c| = ${polar(result.exact, a)} rad`);
+    out.push("  order  |partial sum|         phase");
+    const partial = new Float64Array(result.exact.length);
+    result.terms.forEach((term, n) => {
+      for (let q = 2 * k * d; q < 2 * (k + 1) * d; q++) partial[q]! += term[q]!;
+      out.push(`  ${String(n).padStart(5)}  ${polar(partial, a)}`);
     });
   }
   return out;

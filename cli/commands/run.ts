@@ -17,6 +17,13 @@ import { OutputError } from "../case/errors.ts";
 import { loadEngine } from "../../engine/mod.ts";
 import { buildOptions, CASE_FLAGS, oneCase, parseOrFail, usage } from "./_args.ts";
 
+/** `--show population` (the default) or `--show amplitude`. */
+function showOf(value: unknown): "population" | "amplitude" {
+  if (value === undefined || value === "population") return "population";
+  if (value === "amplitude") return "amplitude";
+  return usage(`--show takes population or amplitude, got "${value}"`);
+}
+
 /**
  * `ordo run CASE [--json] [--out DIR] [--at t] …`.
  *
@@ -26,6 +33,7 @@ import { buildOptions, CASE_FLAGS, oneCase, parseOrFail, usage } from "./_args.t
 export async function runCommand(args: string[]): Promise<number> {
   const { values, positionals } = parseOrFail(args, {
     json: { type: "boolean" },
+    show: { type: "string" },
     out: { type: "string" },
     at: { type: "string" },
     ...CASE_FLAGS,
@@ -46,7 +54,7 @@ export async function runCommand(args: string[]): Promise<number> {
     progress?.stop();
   }
   if (values.json) console.log(JSON.stringify(runJson(outcome)));
-  else console.log(formatRun(outcome));
+  else console.log(formatRun(outcome, showOf(values.show)));
   if (values.out !== undefined) {
     const { writeReport } = await import("../report/run_report.ts");
     let files: string[];
