@@ -35,6 +35,7 @@ const USAGE: Record<string, string> = {
                   --at t              report at the recorded time nearest to t
                   --show amplitude    also the amplitude (modulus, phase) of each partial sum
                   --basis eigen       report in H0's eigenstates (default: bare, the case's labels)
+                  --picture interaction  amplitudes as e^{iH0 t}ψ (default: schrodinger, ψ itself)
                   --quiet             no progress on stderr
                   --out DIR           also write result.json, populations.csv, report.html`,
   sweep: `  sweep CASE      a parameter sweep over the case's [sweep] grid: points.csv, report.html

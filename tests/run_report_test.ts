@@ -445,3 +445,20 @@ Deno.test("run --show amplitude prints each partial sum's modulus and phase; the
   assertClose(Number(m[1]), modulus, { rel: 1e-7 }, "|c_e|");
   assertClose(Number(m[2]), phase, { abs: 1e-6 }, "arg c_e");
 });
+
+// First order in the interaction picture for a constant coupling switched on at t = 0 (the textbook recursion,
+// NUMERICS.md): c_e⁽¹⁾(t) = −i g ∫₀ᵗ e^{iδs} ds = −(g/δ)(e^{iδt} − 1).
+Deno.test("--picture interaction reports e^{iH0t}ψ: the first-order amplitude is −(g/δ)(e^{iδt} − 1), to 1e-12", async () => {
+  const delta = 1.3, g = 0.02;
+  const r = await runJson([
+    tempCase(twoLevel(delta, g, 17, { samples: 9, order: 2 })),
+    "--picture",
+    "interaction",
+  ]);
+  assertEqual(r.amplitudes.picture, "interaction");
+  r.times.forEach((t: number, k: number) => {
+    const [s1r, s1i] = r.amplitudes.series[1].e[k], [s0r, s0i] = r.amplitudes.series[0].e[k];
+    assertClose(s1r - s0r, -(g / delta) * (Math.cos(delta * t) - 1), { abs: 1e-12 }, `Re c⁽¹⁾(${t})`);
+    assertClose(s1i - s0i, -(g / delta) * Math.sin(delta * t), { abs: 1e-12 }, `Im c⁽¹⁾(${t})`);
+  });
+});

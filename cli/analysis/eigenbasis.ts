@@ -58,3 +58,45 @@ export function inChosenBasis(
     },
   };
 }
+
+/**
+ * The recorded states in the interaction picture, ψ_I(t) = e^{iH0(t−t0)}ψ(t) = U·e^{iE(t−t0)}·U†ψ(t), in the basis
+ * the case is reported in (in the eigenbasis only the phases e^{iE(t−t0)}).
+ *
+ * @param engine a loaded engine
+ * @param built the case (as seen in its reporting basis)
+ * @param info its inspection (H0's eigen-decomposition)
+ * @param result the result (in the reporting basis)
+ * @returns the exact state and the Dyson terms in the interaction picture
+ */
+export function interactionPicture(
+  engine: Engine,
+  built: BuiltCase,
+  info: Inspection,
+  result: Result,
+): { exact: Float64Array; terms: Float64Array[] } {
+  if (info.scheme === "time-dependent-h0") {
+    throw new CaseError(
+      "picture = interaction needs a constant H0",
+      ["series", "picture"],
+      'use picture = "schrodinger" when H0 depends on time',
+    );
+  }
+  const d = built.model.dim, { values, vectors } = info.spectrum[0]!;
+  const u = new ComplexMatrix(d, d, vectors), uDagger = u.dagger().data;
+  const eigen = built.basis === "eigen";
+  const turn = (states: Float64Array) => {
+    const inEigen = eigen ? states.slice() : transformStates(engine, uDagger, states, d);
+    result.times.forEach((t, k) => {
+      const tau = t - built.model.tStart;
+      for (let a = 0; a < d; a++) {
+        const c = Math.cos(values[a]! * tau), s = Math.sin(values[a]! * tau);
+        const p = 2 * (k * d + a), re = inEigen[p]!, im = inEigen[p + 1]!;
+        inEigen[p] = c * re - s * im;
+        inEigen[p + 1] = c * im + s * re;
+      }
+    });
+    return eigen ? inEigen : transformStates(engine, u.data, inEigen, d);
+  };
+  return { exact: turn(result.exact), terms: result.terms.map(turn) };
+}

@@ -7,7 +7,7 @@
 
 import { analyse, type Analysis } from "./verdict.ts";
 import { driveSpectra, driveWarning } from "./drive_spectrum.ts";
-import { inChosenBasis } from "./eigenbasis.ts";
+import { inChosenBasis, interactionPicture } from "./eigenbasis.ts";
 import { type Expectation, expectations } from "./expectations.ts";
 import type { BuiltCase } from "../case/build.ts";
 import { engineModel, inspectCase, type Inspection, normIntegralAt, turningFrom } from "./inspection.ts";
@@ -21,6 +21,8 @@ export interface RunOutcome {
   analysis: Analysis;
   /** The case's observables at every recorded time. */
   observed: Expectation[];
+  /** The states whose amplitudes are reported: the result's own, or in the interaction picture. */
+  amplitudes: { exact: Float64Array; terms: Float64Array[] };
 }
 
 /**
@@ -63,11 +65,9 @@ export function runCase(
     relative: built.relativeTolerance,
   };
   const analysis = analyse(result, built.space.labels, built.targets, x, built.tolerance, sample, resolution);
-  return {
-    built,
-    info,
-    result,
-    analysis,
-    observed: expectations(built.observables, result, built.model.dim),
-  };
+  const amplitudes = built.picture === "interaction"
+    ? interactionPicture(engine, built, info, result)
+    : result;
+  const observed = expectations(built.observables, result, built.model.dim);
+  return { built, info, result, analysis, observed, amplitudes };
 }

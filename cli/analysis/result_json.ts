@@ -9,7 +9,7 @@ import { populationsAt } from "../../engine/mod.ts";
 import { VERSION } from "../base/version.ts";
 
 /** The stable JSON result (PRODUCT.md), plus the analysis. */
-export function runJson({ built, result, analysis, observed }: RunOutcome): unknown {
+export function runJson({ built, result, analysis, observed, amplitudes }: RunOutcome): unknown {
   const d = built.model.dim;
   const labels = built.targets;
   const index = labels.map((l) => built.space.labels.indexOf(l));
@@ -36,11 +36,14 @@ export function runJson({ built, result, analysis, observed }: RunOutcome): unkn
     return perLabel;
   };
   const partial = new Float64Array(result.exact.length);
-  const seriesAmplitudes: Record<string, [number, number][]>[] = [];
   const series = result.terms.map((term) => {
     for (let k = 0; k < partial.length; k++) partial[k]! += term[k]!;
-    seriesAmplitudes.push(ampsOf(partial));
     return popsOf(partial);
+  });
+  const partialAmplitude = new Float64Array(result.exact.length);
+  const seriesAmplitudes = amplitudes.terms.map((term) => {
+    for (let k = 0; k < partialAmplitude.length; k++) partialAmplitude[k]! += term[k]!;
+    return ampsOf(partialAmplitude);
   });
   const exact = popsOf(result.exact);
   const last = (m: Record<string, number[]>) =>
@@ -78,9 +81,9 @@ export function runJson({ built, result, analysis, observed }: RunOutcome): unkn
       observed.map((e) => [e.name, { exact: e.exact, series: e.series, consistent: e.consistent }]),
     ),
     amplitudes: {
-      // ψ(t) itself, in the basis named by `basis`: the phases include the free evolution under H0
-      picture: "schrodinger",
-      exact: ampsOf(result.exact),
+      // schrodinger: ψ(t) itself, phases of the free evolution included; interaction: e^{iH0(t−t0)}ψ(t)
+      picture: built.picture,
+      exact: ampsOf(amplitudes.exact),
       series: seriesAmplitudes,
     },
     warnings: built.warnings,

@@ -148,7 +148,7 @@ function observableTables({ analysis, observed }: RunOutcome): string[] {
 }
 
 /** Modulus and phase (rad, in (−π, π]) of each target's amplitude, exact and per partial sum, at the reported time. */
-function amplitudeTables({ built, result, analysis }: RunOutcome): string[] {
+function amplitudeTables({ built, analysis, amplitudes }: RunOutcome): string[] {
   const out: string[] = [];
   const d = built.model.dim, k = analysis.sample;
   const polar = (states: Float64Array, a: number) => {
@@ -157,10 +157,11 @@ function amplitudeTables({ built, result, analysis }: RunOutcome): string[] {
   };
   for (const label of built.targets) {
     const a = built.space.labels.indexOf(label);
-    out.push("", `amplitude of ${label} (Schrödinger picture): exact |c| = ${polar(result.exact, a)} rad`);
+    const picture = built.picture === "interaction" ? "interaction" : "Schrödinger";
+    out.push("", `amplitude of ${label} (${picture} picture): exact |c| = ${polar(amplitudes.exact, a)} rad`);
     out.push("  order  |partial sum|         phase");
-    const partial = new Float64Array(result.exact.length);
-    result.terms.forEach((term, n) => {
+    const partial = new Float64Array(amplitudes.exact.length);
+    amplitudes.terms.forEach((term, n) => {
       for (let q = 2 * k * d; q < 2 * (k + 1) * d; q++) partial[q]! += term[q]!;
       out.push(`  ${String(n).padStart(5)}  ${polar(partial, a)}`);
     });

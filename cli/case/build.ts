@@ -43,6 +43,8 @@ export interface BuildOptions {
   targets?: string[];
   /** `--basis bare|eigen`. */
   basis?: "bare" | "eigen";
+  /** `--picture schrodinger|interaction`: the picture amplitudes are reported in. */
+  picture?: "schrodinger" | "interaction";
 }
 
 /** A case ready for the engine, with everything a report needs. */
@@ -58,6 +60,8 @@ export interface BuiltCase {
   relativeTolerance: number;
   /** The basis populations and amplitudes are reported in: the case's own, or H0's eigenbasis. */
   basis: "bare" | "eigen";
+  /** The picture amplitudes are reported in (populations are the same in both). */
+  picture: "schrodinger" | "interaction";
   terms: AssembledTerm[];
   /** `[[observable]]` entries, as matrices in the case's basis. */
   observables: Observable[];
@@ -176,6 +180,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
     tolerance: settings.tolerance,
     relativeTolerance: settings.relativeTolerance,
     basis,
+    picture: options.picture ?? spec.series.picture ?? "schrodinger",
     terms,
     observables,
     model,

@@ -97,6 +97,7 @@ export const caseSchema = z.object({
     ]).optional(),
     strength: z.number().optional(),
     basis: z.enum(["bare", "eigen"]).optional(),
+    picture: z.enum(["schrodinger", "interaction"]).optional(),
   }).strict(),
   sweep: z.record(sweepAxisSchema).optional(),
   approx: z.array(approxSchema).optional(),

@@ -21,6 +21,7 @@ export const CASE_FLAGS: Flags = {
   set: { type: "string", multiple: true },
   targets: { type: "string" },
   basis: { type: "string" },
+  picture: { type: "string" },
   quiet: { type: "boolean" },
 };
 
@@ -72,9 +73,14 @@ export function buildOptions(values: Record<string, unknown>): BuildOptions {
   if (basis !== undefined && basis !== "bare" && basis !== "eigen") {
     usage(`--basis takes bare (the case's labels) or eigen (H0's eigenstates), got "${basis}"`);
   }
+  const picture = values.picture as string | undefined;
+  if (picture !== undefined && picture !== "schrodinger" && picture !== "interaction") {
+    usage(`--picture takes schrodinger or interaction, got "${picture}"`);
+  }
   return {
     set,
     ...(basis !== undefined ? { basis: basis as "bare" | "eigen" } : {}),
+    ...(picture !== undefined ? { picture: picture as "schrodinger" | "interaction" } : {}),
     order: integerFlag(values.order, "--order"),
     steps: integerFlag(values.steps, "--steps"),
     ...(accuracy !== undefined ? { accuracy } : {}),
