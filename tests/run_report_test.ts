@@ -462,3 +462,19 @@ Deno.test("--picture interaction reports e^{iH0t}ψ: the first-order amplitude i
     assertClose(s1i - s0i, -(g / delta) * Math.sin(delta * t), { abs: 1e-12 }, `Im c⁽¹⁾(${t})`);
   });
 });
+
+Deno.test("run --out plots each observable (SVG, PNG, report) and writes observables.csv", async () => {
+  const out = Deno.makeTempDirSync();
+  const text = twoLevel(1, 0.3, 20, { coef: "gauss(t, 10, 3)", steps: 400, samples: 21, order: 3 }) + `
+[[observable]]
+name = "sigma_z"
+op = "|e><e| - |g><g|"
+`;
+  assertEqual((await runOrdo(["run", tempCase(text), "--out", out, "--quiet"])).code, 0);
+  assertEqual(XMLValidator.validate(Deno.readTextFileSync(`${out}/observable-sigma_z.svg`)), true);
+  assert(Deno.statSync(`${out}/observable-sigma_z.png`).size > 1000, "a PNG");
+  assert(Deno.readTextFileSync(`${out}/report.html`).includes("observable sigma_z"), "in the report");
+  const csv = Deno.readTextFileSync(`${out}/observables.csv`).trim().split("\n");
+  assertEqual(csv[0], "time,observable,source,value");
+  assertEqual(csv.length, 1 + 21 * (1 + 4 + 4), "exact, 4 partial sums and 4 consistent orders per time");
+});

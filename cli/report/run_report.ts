@@ -106,6 +106,31 @@ export function csvField(s: string): string {
   return /[",\n\r']/.test(safe) ? `"${safe.replace(/"/g, '""')}"` : safe;
 }
 
+/** ⟨O⟩ of an observable against time: exact and per partial sum. */
+function observablePlot(
+  outcome: RunOutcome,
+  times: number[],
+  o: RunOutcome["observed"][number],
+): Promise<string> {
+  const unit = outcome.built.units.time ? ` (${outcome.built.units.time})` : "";
+  const orders = o.series.map((_, n) => `order ${n}`);
+  const points: Point[] = [];
+  o.series.forEach((values, n) =>
+    times.forEach((t, k) => points.push({ x: t, y: values[k]!, series: `order ${n}` }))
+  );
+  times.forEach((t, k) => points.push({ x: t, y: o.exact[k]!, series: "exact" }));
+  return lineSvg({
+    title: `⟨${o.name}⟩: exact and partial sums`,
+    xTitle: `time${unit}`,
+    yTitle: `⟨${o.name}⟩`,
+    points,
+    order: ["exact", ...orders],
+    black: ["exact"],
+    dashed: ["exact"],
+    dashOdd: true,
+  });
+}
+
 /** The plots of one target: populations, error against order, error against time. */
 async function targetPlots(outcome: RunOutcome, json: ResultJson, label: string): Promise<string[]> {
   const unit = outcome.built.units.time ? ` (${outcome.built.units.time})` : "";
@@ -214,6 +239,16 @@ export async function writeReport(outcome: RunOutcome, dir: string): Promise<str
     ];
     const names = ["populations", "error-by-order", "error-by-time"];
     for (const [k, svg] of svgs.entries()) await figures.add(`${slug(label)}-${names[k]}`, svg, captions[k]!);
+  }
+  for (const o of outcome.observed.slice(0, MAX_PLOTTED_TARGETS)) {
+    const svg = await observablePlot(outcome, json.times, o);
+    sections.push(`<h2>observable ${escapeHtml(o.name)}</h2>\n<figure>${svg}</figure>`);
+    await figures.add(
+      `observable-${slug(o.name)}`,
+      svg,
+      `⟨${o.name}⟩ against time (${time}): exact (black, dashed) and for the partial sums ψ0 + … + ψn, colour by ` +
+        "order n (odd orders dashed).",
+    );
   }
   const html = `<!doctype html>
 <html lang="en">
