@@ -8,7 +8,7 @@
 
 import { assert } from "./assert.ts";
 import { assertClose, testEngine } from "./helpers.ts";
-import { drivenOscillator, glauberPopulations, solveText } from "./engine_helpers.ts";
+import { drivenOscillator, glauberPopulations, solveText, twoLevel } from "./engine_helpers.ts";
 import { readCase } from "../cli/case/parse.ts";
 import { buildCase, type BuiltCase } from "../cli/case/build.ts";
 import { parseCase } from "../cli/case/parse.ts";
@@ -18,25 +18,8 @@ import { populationsAt, type Result, solve } from "../engine/mod.ts";
 const root = new URL("../", import.meta.url);
 const ACCURACY = 1e-8;
 
-const gaussianTwoLevel = `
-[params]
-delta = 0.8
-g = 0.2
-[levels]
-names = ["g", "e"]
-[unperturbed]
-op = "delta*|e><e|"
-[perturbation]
-op = "g*|e><g| + h.c."
-coef = "gauss(t, 10, 2.5)"
-[start]
-state = "g"
-[grid]
-t_end = 20
-samples = 11
-[series]
-order = 8
-`;
+// A Gaussian-driven two-level system (δ = 0.8, g = 0.2, pulse at t = 10 of width 2.5), steps from the accuracy.
+const gaussianTwoLevel = twoLevel(0.8, 0.2, 20, { coef: "gauss(t, 10, 2.5)", samples: 11, order: 8 });
 
 /** The stepped examples and two more stepped cases (a Gaussian-driven two-level system, a complex drive). */
 function cases(): BuiltCase[] {
@@ -46,7 +29,7 @@ function cases(): BuiltCase[] {
     buildCase(readCase(new URL("tests/fixtures/hostile/explicit_partner.toml", root).pathname), {
       accuracy: ACCURACY,
     }),
-    buildCase(parseCase(gaussianTwoLevel, "gaussian.toml")),
+    buildCase(parseCase(gaussianTwoLevel, "gaussian.toml"), { accuracy: ACCURACY }),
   ];
 }
 
