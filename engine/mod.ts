@@ -423,17 +423,9 @@ export function eigh(
  * @returns A·B, row-major, interleaved
  */
 export function multiply(engine: Engine, a: Float64Array, b: Float64Array, d: number): Float64Array {
-  const e = engine.exports;
-  e.arenaReset();
-  const pa = e.arenaAlloc(16 * d * d), px = e.arenaAlloc(16 * d * d), py = e.arenaAlloc(16 * d * d);
-  if (!pa || !px || !py) check(1);
-  new Float64Array(e.memory.buffer, pa, 2 * d * d).set(a);
-  const x = new Float64Array(e.memory.buffer, px, 2 * d * d);
-  transposeInto(x, b, d);
-  new Float64Array(e.memory.buffer, py, 2 * d * d).fill(0);
-  e.zgemvSimd(pa, d, px, py, d, 1, 0);
-  const out = new Float64Array(2 * d * d);
-  transposeInto(out, new Float64Array(e.memory.buffer, py, 2 * d * d), d);
+  const columns = new Float64Array(2 * d * d), out = new Float64Array(2 * d * d);
+  transposeInto(columns, b, d);
+  transposeInto(out, transformStates(engine, a, columns, d), d);
   return out;
 }
 

@@ -35,7 +35,7 @@ export interface NormProfile {
  */
 export function normProfile(engine: Engine, terms: AssembledTerm[], model: Model): NormProfile {
   const parts = boundParts(engine, terms.filter((t) => t.section === "perturbation"), model.dim);
-  const points = Math.min(200_001, Math.max(4001, 4 * model.steps + 1));
+  const points = profilePoints(model);
   const span = model.tEnd - model.tStart;
   const dt = span / (points - 1);
   let integral = 0, vMax = 0, previous = 0;
@@ -54,6 +54,11 @@ export function normProfile(engine: Engine, terms: AssembledTerm[], model: Model
     previous = norm;
   }
   return { vMax, normIntegral: integral, normCumulative, normTimes, coefRate: rates.fastest() };
+}
+
+/** Times the coefficients are sampled at for the norm profile and the rates: 4 per step, 4001 … 200001. */
+function profilePoints(model: Model): number {
+  return Math.min(200_001, Math.max(4001, 4 * model.steps + 1));
 }
 
 /** A piece of the bound ‖V(t)‖ ≤ Σ |weight(t)|·norm. */
@@ -118,7 +123,7 @@ function operatorNorm(engine: Engine, m: ComplexMatrix): number {
  */
 export function coefficientRate(terms: AssembledTerm[], model: Model): number {
   if (!terms.some((t) => t.coef?.usesTime)) return 0;
-  const points = Math.min(200_001, Math.max(4001, 4 * model.steps + 1));
+  const points = profilePoints(model);
   const span = model.tEnd - model.tStart;
   const rates = coefficientRates(terms);
   for (let k = 0; k < points; k++) {

@@ -12,7 +12,7 @@ import type { CheckReport } from "../sweep/approximations.ts";
 import { renderSvg } from "./plots.ts";
 import { escapeHtml } from "./html.ts";
 import { Figures, slug } from "./figures.ts";
-import { csvField } from "./run_report.ts";
+import { csvField } from "../base/csv.ts";
 import { VERSION } from "../base/version.ts";
 
 /** The points file: header first, one row per formula and point. */

@@ -10,6 +10,7 @@
 import { join } from "node:path";
 import { lineSvg, type Point } from "./plots.ts";
 import { escapeHtml } from "./html.ts";
+import { csvField } from "../base/csv.ts";
 import { Figures, slug } from "./figures.ts";
 import type { RunOutcome } from "../analysis/outcome.ts";
 import { formatRun } from "../analysis/table.ts";
@@ -94,16 +95,6 @@ export function observablesCsv(outcome: RunOutcome, times: number[]): string {
     }
   });
   return lines.join("\n") + "\n";
-}
-
-/**
- * A text cell: a cell that begins with = + - @ (or a tab or return) gets a leading ' so that spreadsheets
- * show it rather than run it as a formula (common practice against CSV formula injection); cells with a
- * comma, quote or line break are quoted.
- */
-export function csvField(s: string): string {
-  const safe = /^[=+\-@\t\r]/.test(s) ? `'${s}` : s;
-  return /[",\n\r']/.test(safe) ? `"${safe.replace(/"/g, '""')}"` : safe;
 }
 
 /** ⟨O⟩ of an observable against time: exact and per partial sum. */

@@ -14,6 +14,7 @@ import { parseCase, withLocation } from "../case/parse.ts";
 import { CaseError } from "../case/errors.ts";
 import { compileExpression } from "../case/expression.ts";
 import { STRENGTH } from "../case/params.ts";
+import { csvField } from "../base/csv.ts";
 import { type Engine, populationsAt, type Result, solve } from "../../engine/mod.ts";
 
 /** What every point shares. */
@@ -190,7 +191,7 @@ export function csvHeader(axes: string[], targets: string[], order: number): str
     for (let n = 0; n <= order; n++) cols.push(`order${n}:${t}`);
   }
   for (const t of targets) cols.push(`min_order:${t}`);
-  return cols.map(csvQuote).join(",");
+  return cols.map(csvField).join(",");
 }
 
 /** One CSV row (numbers in shortest round-trip form). */
@@ -204,8 +205,4 @@ export function csvRow(r: PointResult): string {
 /** The identity of a point in a CSV row: its swept values as written. */
 export function rowKey(row: string, axes: number): string {
   return row.split(",").slice(0, axes).join(",");
-}
-
-function csvQuote(s: string): string {
-  return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
 }
