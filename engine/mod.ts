@@ -30,6 +30,8 @@
 import {
   CHUNK_STEPS,
   GAUSS_NODES,
+  type Method,
+  methodFor,
   type Model,
   type OperatorTerm,
   type Scheme,
@@ -67,6 +69,8 @@ interface Exports {
   stepError(): number;
   rejectStep(): void;
   sampleWithin(tau: number, h: number): number;
+  rkStep(tau: number, h: number): number;
+  rkSample(tau: number, h: number): number;
   setTaylorTolerance(tolerance: number): void;
   takeKernelFlops(): number;
   recordSample(tau: number): void;
@@ -170,6 +174,8 @@ async function readWasm(): Promise<Uint8Array<ArrayBuffer>> {
 /** What {@link solve} returns. States are interleaved (re, im), sample-major: sample k at offset 2·d·k. */
 export interface Result {
   scheme: Scheme;
+  /** How the steps were taken (undefined for the time-independent scheme). */
+  method?: Method;
   /** Integrator steps actually taken (0 for the time-independent scheme). */
   steps: number;
   /** Integrator step size (the sample interval for the time-independent scheme). */
@@ -261,6 +267,7 @@ export function solve(
   const finish = (steps: number, stepSize: number, checkDivisor: number): Result =>
     finite({
       scheme,
+      method: methodFor(model),
       steps,
       stepSize,
       times,
@@ -492,74 +499,149 @@ const ROUND_OFF = 4e-15;
 /** The most steps an accuracy-driven run may take before it is refused. */
 const MAX_ADAPTIVE_STEPS = 1e8;
 
+/** One way of taking accuracy-driven steps (see {@link adaptive}). */
+interface Stepper {
+  /** Steps of the method one attempt takes (2 for step doubling). */
+  stepsPerAttempt: number;
+  /** The controller's exponent: 1/(q+1) for an error estimate of order q. */
+  exponent: number;
+  /** The longest attempt allowed. */
+  longest: number;
+  /** Attempts a step of `length` from t; returns its local error estimate. */
+  attempt(t: number, length: number): number;
+  /** Called with the error the next attempt may make. */
+  allow?(allowed: number): void;
+  /** The state at `at` inside the accepted attempt from t, into the engine's companion buffer. */
+  sampleAt(t: number, at: number): void;
+}
+
+interface AdaptiveIo {
+  fill: Fill;
+  fine: Float64Array;
+  coarse: Float64Array;
+  store: (k: number, tau: number, inside?: boolean) => void;
+  onProgress?: (fraction: number) => void;
+}
+
 /**
- * Accuracy-driven stepping: macro steps of 2h with a step-doubling error estimate on the whole stacked state
- * (engine `macroStep`), the step size chosen by the standard controller h ← h·0.9·(allowed/err)^(1/5)
- * (4th-order method; Hairer, Nørsett & Wanner, Solving ODEs I, §II.4), with the error allowed per step
- * proportional to its length so that the errors of a whole run add up to at most half the requested
- * accuracy. Recorded times inside a step get their states by two steps from its start (so they do not
- * shorten the steps); the error estimate recorded there is the one at the step's start.
- *
- * @returns the number of steps of size h taken
+ * Step doubling with the 4th-order exponential integrator (the Schrödinger-picture scheme): an attempt of 2h is
+ * two steps of h and, from the same start, one of 2h (engine `macroStep`); the estimate ‖Ψ_h − Ψ_2h‖/15 is
+ * Richardson's for a 4th-order method.
  */
-function adaptive(
-  e: Exports,
-  model: Model,
-  io: {
-    fill: Fill;
-    fine: Float64Array;
-    coarse: Float64Array;
-    store: (k: number, tau: number, inside?: boolean) => void;
-    onProgress?: (fraction: number) => void;
-  },
-): number {
-  const span = model.tEnd - model.tStart;
-  const accuracy = model.accuracy!;
+function stepDoubling(e: Exports, model: Model, io: AdaptiveIo): Stepper {
   const [c1, c2] = GAUSS_NODES;
   const fineTimes = new Float64Array(4), coarseTimes = new Float64Array(2);
-  const interval = span / (model.samples - 1);
-  const sampleTime = (k: number) => (k === model.samples - 1 ? model.tEnd : model.tStart + k * interval);
-  const near = 1e-14 * span;
-  const longest = model.maxStep ?? Infinity;
-  let h = Math.min(span / 16, longest) / 2;
-  let steps = 0, tries = 0, next = 1, t = model.tStart;
   const twoSteps = (from: number, step: number) => {
     fineTimes.set([from + c1 * step, from + c2 * step, from + step + c1 * step, from + step + c2 * step]);
     io.fill(io.fine, fineTimes, 4);
   };
+  return {
+    stepsPerAttempt: 2,
+    exponent: 1 / 5,
+    longest: 2 * (model.maxStep ?? Infinity),
+    attempt(t, length) {
+      twoSteps(t, length / 2);
+      coarseTimes.set([t + c1 * length, t + c2 * length]);
+      io.fill(io.coarse, coarseTimes, 2);
+      check(e.macroStep(t - model.tStart, length / 2));
+      return e.stepError();
+    },
+    // The next step's Taylor series may stop at 1% of the error this step may make (never above 1e-12).
+    allow: (allowed) => e.setTaylorTolerance(Math.min(1e-12, 0.01 * allowed)),
+    sampleAt(t, at) {
+      twoSteps(t, (at - t) / 2);
+      check(e.sampleWithin(t - model.tStart, (at - t) / 2));
+    },
+  };
+}
+
+/** The Dormand–Prince 8(5,3) nodes c_i of its twelve stages (engine `rkStep`). */
+const RK_NODES = [
+  0,
+  0.0526001519587677318785587544488,
+  0.0789002279381515978178381316732,
+  0.118350341907227396726757197510,
+  0.281649658092772603273242802490,
+  1 / 3,
+  0.25,
+  4 / 13,
+  127 / 195,
+  0.6,
+  6 / 7,
+  1,
+];
+
+/**
+ * The embedded Runge–Kutta pair (the accuracy-driven interaction-picture scheme): one step per attempt, its
+ * combined 5th/3rd-order estimate behaving as h⁸ (Hairer, Nørsett & Wanner, Solving ODEs I, §II.10).
+ */
+function rungeKutta(e: Exports, model: Model, io: AdaptiveIo): Stepper {
+  const times = new Float64Array(RK_NODES.length);
+  const stages = (t: number, step: number) => {
+    RK_NODES.forEach((c, i) => (times[i] = t + c * step));
+    io.fill(io.fine, times, RK_NODES.length);
+  };
+  return {
+    stepsPerAttempt: 1,
+    exponent: 1 / 8,
+    longest: model.maxStep ?? Infinity,
+    attempt(t, length) {
+      stages(t, length);
+      check(e.rkStep(t - model.tStart, length));
+      return e.stepError();
+    },
+    sampleAt(t, at) {
+      stages(t, at - t);
+      check(e.rkSample(t - model.tStart, at - t));
+    },
+  };
+}
+
+/**
+ * Accuracy-driven stepping on the whole stacked state (the exact state and every Dyson term): attempts chosen by
+ * the standard controller length ← length·0.9·(allowed/err)^exponent (Hairer, Nørsett & Wanner, Solving ODEs I,
+ * §II.4), with the error allowed per step proportional to its length so that the errors of a whole run add up to
+ * at most half the requested accuracy. Recorded times inside a step get their states by a step from its start
+ * (so they do not shorten the steps); the error estimate recorded there is the one at the step's start.
+ *
+ * @returns the number of steps taken
+ */
+function adaptive(e: Exports, model: Model, io: AdaptiveIo): number {
+  const stepper = methodFor(model) === "runge-kutta-8"
+    ? rungeKutta(e, model, io)
+    : stepDoubling(e, model, io);
+  const span = model.tEnd - model.tStart;
+  const accuracy = model.accuracy!;
+  const interval = span / (model.samples - 1);
+  const sampleTime = (k: number) => (k === model.samples - 1 ? model.tEnd : model.tStart + k * interval);
+  const near = 1e-14 * span;
+  let length = Math.min(span / 16, stepper.longest);
+  let steps = 0, tries = 0, next = 1, t = model.tStart;
   while (next < model.samples) {
-    const big = Math.min(2 * h, model.tEnd - t), step = big / 2;
-    twoSteps(t, step);
-    coarseTimes.set([t + c1 * big, t + c2 * big]);
-    io.fill(io.coarse, coarseTimes, 2);
-    check(e.macroStep(t - model.tStart, step));
+    const big = Math.min(length, model.tEnd - t);
     // Below round-off (a few 1e-15 on unit vectors) no step size does better: accept, and let the
     // accumulated estimate say what it cost.
-    const error = e.stepError(), allowed = Math.max(0.5 * accuracy * big / span, ROUND_OFF);
-    // The next step's Taylor series may stop at 1% of the error this step may make (never above 1e-12).
-    e.setTaylorTolerance(Math.min(1e-12, 0.01 * allowed));
-    const factor = error > 0 ? Math.min(4, Math.max(0.2, 0.9 * (allowed / error) ** 0.2)) : 4;
+    const error = stepper.attempt(t, big), allowed = Math.max(0.5 * accuracy * big / span, ROUND_OFF);
+    stepper.allow?.(allowed);
+    const factor = error > 0 ? Math.min(4, Math.max(0.2, 0.9 * (allowed / error) ** stepper.exponent)) : 4;
     if (error <= allowed) {
       const end = model.tEnd - (t + big) <= near ? model.tEnd : t + big;
-      // Recorded times inside the step: two steps from its start to each of them, without shortening it.
       for (; next < model.samples && sampleTime(next) < end - near; next++) {
-        const at = sampleTime(next);
-        twoSteps(t, (at - t) / 2);
-        check(e.sampleWithin(t - model.tStart, (at - t) / 2));
-        io.store(next, at - model.tStart, true);
+        stepper.sampleAt(t, sampleTime(next));
+        io.store(next, sampleTime(next) - model.tStart, true);
       }
       t = end;
-      steps += 2;
+      steps += stepper.stepsPerAttempt;
       if (next < model.samples && sampleTime(next) - t <= near) {
         io.store(next++, sampleTime(next - 1) - model.tStart);
       }
       io.onProgress?.((t - model.tStart) / span);
-      if (big === 2 * h || factor < 1) h = Math.min(step * factor, longest);
+      if (big === length || factor < 1) length = Math.min(big * factor, stepper.longest);
     } else {
       e.rejectStep();
-      h = Math.min(step * factor, longest);
+      length = Math.min(big * factor, stepper.longest);
     }
-    if (++tries > MAX_ADAPTIVE_STEPS || !(h > 1e-13 * span)) {
+    if (++tries > MAX_ADAPTIVE_STEPS || !(length > 2e-13 * span)) {
       throw new EngineError(
         `accuracy ${accuracy} would take more than ${
           MAX_ADAPTIVE_STEPS.toExponential(0)

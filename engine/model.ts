@@ -81,6 +81,37 @@ export function schemeFor(model: Model): Scheme {
   return "time-independent";
 }
 
+/**
+ * How a stepped scheme steps. Fixed steps and the Schrödinger-picture scheme use the 4th-order commutator-free
+ * exponential integrator (norm-preserving, step doubling for the error); an accuracy-driven interaction-picture
+ * run uses the Dormand–Prince 8(5,3) Runge–Kutta pair with its embedded error estimate, whose twelve stages per
+ * step sample the couplings far more densely.
+ */
+export type Method = "commutator-free-4" | "runge-kutta-8";
+
+/** How each method is named in reports. */
+export const METHOD_NAMES: Record<Method, string> = {
+  "commutator-free-4": "4th-order commutator-free exponential integrator",
+  "runge-kutta-8": "Dormand–Prince 8(5,3) Runge–Kutta pair",
+};
+
+/** The stepping method of a model (undefined for the time-independent scheme, which takes no steps). */
+export function methodFor(model: Model): Method | undefined {
+  const scheme = schemeFor(model);
+  if (scheme === "time-independent") return undefined;
+  return scheme === "interaction-picture" && model.accuracy !== undefined
+    ? "runge-kutta-8"
+    : "commutator-free-4";
+}
+
+/**
+ * The largest phase per step (rad) each method resolves: the fastest coupled Bohr frequency or coefficient rate
+ * times the step must stay below it, or the samples of the coupling may alias and the error estimate cannot
+ * tell. Two Gauss nodes per 4th-order step: 1 rad; twelve stages per Runge–Kutta step: 3 rad (still six samples
+ * per radian, where the exponential integrator has two).
+ */
+export const PHASE_PER_STEP_LIMIT: Record<Method, number> = { "commutator-free-4": 1, "runge-kutta-8": 3 };
+
 /** Integrator steps per recorded interval: enough for the request, even (for step doubling). */
 export function stepsPerSample(model: Pick<Model, "steps" | "samples">): number {
   const per = Math.max(1, Math.ceil(model.steps / (model.samples - 1)));

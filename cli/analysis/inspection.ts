@@ -13,7 +13,15 @@ import { assembleAt } from "../case/terms.ts";
 import { bohrFrequencies, type BohrFrequency, spectrum } from "./spectra.ts";
 import { coefficientRate, type NormProfile, normProfile } from "./norms.ts";
 import { MAX_PHASE_PER_STEP } from "./verdict.ts";
-import { type Engine, estimateMemory, schemeFor, stepsPerSample } from "../../engine/mod.ts";
+import {
+  type Engine,
+  estimateMemory,
+  methodFor,
+  type Model,
+  PHASE_PER_STEP_LIMIT,
+  schemeFor,
+  stepsPerSample,
+} from "../../engine/mod.ts";
 
 export { normIntegralAt } from "./norms.ts";
 
@@ -86,18 +94,23 @@ export function turningOf(engine: Engine, built: BuiltCase): Turning {
 
 /**
  * The engine's model of a case for one run: H0's eigen-decomposition handed over (so that it is computed once),
- * and for an accuracy-driven run the longest step: a quarter radian of the fastest phase (where step doubling
- * still reads the error honestly).
+ * and for an accuracy-driven run the longest step: a quarter of the phase per step its method resolves (where
+ * step doubling still reads the error honestly), or half of it for the Runge–Kutta pair, whose twelve stages
+ * sample each step densely.
  */
 export function engineModel(built: BuiltCase, turning: Turning): BuiltCase["model"] {
   const model = { ...built.model };
   if (turning.eigen) {
     model.unperturbedEigen = { values: turning.eigen.values, vectors: turning.eigen.vectors };
   }
-  if (model.accuracy !== undefined && turning.rate > 0) {
-    model.maxStep = 0.25 * MAX_PHASE_PER_STEP / turning.rate;
-  }
+  if (model.accuracy !== undefined && turning.rate > 0) model.maxStep = longestPhase(model) / turning.rate;
   return model;
+}
+
+/** The phase (rad) an accuracy-driven run may let the fastest rate advance in one step. */
+export function longestPhase(model: Model): number {
+  const method = methodFor(model);
+  return method === "runge-kutta-8" ? 0.5 * PHASE_PER_STEP_LIMIT[method] : 0.25 * MAX_PHASE_PER_STEP;
 }
 
 /** What {@link turningOf} says, from an inspection already made. */

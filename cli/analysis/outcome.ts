@@ -5,7 +5,7 @@
  * @module
  */
 
-import { analyse, type Analysis } from "./verdict.ts";
+import { analyse, type Analysis, resolutionOf } from "./verdict.ts";
 import { driveSpectra, driveWarning } from "./drive_spectrum.ts";
 import { inChosenBasis, interactionPicture } from "./eigenbasis.ts";
 import { type Expectation, expectations } from "./expectations.ts";
@@ -58,12 +58,7 @@ export function runCase(
   }
   // The tail bound at the reported time uses x = ∫‖λV‖ds up to that time.
   const x = normIntegralAt(info, result.times[sample]!);
-  const stepped = result.scheme !== "time-independent";
-  const resolution = {
-    phasePerStep: turning.rate * result.stepSize,
-    accuracy: stepped ? built.model.accuracy : undefined,
-    relative: built.relativeTolerance,
-  };
+  const resolution = resolutionOf(result, turning.rate, built.model.accuracy, built.relativeTolerance);
   const analysis = analyse(result, built.space.labels, built.targets, x, built.tolerance, sample, resolution);
   const amplitudes = built.picture === "interaction"
     ? interactionPicture(engine, built, info, result)

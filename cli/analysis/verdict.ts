@@ -8,7 +8,7 @@
  * @module
  */
 
-import type { Result } from "../../engine/mod.ts";
+import { PHASE_PER_STEP_LIMIT, type Result } from "../../engine/mod.ts";
 
 /** One row of the order table for one target. */
 export interface OrderRow {
@@ -73,6 +73,33 @@ export interface Resolution {
    * larger of the two), since step doubling can under-read the error where a coefficient is not smooth.
    */
   accuracy?: number;
+  /** The phase per step the stepping method resolves (default {@link MAX_PHASE_PER_STEP}). */
+  phaseLimit?: number;
+  /**
+   * The norm drift the method may show without anything being wrong (default {@link MAX_NORM_DRIFT}; a
+   * Runge–Kutta run, which does not preserve the norm exactly, may drift by its accuracy).
+   */
+  driftLimit?: number;
+}
+
+/**
+ * How a run resolved its Hamiltonian: its phase per step against its method's limit, its accuracy, and the norm
+ * drift its method allows.
+ *
+ * @param result the engine's result
+ * @param rate the fastest coupled phase or coefficient rate (rad per time unit)
+ * @param accuracy the accuracy the steps were chosen for, if any
+ * @param relative the relative tolerance on populations, if any
+ */
+export function resolutionOf(result: Result, rate: number, accuracy?: number, relative?: number): Resolution {
+  const method = result.method;
+  return {
+    phasePerStep: rate * result.stepSize,
+    accuracy: result.scheme === "time-independent" ? undefined : accuracy,
+    relative,
+    phaseLimit: method ? PHASE_PER_STEP_LIMIT[method] : MAX_PHASE_PER_STEP,
+    driftLimit: method === "runge-kutta-8" ? Math.max(MAX_NORM_DRIFT, accuracy ?? 0) : MAX_NORM_DRIFT,
+  };
 }
 
 /** Phase per step above which a stepped scheme cannot resolve the fastest oscillation (sampling, not accuracy). */
@@ -261,14 +288,15 @@ function normDriftOf(states: Float64Array, d: number): number {
 /** The reasons a run cannot judge orders, however small its step-doubling estimate. */
 function distrust(resolution: Resolution, normDrift: number): string[] {
   const reasons: string[] = [];
-  if (!(resolution.phasePerStep <= MAX_PHASE_PER_STEP)) {
+  const phaseLimit = resolution.phaseLimit ?? MAX_PHASE_PER_STEP;
+  if (!(resolution.phasePerStep <= phaseLimit)) {
     reasons.push(
       `the steps cannot resolve the fastest phase: ${resolution.phasePerStep.toPrecision(3)} rad per step ` +
-        `(at most ${MAX_PHASE_PER_STEP} is needed); the exact populations may be aliased and the step-doubling ` +
+        `(at most ${phaseLimit} is needed); the exact populations may be aliased and the step-doubling ` +
         "estimate cannot tell; raise [grid] steps (see `ordo inspect`)",
     );
   }
-  if (!(normDrift <= MAX_NORM_DRIFT)) {
+  if (!(normDrift <= (resolution.driftLimit ?? MAX_NORM_DRIFT))) {
     reasons.push(
       `the exact state's norm drifts from 1 by ${normDrift.toPrecision(3)}, more than round-off: ` +
         "H is not Hermitian at some time, or the numbers overflowed",

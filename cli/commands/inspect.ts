@@ -11,13 +11,13 @@ import {
   engineModel,
   inspectCase,
   type Inspection,
+  longestPhase,
   PHASE_PER_STEP,
   turningFrom,
 } from "../analysis/inspection.ts";
-import { MAX_PHASE_PER_STEP } from "../analysis/verdict.ts";
 import { DEFAULT_ACCURACY } from "../case/grid.ts";
 import { driveSpectra, type DriveSpectrum, driveWarning } from "../analysis/drive_spectrum.ts";
-import { type Engine, loadEngine, solve } from "../../engine/mod.ts";
+import { type Engine, loadEngine, METHOD_NAMES, methodFor, solve } from "../../engine/mod.ts";
 import { buildOptions, oneCase, parseOrFail } from "./_args.ts";
 
 /**
@@ -170,9 +170,9 @@ function describeSteps(
   if (model.accuracy !== undefined && controller) {
     return [
       `  steps      chosen by the engine for accuracy ${model.accuracy}: ${controller.steps} steps ` +
-      `(mean h = ${fmt(span / controller.steps)}${tu}; phase per step kept ≤ ${
-        0.25 * MAX_PHASE_PER_STEP
-      } rad)`,
+      `(${METHOD_NAMES[methodFor(model)!]}; mean h = ${
+        fmt(span / controller.steps)
+      }${tu}; phase per step kept ≤ ${longestPhase(model)} rad)`,
     ];
   }
   const phase = info.omegaMax * info.stepSize;

@@ -7,7 +7,7 @@
  * @module
  */
 
-import { analyse, type Resolution } from "../analysis/verdict.ts";
+import { analyse, type Resolution, resolutionOf } from "../analysis/verdict.ts";
 import { engineModel, turningOf } from "../analysis/inspection.ts";
 import { buildCase, type BuildOptions, type BuiltCase } from "../case/build.ts";
 import { parseCase, withLocation } from "../case/parse.ts";
@@ -82,11 +82,13 @@ export class PointEvaluator {
     const turning = turningOf(this.#engine, built);
     const result = solve(this.#engine, engineModel(built, turning));
     return {
-      ...summarise(index, values, built, result, {
-        phasePerStep: turning.rate * result.stepSize,
-        accuracy: result.scheme === "time-independent" ? undefined : built.model.accuracy,
-        relative: built.relativeTolerance,
-      }),
+      ...summarise(
+        index,
+        values,
+        built,
+        result,
+        resolutionOf(result, turning.rate, built.model.accuracy, built.relativeTolerance),
+      ),
       formulas: this.#formulas(built),
     };
   }
@@ -138,11 +140,7 @@ export class PointEvaluator {
         check: exactRun.check,
       };
       const point = { ...built, model: { ...built.model, strength: lambda } };
-      const resolution = {
-        phasePerStep: turning.rate * exactRun.stepSize,
-        accuracy: exactRun.scheme === "time-independent" ? undefined : built.model.accuracy,
-        relative: built.relativeTolerance,
-      };
+      const resolution = resolutionOf(exactRun, turning.rate, built.model.accuracy, built.relativeTolerance);
       onPoint({ ...summarise(index, values, point, result, resolution), formulas: this.#formulas(point) });
     }
   }

@@ -20,6 +20,8 @@ export {
   record,
   recordSample,
   rejectStep,
+  rkSample,
+  rkStep,
   sampleWithin,
   setTaylorTolerance,
   takeKernelFlops,

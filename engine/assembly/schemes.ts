@@ -124,8 +124,9 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32): 
   y = arenaAlloc(mat);
   x0a = arenaAlloc(mat);
   x0b = arenaAlloc(mat);
-  series = arenaAlloc(<usize>r * vec);
-  exact = arenaAlloc(vec << 1);
+  // series, exact state and its error vector contiguous: the Runge–Kutta path treats them as one stacked state
+  series = arenaAlloc(<usize>(r + 2) * vec);
+  exact = series + <usize>r * vec;
   errv = exact + vec;
   check = arenaAlloc(vec);
   amp2 = arenaAlloc(vec);
@@ -141,9 +142,16 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32): 
   save = arenaAlloc(<usize>(r + 2) * vec);
   comp = arenaAlloc(<usize>(r + 1) * vec);
   work = arenaAlloc(<usize>d << 6);
+  rkStage = arenaAlloc(<usize>RK_STAGES * <usize>(r + 1) * vec);
+  rkZ = arenaAlloc(<usize>(r + 1) * vec);
+  rkU = arenaAlloc(<usize>(r + 1) * vec);
+  rkP = arenaAlloc(<usize>(r + 1) * vec);
+  rkE5 = arenaAlloc(<usize>(r + 1) * vec);
+  rkE3 = arenaAlloc(<usize>(r + 1) * vec);
+  startRateValid = false;
   adaptive = false;
   tiny = TINY;
-  return coefCoarse == 0 || work == 0 ? ERR_MEMORY : ERR_OK;
+  return coefCoarse == 0 || work == 0 || rkE3 == 0 ? ERR_MEMORY : ERR_OK;
 }
 
 /** Buffer addresses for TypeScript. */
@@ -648,6 +656,7 @@ export function recordSample(tau: f64): void {
 export function rejectStep(): void {
   memory.copy(series, save, <usize>r * vec);
   memory.copy(exact, save + <usize>r * vec, vec << 1);
+  startRateValid = true; // stage 0 of the rejected step is the derivative at the restored start
 }
 
 /**
@@ -737,4 +746,202 @@ export function record(tau: f64): void {
   memory.copy(tmp + <usize>(r + 1) * vec, check, vec);
   memory.fill(rec, 0, <usize>n * vec);
   zgemv(basis, d, tmp, rec, n, 1.0, 0.0);
+}
+
+// ------------------------------------------- embedded Runge–Kutta (interaction picture, accuracy-driven runs)
+//
+// The stacked interaction-picture equations c_n' = −i V_I(t) c_{n−1} (n = 1…N, c_0 constant) and
+// c' = −iλ V_I(t) c for the exact state, V_I(t) = e^{iEt} (Σ_k f_k(t) W_k) e^{−iEt}, integrated by the explicit
+// Dormand–Prince 8(5,3) pair with its embedded 5th- and 3rd-order error estimates. Each stage costs one product
+// of the coupling with N+1 vectors (the phases act on vectors, never on the matrix).
+// see: Hairer, Nørsett & Wanner, Solving ODEs I, §II.10 (the 8(5,3) pair and its error estimate);
+//      Prince & Dormand, J. Comput. Appl. Math. 7 (1981) 67.
+
+const RK_STAGES: i32 = 12;
+const RK_C: StaticArray<f64> = [
+  0.0, 0.526001519587677318785587544488e-1, 0.789002279381515978178381316732e-1,
+  0.118350341907227396726757197510, 0.281649658092772603273242802490, 0.333333333333333333333333333333,
+  0.25, 0.307692307692307692307692307692, 0.651282051282051282051282051282, 0.6,
+  0.857142857142857142857142857142, 1.0,
+];
+// Row i holds a_ij for j < i (row-major, 12 × 12, zeros above and on the diagonal).
+const RK_A: StaticArray<f64> = [
+  0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0,
+  5.26001519587677318785587544488e-2, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0,
+  1.97250569845378994544595329183e-2, 5.91751709536136983633785987549e-2, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0,
+  2.95875854768068491816892993775e-2, 0, 8.87627564304205475450678981324e-2, 0, 0, 0, 0, 0, 0, 0, 0, 0,
+  2.41365134159266685502369798665e-1, 0, -8.84549479328286085344864962717e-1, 9.24834003261792003115737966543e-1,
+  0, 0, 0, 0, 0, 0, 0, 0,
+  3.7037037037037037037037037037e-2, 0, 0, 1.70828608729473871279604482173e-1, 1.25467687566822425016691814123e-1,
+  0, 0, 0, 0, 0, 0, 0,
+  3.7109375e-2, 0, 0, 1.70252211019544039314978060272e-1, 6.02165389804559606850219397283e-2, -1.7578125e-2,
+  0, 0, 0, 0, 0, 0,
+  3.70920001185047927108779319836e-2, 0, 0, 1.70383925712239993810214054705e-1, 1.07262030446373284651809199168e-1,
+  -1.53194377486244017527936158236e-2, 8.27378916381402288758473766002e-3, 0, 0, 0, 0, 0,
+  6.24110958716075717114429577812e-1, 0, 0, -3.36089262944694129406857109825, -8.68219346841726006818189891453e-1,
+  2.75920996994467083049415600797e1, 2.01540675504778934086186788979e1, -4.34898841810699588477366255144e1,
+  0, 0, 0, 0,
+  4.77662536438264365890433908527e-1, 0, 0, -2.48811461997166764192642586468, -5.90290826836842996371446475743e-1,
+  2.12300514481811942347288949897e1, 1.52792336328824235832596922938e1, -3.32882109689848629194453265587e1,
+  -2.03312017085086261358222928593e-2, 0, 0, 0,
+  -9.3714243008598732571704021658e-1, 0, 0, 5.18637242884406370830023853209, 1.09143734899672957818500254654,
+  -8.14978701074692612513997267357, -1.85200656599969598641566180701e1, 2.27394870993505042818970056734e1,
+  2.49360555267965238987089396762, -3.0467644718982195003823669022, 0, 0,
+  2.27331014751653820792359768449, 0, 0, -1.05344954667372501984066689879e1, -2.00087205822486249909675718444,
+  -1.79589318631187989172765950534e1, 2.79488845294199600508499808837e1, -2.85899827713502369474065508674,
+  -8.87285693353062954433549289258, 1.23605671757943030647266201528e1, 6.43392746015763530355970484046e-1, 0,
+];
+// The 8th-order weights.
+const RK_B: StaticArray<f64> = [
+  5.42937341165687622380535766363e-2, 0, 0, 0, 0, 4.45031289275240888144113950566,
+  1.89151789931450038304281599044, -5.8012039600105847814672114227, 3.1116436695781989440891606237e-1,
+  -1.52160949662516078556178806805e-1, 2.01365400804030348374776537501e-1, 4.47106157277725905176885569043e-2,
+];
+// Error weights: the 8th-order solution less the embedded 5th-order (E5) and 3rd-order (E3) ones.
+const RK_E5: StaticArray<f64> = [
+  0.1312004499419488073250102996e-1, 0, 0, 0, 0, -0.1225156446376204440720569753e1,
+  -0.4957589496572501915214079952, 0.1664377182454986536961530415e1, -0.3503288487499736816886487290,
+  0.3341791187130174790297318841, 0.8192320648511571246570742613e-1, -0.2235530786388629525884427845e-1,
+];
+const RK_BHH1: f64 = 0.244094488188976377952755905512;
+const RK_BHH2: f64 = 0.733846688281611857341361741547;
+const RK_BHH3: f64 = 0.220588235294117647058823529412e-1;
+
+let rkStage: usize = 0; // the 12 stage derivatives, (r+1) vectors each
+let rkZ: usize = 0;
+let rkU: usize = 0;
+let rkP: usize = 0;
+let rkE5: usize = 0;
+let rkE3: usize = 0;
+// Stage 0 (the derivative at the step's start) is kept across a rejection and for recorded times inside a step.
+let startRateValid = false;
+
+@inline function e3Weight(j: i32): f64 {
+  let w = unchecked(RK_B[j]);
+  if (j == 0) w -= RK_BHH1;
+  else if (j == 8) w -= RK_BHH2;
+  else if (j == 11) w -= RK_BHH3;
+  return w;
+}
+
+/**
+ * kout (r+1 vectors) = the stacked derivative at z (series c_0…c_N, then the exact state) at τ, with the
+ * coefficients of node `node` of buf: kout_0 = 0, kout_n = −i V_I z_{n−1}, kout_exact = −iλ V_I z_exact.
+ */
+function interactionRate(buf: usize, node: i32, tau: f64, z: usize, kout: usize): void {
+  const coefs = buf + ((<usize>node * <usize>(k0 + kv) + <usize>k0) << 4);
+  let op = vTerms, fr = 1.0, fi = 0.0;
+  if (kv == 1) {
+    fr = cre(coefs);
+    fi = cim(coefs);
+  } else {
+    combine(m1, vTerms, kv, coefs);
+    op = m1;
+  }
+  phases(ph1, tau); // e^{iEτ}
+  // u_v = e^{−iEτ}∘z_v for v = 0…N−1, and u_N = e^{−iEτ}∘z_exact
+  for (let v = 0; v < r; v++) {
+    const src = v < r - 1 ? z + <usize>v * vec : z + <usize>r * vec, dst = rkU + <usize>v * vec;
+    for (let a = 0; a < d; a++) {
+      const p = src + (<usize>a << 4), q = ph1 + (<usize>a << 4);
+      const xr = cre(p), xi = cim(p), pr = cre(q), pi = cim(q);
+      cset(dst + (<usize>a << 4), pr * xr + pi * xi, pr * xi - pi * xr);
+    }
+  }
+  memory.fill(rkP, 0, <usize>r * vec);
+  zgemv(op, d, rkU, rkP, r, fr, fi);
+  kernelFlops += 8.0 * <f64>d * <f64>d * <f64>r;
+  memory.fill(kout, 0, vec);
+  for (let v = 0; v < r; v++) {
+    const src = rkP + <usize>v * vec;
+    const dst = v < r - 1 ? kout + <usize>(v + 1) * vec : kout + <usize>r * vec;
+    const scale = v < r - 1 ? 1.0 : lambda;
+    for (let a = 0; a < d; a++) {
+      const p = src + (<usize>a << 4), q = ph1 + (<usize>a << 4);
+      const xr = cre(p), xi = cim(p), pr = cre(q), pi = cim(q);
+      // −i·scale·(e^{iEτ}∘P)
+      const yr = pr * xr - pi * xi, yi = pr * xi + pi * xr;
+      cset(dst + (<usize>a << 4), scale * yi, -scale * yr);
+    }
+  }
+}
+
+/** dst (n complex entries) += w·src. */
+@inline function axpy(dst: usize, w: f64, src: usize, n: usize): void {
+  for (let e: usize = 0; e < n << 1; e++) {
+    const o = dst + (e << 3);
+    store<f64>(o, load<f64>(o) + w * load<f64>(src + (e << 3)));
+  }
+}
+
+/**
+ * One Runge–Kutta step of h from τ: yout (r+1 vectors) = y0 + h Σ b_j k_j, with stage 0 (the derivative at
+ * y0) already in place and the coefficients of the 12 stage times in the fine buffer.
+ */
+function rkStages(tau: f64, h: f64, y0: usize, yout: usize): void {
+  const n = <usize>(r + 1) * <usize>d, bytes = <usize>(r + 1) * vec;
+  for (let i = 1; i < RK_STAGES; i++) {
+    memory.copy(rkZ, y0, bytes);
+    for (let j = 0; j < i; j++) {
+      const a = unchecked(RK_A[i * RK_STAGES + j]);
+      if (a != 0) axpy(rkZ, h * a, rkStage + <usize>j * bytes, n);
+    }
+    interactionRate(coefFine, i, tau + unchecked(RK_C[i]) * h, rkZ, rkStage + <usize>i * bytes);
+  }
+  if (yout != y0) memory.copy(yout, y0, bytes);
+  for (let j = 0; j < RK_STAGES; j++) {
+    const b = unchecked(RK_B[j]);
+    if (b != 0) axpy(yout, h * b, rkStage + <usize>j * bytes, n);
+  }
+}
+
+/**
+ * An accuracy-driven step of the interaction-picture scheme: one Dormand–Prince 8(5,3) step of h from τ on the
+ * whole stacked state (the fine buffer holds the coefficients at the 12 stage times τ + c_i h). The start is kept
+ * for {@link rejectStep}. The local error estimate, read with {@link stepError}, is the pair's combined
+ * estimate ‖e5‖²/√(‖e5‖² + 0.01‖e3‖²) (e5, e3 the differences to the embedded 5th- and 3rd-order solutions),
+ * the largest over the exact state and every partial sum; the exact state's error vector grows by e5 scaled
+ * the same way. Returns an error code.
+ */
+export function rkStep(tau: f64, h: f64): i32 {
+  adaptive = true;
+  const bytes = <usize>(r + 1) * vec, n = <usize>(r + 1) * <usize>d;
+  memory.copy(save, series, bytes + vec);
+  if (!startRateValid) interactionRate(coefFine, 0, tau, series, rkStage);
+  rkStages(tau, h, series, series);
+  memory.fill(rkE5, 0, bytes);
+  memory.fill(rkE3, 0, bytes);
+  for (let j = 0; j < RK_STAGES; j++) {
+    const k = rkStage + <usize>j * bytes;
+    const w5 = unchecked(RK_E5[j]), w3 = e3Weight(j);
+    if (w5 != 0) axpy(rkE5, h * w5, k, n);
+    if (w3 != 0) axpy(rkE3, h * w3, k, n);
+  }
+  // Partial sums' errors accumulate order by order; the exact state's is its own.
+  for (let v = 1; v < r; v++) {
+    axpy(rkE5 + <usize>v * vec, 1.0, rkE5 + <usize>(v - 1) * vec, <usize>d);
+    axpy(rkE3 + <usize>v * vec, 1.0, rkE3 + <usize>(v - 1) * vec, <usize>d);
+  }
+  let worst = 0.0, exactScale = 0.0;
+  for (let v = 0; v <= r; v++) {
+    const s5 = norm2(rkE5 + <usize>v * vec), s3 = norm2(rkE3 + <usize>v * vec);
+    const denominator = Math.sqrt(s5 + 0.01 * s3);
+    const estimate = denominator > 0 ? s5 / denominator : 0.0;
+    worst = max(worst, estimate);
+    if (v == r && denominator > 0) exactScale = Math.sqrt(s5) / denominator;
+  }
+  lastError = worst;
+  axpy(errv, exactScale, rkE5 + <usize>r * vec, <usize>d);
+  startRateValid = false;
+  return ERR_OK;
+}
+
+/**
+ * The state at a recorded time inside the last accepted Runge–Kutta step: one step of h from that step's start
+ * (the fine buffer holds the coefficients at its stage times) into the companion buffer, which
+ * {@link recordSample} then records. The main state is not touched.
+ */
+export function rkSample(tau: f64, h: f64): i32 {
+  rkStages(tau, h, save, comp);
+  return ERR_OK;
 }
