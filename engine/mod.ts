@@ -51,6 +51,17 @@ interface Exports {
   useSimd(on: number): void;
   zgemvRef: Kernel;
   zgemvSimd: Kernel;
+  zgemvPacked(
+    a: number,
+    d: number,
+    x: number,
+    y: number,
+    r: number,
+    ar: number,
+    ai: number,
+    scratch: number,
+  ): void;
+  packedScratchBytes(d: number, r: number): number;
   peakLoop(iterations: number, x0: number, dy: number): number;
   eigh(a: number, n: number, w: number, z: number, work: number): number;
   init(
@@ -457,12 +468,13 @@ export function transformStates(
   e.arenaReset();
   const pa = e.arenaAlloc(16 * d * d),
     px = e.arenaAlloc(states.length * 8),
-    py = e.arenaAlloc(states.length * 8);
-  if (!pa || !px || !py) check(1);
+    py = e.arenaAlloc(states.length * 8),
+    scratch = e.arenaAlloc(e.packedScratchBytes(d, count));
+  if (!pa || !px || !py || !scratch) check(1);
   new Float64Array(e.memory.buffer, pa, 2 * d * d).set(m);
   new Float64Array(e.memory.buffer, px, states.length).set(states);
   new Float64Array(e.memory.buffer, py, states.length).fill(0);
-  e.zgemvSimd(pa, d, px, py, count, 1, 0);
+  e.zgemvPacked(pa, d, px, py, count, 1, 0, scratch);
   return new Float64Array(e.memory.buffer, py, states.length).slice();
 }
 

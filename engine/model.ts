@@ -175,7 +175,10 @@ export function estimateMemory(
 ): MemoryEstimate {
   const d = model.dim, r = model.order + 1;
   const terms = Math.max(model.unperturbed.length, 1) + Math.max(model.perturbation.length, 1);
-  const matrices = terms + 10, vectors = 3 * r + 2 * (r + 2) + 8;
+  // vectors: the stacked state and its copies (series, record, tmp, save: r+2 each; comp r+1; two Taylor
+  // buffers), the Runge–Kutta stages and work (17 × (r+1)), the packed kernel's scratch, and a few singles
+  const matrices = terms + 10;
+  const vectors = 4 * (r + 2) + (r + 1) + 2 * Math.max(r, 2) + 17 * (r + 1) + Math.max(16, r + 3) + 10;
   const parts: [string, number, "wasm" | "record"][] = [
     [`engine operators: ${matrices} matrices of d² = ${d * d} complex`, matrices * d * d * 16, "wasm"],
     [`engine state: ${vectors} vectors of d = ${d} complex`, vectors * d * 16, "wasm"],

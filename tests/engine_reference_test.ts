@@ -202,16 +202,72 @@ Deno.test("eigh() handles degenerate and diagonal matrices", async () => {
   [-1, 0, 3, 3].forEach((e, k) => assertClose(values[k]!, e, { abs: 1e-15 }));
 });
 
-Deno.test("the SIMD kernel agrees with the reference kernel to 1e-14 relative, and both with plain JS", async () => {
+// A = U·diag(E)·U† with a threefold degenerate E and U a mathjs expm of a random anti-Hermitian matrix: eigh must
+// return E (mathjs's own arithmetic builds A) and eigenvectors with A z = E z and Z†Z = I to round-off.
+Deno.test("eigh() on a complex Hermitian matrix with a degenerate level: values, residuals, orthonormality", async () => {
+  const engine = await testEngine();
+  const random = seeded(21);
+  const d = 12;
+  const energies = [-2, 0.5, 0.5, 0.5, 1, 1.5, 2, 2.5, 3, 3.5, 4, 4.5];
+  const k = math.matrix(Array.from({ length: d }, () => Array.from({ length: d }, () => math.complex(0, 0))));
+  for (let i = 0; i < d; i++) {
+    for (let j = i; j < d; j++) {
+      // small entries keep mathjs's Padé expm unitary to ~1e-15, so A's spectrum is E to that
+      const re = 0.2 * (random() - 0.5), im = 0.2 * (random() - 0.5);
+      k.set([i, j], math.complex(i === j ? 0 : re, im));
+      k.set([j, i], math.complex(i === j ? 0 : -re, im));
+    }
+  }
+  const u = math.expm(k);
+  const a = math.multiply(math.multiply(u, math.diag(energies)), math.ctranspose(u)) as Matrix;
+  const flat = new Float64Array(2 * d * d);
+  for (let i = 0; i < d; i++) {
+    for (let j = 0; j < d; j++) {
+      const c = math.complex(a.get([i, j]) as MathComplex);
+      flat[2 * (i * d + j)] = c.re;
+      flat[2 * (i * d + j) + 1] = c.im;
+    }
+  }
+  const { values, vectors } = eigh(engine, flat.slice(), d);
+  energies.forEach((e, n) => assertClose(values[n]!, e, { abs: 1e-13 }, `eigenvalue ${n}`));
+  const z = (i: number, n: number) => [vectors[2 * (i * d + n)]!, vectors[2 * (i * d + n) + 1]!] as const;
+  for (let n = 0; n < d; n++) {
+    for (let i = 0; i < d; i++) {
+      let sr = 0, si = 0;
+      for (let j = 0; j < d; j++) {
+        const [ar, ai] = [flat[2 * (i * d + j)]!, flat[2 * (i * d + j) + 1]!], [zr, zi] = z(j, n);
+        sr += ar * zr - ai * zi;
+        si += ar * zi + ai * zr;
+      }
+      const [zr, zi] = z(i, n);
+      assertClose(sr, values[n]! * zr, { abs: 1e-13 }, `(Az − Ez)_${i} for level ${n}, real part`);
+      assertClose(si, values[n]! * zi, { abs: 1e-13 }, `(Az − Ez)_${i} for level ${n}, imaginary part`);
+    }
+    for (let m = 0; m < d; m++) {
+      let sr = 0, si = 0;
+      for (let i = 0; i < d; i++) {
+        const [ar, ai] = z(i, m), [br, bi] = z(i, n);
+        sr += ar * br + ai * bi;
+        si += ar * bi - ai * br;
+      }
+      assertClose(sr, m === n ? 1 : 0, { abs: 1e-13 }, `(Z†Z)_${m}${n}`);
+      assertClose(si, 0, { abs: 1e-13 }, `Im (Z†Z)_${m}${n}`);
+    }
+  }
+});
+
+Deno.test("the SIMD and packed kernels agree with the reference kernel to 1e-14 relative, and all with plain JS", async () => {
   const { exports: e } = await testEngine();
   const random = seeded(5);
   for (const d of [1, 2, 3, 8, 17, 64]) {
-    for (const r of [1, 2, 3, 4, 5, 7]) {
+    for (const r of [1, 2, 3, 4, 5, 7, 8, 9, 13]) {
       e.arenaReset();
       const a = e.arenaAlloc(16 * d * d),
         x = e.arenaAlloc(16 * d * r),
         y1 = e.arenaAlloc(16 * d * r),
-        y2 = e.arenaAlloc(16 * d * r);
+        y2 = e.arenaAlloc(16 * d * r),
+        y3 = e.arenaAlloc(16 * d * r),
+        scratch = e.arenaAlloc(e.packedScratchBytes(d, r));
       const view = (p: number, n: number) => new Float64Array(e.memory.buffer, p, n);
       const A = view(a, 2 * d * d), X = view(x, 2 * d * r);
       A.forEach((_, k) => (A[k] = 2 * random() - 1));
@@ -222,10 +278,12 @@ Deno.test("the SIMD kernel agrees with the reference kernel to 1e-14 relative, a
       );
       view(y1, 2 * d * r).set(y0);
       view(y2, 2 * d * r).set(y0);
+      view(y3, 2 * d * r).set(y0);
       const [ar, ai] = [0.3, -1.7];
       e.zgemvRef(a, d, x, y1, r, ar, ai);
       e.zgemvSimd(a, d, x, y2, r, ar, ai);
-      const Y1 = view(y1, 2 * d * r), Y2 = view(y2, 2 * d * r);
+      e.zgemvPacked(a, d, x, y3, r, ar, ai, scratch);
+      const Y1 = view(y1, 2 * d * r), Y2 = view(y2, 2 * d * r), Y3 = view(y3, 2 * d * r);
       for (let v = 0; v < r; v++) {
         for (let i = 0; i < d; i++) {
           // plain JS: y += α Σ_j A_ij x_j
@@ -246,6 +304,9 @@ Deno.test("the SIMD kernel agrees with the reference kernel to 1e-14 relative, a
             assertClose(Y2[k + c]!, Y1[k + c]!, {
               abs: 1e-14 * scale * Math.sqrt(d),
             }, `simd vs ref d=${d} r=${r}`);
+            assertClose(Y3[k + c]!, Y1[k + c]!, {
+              abs: 1e-14 * scale * Math.sqrt(d),
+            }, `packed vs ref d=${d} r=${r}`);
             assertClose(Y1[k + c]!, js[c]!, {
               abs: 1e-14 * scale * Math.sqrt(d),
             }, `ref vs JS d=${d} r=${r}`);

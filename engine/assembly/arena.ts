@@ -1,5 +1,6 @@
 // A bump allocator over linear memory: the engine allocates its buffers once
 // per run and resets between runs. Returns 0 when memory cannot grow.
+import { setKernelScratch } from "./kernels";
 
 let top: usize = 0;
 
@@ -10,6 +11,8 @@ let top: usize = 0;
 /** Forget every allocation. */
 export function arenaReset(): void {
   top = align16(__heap_base);
+  setKernelScratch(0, 0); // the kernel's scratch was in the arena
+
 }
 
 /** Allocate `bytes` zeroed bytes, 16-byte aligned; 0 if memory cannot grow. */

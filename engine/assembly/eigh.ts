@@ -1,8 +1,13 @@
 // Hermitian eigensolver: complex Householder reduction to tridiagonal form,
 // a diagonal phase change that makes the tridiagonal real, then implicit QL
-// with shifts, accumulating every transformation into the eigenvectors.
-// see: Golub & Van Loan, Matrix Computations, ch. 8; the QL iteration is the
-// classic tql2/tqli form.
+// with shifts. The reflectors are accumulated backwards (each on its trailing
+// block only), the QL rotations into a real orthogonal matrix stored by rows
+// (so that each rotation combines two contiguous rows, two lanes at a time),
+// and the eigenvectors are the product of the two at the end.
+// see: Golub & Van Loan, Matrix Computations, ch. 5.1 (backward accumulation)
+// and ch. 8; the QL iteration is the classic tql2/tqli form.
+
+import { madd, nmadd } from "./kernels";
 
 @inline function re(p: usize): f64 { return load<f64>(p); }
 @inline function im(p: usize): f64 { return load<f64>(p, 8); }
@@ -19,94 +24,14 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
   const p = work + (<usize>n << 4);      // n complex
   const e = work + (<usize>n << 5);      // n f64 (real subdiagonal)
   const sub = e + (<usize>n << 3);       // n complex (complex subdiagonal)  [uses 2n f64]
-  // Z = I
-  memory.fill(z, 0, <usize>n * n << 4);
-  for (let i = 0; i < n; i++) store<f64>(at(z, n, i, i), 1.0);
-
-  for (let k = 0; k < n - 2; k++) {
-    let xnorm2 = 0.0;
-    for (let i = k + 1; i < n; i++) {
-      const q = at(a, n, i, k);
-      xnorm2 += re(q) * re(q) + im(q) * im(q);
-    }
-    const x0 = at(a, n, k + 1, k);
-    if (xnorm2 == 0.0) {
-      store<f64>(sub + (<usize>k << 4), 0.0);
-      store<f64>(sub + (<usize>k << 4), 0.0, 8);
-      continue;
-    }
-    const xnorm = Math.sqrt(xnorm2);
-    const ax0 = Math.hypot(re(x0), im(x0));
-    const phr = ax0 > 0 ? re(x0) / ax0 : 1.0, phi = ax0 > 0 ? im(x0) / ax0 : 0.0;
-    const alr = -phr * xnorm, ali = -phi * xnorm;
-    // v = x − α e1 over rows k+1..n−1 (stored at v[i])
-    for (let i = k + 1; i < n; i++) {
-      const q = at(a, n, i, k), o = v + (<usize>i << 4);
-      store<f64>(o, re(q));
-      store<f64>(o, im(q), 8);
-    }
-    const v0 = v + (<usize>(k + 1) << 4);
-    store<f64>(v0, re(v0) - alr);
-    store<f64>(v0, im(v0) - ali, 8);
-    const tau = 2.0 / (2.0 * xnorm * (xnorm + ax0));
-    // p = τ·A22·v, β = (τ/2)·v†p
-    let beta = 0.0;
-    for (let i = k + 1; i < n; i++) {
-      let sr = 0.0, si = 0.0;
-      for (let j = k + 1; j < n; j++) {
-        const q = at(a, n, i, j), o = v + (<usize>j << 4);
-        sr += re(q) * re(o) - im(q) * im(o);
-        si += re(q) * im(o) + im(q) * re(o);
-      }
-      const o = p + (<usize>i << 4), vi = v + (<usize>i << 4);
-      store<f64>(o, tau * sr);
-      store<f64>(o, tau * si, 8);
-      beta += re(vi) * tau * sr + im(vi) * tau * si;
-    }
-    beta *= 0.5 * tau;
-    // w = p − β v (in p)
-    for (let i = k + 1; i < n; i++) {
-      const o = p + (<usize>i << 4), vi = v + (<usize>i << 4);
-      store<f64>(o, re(o) - beta * re(vi));
-      store<f64>(o, im(o) - beta * im(vi), 8);
-    }
-    // A22 −= v w† + w v†
-    for (let i = k + 1; i < n; i++) {
-      const vi = v + (<usize>i << 4), wi = p + (<usize>i << 4);
-      for (let j = k + 1; j < n; j++) {
-        const vj = v + (<usize>j << 4), wj = p + (<usize>j << 4), q = at(a, n, i, j);
-        // v_i conj(w_j) + w_i conj(v_j)
-        const r = re(vi) * re(wj) + im(vi) * im(wj) + re(wi) * re(vj) + im(wi) * im(vj);
-        const s = im(vi) * re(wj) - re(vi) * im(wj) + im(wi) * re(vj) - re(wi) * im(vj);
-        store<f64>(q, re(q) - r);
-        store<f64>(q, im(q) - s, 8);
-      }
-    }
-    store<f64>(sub + (<usize>k << 4), alr);
-    store<f64>(sub + (<usize>k << 4), ali, 8);
-    // Z ← Z·H = Z − τ (Z v) v†
-    for (let r = 0; r < n; r++) {
-      let sr = 0.0, si = 0.0;
-      for (let c = k + 1; c < n; c++) {
-        const q = at(z, n, r, c), o = v + (<usize>c << 4);
-        sr += re(q) * re(o) - im(q) * im(o);
-        si += re(q) * im(o) + im(q) * re(o);
-      }
-      sr *= tau;
-      si *= tau;
-      for (let c = k + 1; c < n; c++) {
-        const q = at(z, n, r, c), o = v + (<usize>c << 4);
-        // (sr + i si)·conj(v_c)
-        store<f64>(q, re(q) - (sr * re(o) + si * im(o)));
-        store<f64>(q, im(q) - (si * re(o) - sr * im(o)), 8);
-      }
-    }
-  }
+  const taus = sub + (<usize>n << 4);    // n f64 (reflector factors)
+  for (let k = 0; k < n - 2; k++) reduceColumn(a, n, k, v, p, sub, taus);
   if (n >= 2) {
     const q = at(a, n, n - 1, n - 2), o = sub + (<usize>(n - 2) << 4);
     store<f64>(o, re(q));
     store<f64>(o, im(q), 8);
   }
+  accumulateReflectors(a, n, z, p, taus);
   // Diagonal, and the phase change D that makes the subdiagonal real: Z ← Z·D.
   let dr = 1.0, di = 0.0;
   for (let i = 0; i < n; i++) {
@@ -131,18 +56,173 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
     }
   }
   if (n > 0) store<f64>(e + (<usize>(n - 1) << 3), 0.0);
-  if (tql(w, e, n, z) != 0) return 1;
-  sortAscending(w, z, n);
+  // A is free now: it holds Qᵀ, the QL rotations' real orthogonal matrix, by rows.
+  const qt = a;
+  memory.fill(qt, 0, <usize>n * n << 3);
+  for (let i = 0; i < n; i++) store<f64>(qt + ((<usize>i * n + i) << 3), 1.0);
+  if (tql(w, e, n, qt) != 0) return 1;
+  sortAscending(w, qt, n);
+  multiplyByRotations(z, qt, n, v);
   return 0;
+}
+
+/** Step k of the reduction: the reflector I − τvv† that zeroes column k below the subdiagonal, kept in A's column k. */
+function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, taus: usize): void {
+  let xnorm2 = 0.0;
+  for (let i = k + 1; i < n; i++) {
+    const q = at(a, n, i, k);
+    xnorm2 += re(q) * re(q) + im(q) * im(q);
+  }
+  const x0 = at(a, n, k + 1, k);
+  if (xnorm2 == 0.0) {
+    store<f64>(sub + (<usize>k << 4), 0.0);
+    store<f64>(sub + (<usize>k << 4), 0.0, 8);
+    store<f64>(taus + (<usize>k << 3), 0.0);
+    return;
+  }
+  const xnorm = Math.sqrt(xnorm2);
+  const ax0 = Math.hypot(re(x0), im(x0));
+  const phr = ax0 > 0 ? re(x0) / ax0 : 1.0, phi = ax0 > 0 ? im(x0) / ax0 : 0.0;
+  const alr = -phr * xnorm, ali = -phi * xnorm;
+  // v = x − α e1 over rows k+1..n−1 (stored at v[i])
+  for (let i = k + 1; i < n; i++) {
+    const q = at(a, n, i, k), o = v + (<usize>i << 4);
+    store<f64>(o, re(q));
+    store<f64>(o, im(q), 8);
+  }
+  const v0 = v + (<usize>(k + 1) << 4);
+  store<f64>(v0, re(v0) - alr);
+  store<f64>(v0, im(v0) - ali, 8);
+  const tau = 2.0 / (2.0 * xnorm * (xnorm + ax0));
+  // p = τ·A22·v, β = (τ/2)·v†p
+  let beta = 0.0;
+  for (let i = k + 1; i < n; i++) {
+    // (A22·v)_i two lanes at a time: Σ a·vr + swap(a)·vi, then (re − im', im + re') from the two sums
+    let accA = f64x2.splat(0), accB = f64x2.splat(0);
+    for (let j = k + 1; j < n; j++) {
+      const m = v128.load(at(a, n, i, j)), o = v + (<usize>j << 4);
+      accA = madd(m, v128.load64_splat(o), accA);
+      accB = madd(v128.shuffle<f64>(m, m, 1, 0), v128.load64_splat(o, 8), accB);
+    }
+    const sum = f64x2.add(accA, f64x2.mul(accB, f64x2(-1.0, 1.0)));
+    const sr = f64x2.extract_lane(sum, 0), si = f64x2.extract_lane(sum, 1);
+    const o = p + (<usize>i << 4), vi = v + (<usize>i << 4);
+    store<f64>(o, tau * sr);
+    store<f64>(o, tau * si, 8);
+    beta += re(vi) * tau * sr + im(vi) * tau * si;
+  }
+  beta *= 0.5 * tau;
+  // w = p − β v (in p)
+  for (let i = k + 1; i < n; i++) {
+    const o = p + (<usize>i << 4), vi = v + (<usize>i << 4);
+    store<f64>(o, re(o) - beta * re(vi));
+    store<f64>(o, im(o) - beta * im(vi), 8);
+  }
+  // A22 −= v w† + w v†
+  // v_i·conj(w_j) = (vr, −vr)⊙w_j + (vi, vi)⊙swap(w_j), and likewise w_i·conj(v_j)
+  for (let i = k + 1; i < n; i++) {
+    const vi = v + (<usize>i << 4), wi = p + (<usize>i << 4);
+    const c1 = f64x2(re(vi), -re(vi)), c2 = f64x2.splat(im(vi));
+    const d1 = f64x2(re(wi), -re(wi)), d2 = f64x2.splat(im(wi));
+    for (let j = k + 1; j < n; j++) {
+      const wj = v128.load(p + (<usize>j << 4)), vj = v128.load(v + (<usize>j << 4)), q = at(a, n, i, j);
+      let x = v128.load(q);
+      x = nmadd(c1, wj, x);
+      x = nmadd(c2, v128.shuffle<f64>(wj, wj, 1, 0), x);
+      x = nmadd(d1, vj, x);
+      x = nmadd(d2, v128.shuffle<f64>(vj, vj, 1, 0), x);
+      v128.store(q, x);
+    }
+  }
+  store<f64>(sub + (<usize>k << 4), alr);
+  store<f64>(sub + (<usize>k << 4), ali, 8);
+  store<f64>(taus + (<usize>k << 3), tau);
+  // the reflector's vector replaces column k below the diagonal (no later step reads it)
+  for (let i = k + 1; i < n; i++) {
+    const q = at(a, n, i, k), o = v + (<usize>i << 4);
+    store<f64>(q, re(o));
+    store<f64>(q, im(o), 8);
+  }
+}
+
+/** Z = H_0·H_1⋯H_{n−3}, accumulated backwards: Z ← H_k·Z touches only the trailing block k+1.. (uses p). */
+function accumulateReflectors(a: usize, n: i32, z: usize, p: usize, taus: usize): void {
+  memory.fill(z, 0, <usize>n * n << 4);
+  for (let i = 0; i < n; i++) store<f64>(at(z, n, i, i), 1.0);
+  for (let k = n - 3; k >= 0; k--) {
+    const tau = load<f64>(taus + (<usize>k << 3));
+    if (tau == 0.0) continue;
+    // p_j = Σ_i conj(v_i)·Z_ij over the trailing block
+    memory.fill(p, 0, <usize>n << 4);
+    // conj(v_i)·z = vr·z + (vi, −vi)⊙swap(z)
+    for (let i = k + 1; i < n; i++) {
+      const vi = at(a, n, i, k);
+      const c1 = f64x2.splat(re(vi)), c2 = f64x2(im(vi), -im(vi));
+      for (let j = k + 1; j < n; j++) {
+        const zq = v128.load(at(z, n, i, j)), o = p + (<usize>j << 4);
+        const x = madd(c1, zq, v128.load(o));
+        v128.store(o, madd(c2, v128.shuffle<f64>(zq, zq, 1, 0), x));
+      }
+    }
+    // Z_ij −= τ·v_i·p_j, with τv_i·p = a·p + (−b, b)⊙swap(p) for τv_i = a + ib
+    for (let i = k + 1; i < n; i++) {
+      const vi = at(a, n, i, k);
+      const c1 = f64x2.splat(tau * re(vi)), c2 = f64x2(-tau * im(vi), tau * im(vi));
+      for (let j = k + 1; j < n; j++) {
+        const q = at(z, n, i, j), pj = v128.load(p + (<usize>j << 4));
+        const x = nmadd(c1, pj, v128.load(q));
+        v128.store(q, nmadd(c2, v128.shuffle<f64>(pj, pj, 1, 0), x));
+      }
+    }
+  }
+}
+
+/** Z ← Z·Q with Q real orthogonal, given by its rows of Qᵀ (row by row of Z, through the n-complex buffer row). */
+function multiplyByRotations(z: usize, qt: usize, n: i32, row: usize): void {
+  for (let r = 0; r < n; r++) {
+    const zr = z + (<usize>r * n << 4);
+    for (let c = 0; c < n; c++) {
+      const q = qt + (<usize>c * n << 3);
+      let acc0 = f64x2.splat(0), acc1 = f64x2.splat(0);
+      let k = 0;
+      for (; k + 1 < n; k += 2) {
+        acc0 = madd(v128.load(zr + (<usize>k << 4)), v128.load64_splat(q + (<usize>k << 3)), acc0);
+        acc1 = madd(v128.load(zr + (<usize>k << 4), 16), v128.load64_splat(q + (<usize>k << 3), 8), acc1);
+      }
+      if (k < n) {
+        acc0 = madd(v128.load(zr + (<usize>k << 4)), v128.load64_splat(q + (<usize>k << 3)), acc0);
+      }
+      v128.store(row + (<usize>c << 4), f64x2.add(acc0, acc1));
+    }
+    memory.copy(zr, row, <usize>n << 4);
+  }
 }
 
 @inline function dget(x: usize, i: i32): f64 { return load<f64>(x + (<usize>i << 3)); }
 @inline function dset(x: usize, i: i32, val: f64): void { store<f64>(x + (<usize>i << 3), val); }
 
+// Rows i and i+1 of Qᵀ (columns of Q) turned by the rotation (c, s).
+@inline function rotateRows(qt: usize, n: i32, i: i32, c: f64, s: f64): void {
+  const q0 = qt + (<usize>i * n << 3), q1 = q0 + (<usize>n << 3);
+  const cc = f64x2.splat(c), ss = f64x2.splat(s);
+  let k = 0;
+  for (; k + 1 < n; k += 2) {
+    const o = <usize>k << 3;
+    const x = v128.load(q0 + o), y = v128.load(q1 + o);
+    v128.store(q1 + o, f64x2.add(f64x2.mul(ss, x), f64x2.mul(cc, y)));
+    v128.store(q0 + o, f64x2.sub(f64x2.mul(cc, x), f64x2.mul(ss, y)));
+  }
+  if (k < n) {
+    const o = <usize>k << 3;
+    const x = load<f64>(q0 + o), y = load<f64>(q1 + o);
+    store<f64>(q1 + o, s * x + c * y);
+    store<f64>(q0 + o, c * x - s * y);
+  }
+}
+
 // Implicit QL with Wilkinson-type shifts on the real symmetric tridiagonal
-// (d, e), e[i] coupling i and i+1; rotations are applied to the columns of
-// the complex Z.
-function tql(d: usize, e: usize, n: i32, z: usize): i32 {
+// (d, e), e[i] coupling i and i+1; rotations are applied to the rows of Qᵀ.
+function tql(d: usize, e: usize, n: i32, qt: usize): i32 {
   for (let l = 0; l < n; l++) {
     let iter = 0;
     let m = l;
@@ -174,14 +254,7 @@ function tql(d: usize, e: usize, n: i32, z: usize): i32 {
           p = s * r;
           dset(d, i + 1, g + p);
           g = c * r - b;
-          for (let k = 0; k < n; k++) {
-            const q0 = at(z, n, k, i), q1 = at(z, n, k, i + 1);
-            const fr = re(q1), fi = im(q1), zr = re(q0), zi = im(q0);
-            store<f64>(q1, s * zr + c * fr);
-            store<f64>(q1, s * zi + c * fi, 8);
-            store<f64>(q0, c * zr - s * fr);
-            store<f64>(q0, c * zi - s * fi, 8);
-          }
+          rotateRows(qt, n, i, c, s);
         }
         if (r == 0.0 && i >= l) continue;
         dset(d, l, dget(d, l) - p);
@@ -193,7 +266,8 @@ function tql(d: usize, e: usize, n: i32, z: usize): i32 {
   return 0;
 }
 
-function sortAscending(w: usize, z: usize, n: i32): void {
+// Eigenvalues ascending, the rows of Qᵀ (columns of Q) with them.
+function sortAscending(w: usize, qt: usize, n: i32): void {
   for (let i = 0; i < n - 1; i++) {
     let k = i;
     for (let j = i + 1; j < n; j++) if (dget(w, j) < dget(w, k)) k = j;
@@ -201,13 +275,12 @@ function sortAscending(w: usize, z: usize, n: i32): void {
       const t = dget(w, i);
       dset(w, i, dget(w, k));
       dset(w, k, t);
+      const a = qt + (<usize>i * n << 3), b = qt + (<usize>k * n << 3);
       for (let r = 0; r < n; r++) {
-        const a = at(z, n, r, i), b = at(z, n, r, k);
-        const ar = re(a), ai = im(a);
-        store<f64>(a, re(b));
-        store<f64>(a, im(b), 8);
-        store<f64>(b, ar);
-        store<f64>(b, ai, 8);
+        const o = <usize>r << 3;
+        const x = load<f64>(a + o);
+        store<f64>(a + o, load<f64>(b + o));
+        store<f64>(b + o, x);
       }
     }
   }

@@ -1,7 +1,7 @@
 // The ordo engine: Dyson terms and exact propagation. See engine/mod.ts for
 // the TypeScript face.
 export { arenaAlloc, arenaReset } from "./arena";
-export { peakLoop, useSimd, zgemv, zgemvRef, zgemvSimd } from "./kernels";
+export { packedScratchBytes, peakLoop, setKernelScratch, useSimd, zgemv, zgemvPacked, zgemvRef, zgemvSimd } from "./kernels";
 export { eigh } from "./eigh";
 export {
   advance,

@@ -5,6 +5,16 @@
 // beyond the block: the drivers own those. The SIMD kernel reads each row of
 // A once for up to four vectors; the reference kernel is the plain loop.
 
+/** a·b + c, two lanes (a multiply and an add: plain SIMD, so the engine runs wherever WebAssembly SIMD does). */
+@inline export function madd(a: v128, b: v128, c: v128): v128 {
+  return f64x2.add(f64x2.mul(a, b), c);
+}
+
+/** c − a·b, two lanes. */
+@inline export function nmadd(a: v128, b: v128, c: v128): v128 {
+  return f64x2.sub(c, f64x2.mul(a, b));
+}
+
 /** Reference kernel: one vector at a time, scalar arithmetic. */
 export function zgemvRef(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai: f64): void {
   const stride = <usize>d << 4;
@@ -46,14 +56,14 @@ export function zgemvRef(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, 
       const o = <usize>j << 4;
       const m = v128.load(row + o);
       const w = v128.shuffle<f64>(m, m, 1, 0);
-      a0 = f64x2.add(a0, f64x2.mul(m, v128.load64_splat(x + o)));
-      b0 = f64x2.add(b0, f64x2.mul(w, v128.load64_splat(x + o, 8)));
-      a1 = f64x2.add(a1, f64x2.mul(m, v128.load64_splat(x1 + o)));
-      b1 = f64x2.add(b1, f64x2.mul(w, v128.load64_splat(x1 + o, 8)));
-      a2 = f64x2.add(a2, f64x2.mul(m, v128.load64_splat(x2 + o)));
-      b2 = f64x2.add(b2, f64x2.mul(w, v128.load64_splat(x2 + o, 8)));
-      a3 = f64x2.add(a3, f64x2.mul(m, v128.load64_splat(x3 + o)));
-      b3 = f64x2.add(b3, f64x2.mul(w, v128.load64_splat(x3 + o, 8)));
+      a0 = madd(m, v128.load64_splat(x + o), a0);
+      b0 = madd(w, v128.load64_splat(x + o, 8), b0);
+      a1 = madd(m, v128.load64_splat(x1 + o), a1);
+      b1 = madd(w, v128.load64_splat(x1 + o, 8), b1);
+      a2 = madd(m, v128.load64_splat(x2 + o), a2);
+      b2 = madd(w, v128.load64_splat(x2 + o, 8), b2);
+      a3 = madd(m, v128.load64_splat(x3 + o), a3);
+      b3 = madd(w, v128.load64_splat(x3 + o, 8), b3);
     }
     const yo = y + (<usize>i << 4);
     finish(a0, b0, yo, ar, ai);
@@ -73,10 +83,10 @@ export function zgemvRef(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, 
       const o = <usize>j << 4;
       const m = v128.load(row + o);
       const w = v128.shuffle<f64>(m, m, 1, 0);
-      a0 = f64x2.add(a0, f64x2.mul(m, v128.load64_splat(x + o)));
-      b0 = f64x2.add(b0, f64x2.mul(w, v128.load64_splat(x + o, 8)));
-      a1 = f64x2.add(a1, f64x2.mul(m, v128.load64_splat(x1 + o)));
-      b1 = f64x2.add(b1, f64x2.mul(w, v128.load64_splat(x1 + o, 8)));
+      a0 = madd(m, v128.load64_splat(x + o), a0);
+      b0 = madd(w, v128.load64_splat(x + o, 8), b0);
+      a1 = madd(m, v128.load64_splat(x1 + o), a1);
+      b1 = madd(w, v128.load64_splat(x1 + o, 8), b1);
     }
     const yo = y + (<usize>i << 4);
     finish(a0, b0, yo, ar, ai);
@@ -94,16 +104,16 @@ export function zgemvRef(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, 
     for (; j + 1 < d; j += 2) {
       const o = <usize>j << 4;
       const m = v128.load(row + o), n = v128.load(row + o, 16);
-      a0 = f64x2.add(a0, f64x2.mul(m, v128.load64_splat(x + o)));
-      b0 = f64x2.add(b0, f64x2.mul(v128.shuffle<f64>(m, m, 1, 0), v128.load64_splat(x + o, 8)));
-      a1 = f64x2.add(a1, f64x2.mul(n, v128.load64_splat(x + o, 16)));
-      b1 = f64x2.add(b1, f64x2.mul(v128.shuffle<f64>(n, n, 1, 0), v128.load64_splat(x + o, 24)));
+      a0 = madd(m, v128.load64_splat(x + o), a0);
+      b0 = madd(v128.shuffle<f64>(m, m, 1, 0), v128.load64_splat(x + o, 8), b0);
+      a1 = madd(n, v128.load64_splat(x + o, 16), a1);
+      b1 = madd(v128.shuffle<f64>(n, n, 1, 0), v128.load64_splat(x + o, 24), b1);
     }
     if (j < d) {
       const o = <usize>j << 4;
       const m = v128.load(row + o);
-      a0 = f64x2.add(a0, f64x2.mul(m, v128.load64_splat(x + o)));
-      b0 = f64x2.add(b0, f64x2.mul(v128.shuffle<f64>(m, m, 1, 0), v128.load64_splat(x + o, 8)));
+      a0 = madd(m, v128.load64_splat(x + o), a0);
+      b0 = madd(v128.shuffle<f64>(m, m, 1, 0), v128.load64_splat(x + o, 8), b0);
     }
     finish(f64x2.add(a0, a1), f64x2.add(b0, b1), y + (<usize>i << 4), ar, ai);
   }
@@ -121,6 +131,155 @@ export function zgemvSimd(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64,
   if (v < r) rows1(a, d, x + <usize>v * stride, y + <usize>v * stride, ar, ai);
 }
 
+// ------------------------------------------------------------------ packed kernel
+// X is first repacked so that, for each j, the real parts of all vectors lie side by side, then their imaginary
+// parts (padded to an even count): a pair of vectors is then one f64x2 load, and each matrix element is
+// splatted once for all of them. Per matrix element and pair of vectors: two loads, four multiply-adds.
+
+/** Bytes of scratch {@link zgemvPacked} needs for d-vectors, r of them. */
+export function packedScratchBytes(d: i32, r: i32): usize {
+  return <usize>d * <usize>((r + 1) & ~1) << 4;
+}
+
+// y[v] += α·(sr + i·si) for one row i, from a pair's accumulators (lanes: vectors v and v+1).
+@inline function finishPair(re: v128, im: v128, y: usize, v: i32, r: i32, stride: usize, ar: f64, ai: f64): void {
+  let sr = f64x2.extract_lane(re, 0), si = f64x2.extract_lane(im, 0);
+  let o = y + <usize>v * stride;
+  store<f64>(o, load<f64>(o) + ar * sr - ai * si);
+  store<f64>(o, load<f64>(o, 8) + ar * si + ai * sr, 8);
+  if (v + 1 < r) {
+    sr = f64x2.extract_lane(re, 1);
+    si = f64x2.extract_lane(im, 1);
+    o += stride;
+    store<f64>(o, load<f64>(o) + ar * sr - ai * si);
+    store<f64>(o, load<f64>(o, 8) + ar * si + ai * sr, 8);
+  }
+}
+
+// One pass over A for four pairs of vectors starting at pair p (8 vectors).
+@inline function pairs4(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64): void {
+  const stride = <usize>d << 4;
+  const off = <usize>p << 4;
+  for (let i = 0; i < d; i++) {
+    const row = a + <usize>i * stride;
+    let r0 = f64x2.splat(0), i0 = f64x2.splat(0), r1 = f64x2.splat(0), i1 = f64x2.splat(0);
+    let r2 = f64x2.splat(0), i2 = f64x2.splat(0), r3 = f64x2.splat(0), i3 = f64x2.splat(0);
+    let base = xp + off;
+    for (let j = 0; j < d; j++) {
+      const m = row + (<usize>j << 4);
+      const mr = v128.load64_splat(m), mi = v128.load64_splat(m, 8);
+      const q = base + half;
+      const x0 = v128.load(base), y0 = v128.load(q);
+      const x1 = v128.load(base, 16), y1 = v128.load(q, 16);
+      const x2 = v128.load(base, 32), y2 = v128.load(q, 32);
+      const x3 = v128.load(base, 48), y3 = v128.load(q, 48);
+      r0 = nmadd(mi, y0, madd(mr, x0, r0));
+      i0 = madd(mi, x0, madd(mr, y0, i0));
+      r1 = nmadd(mi, y1, madd(mr, x1, r1));
+      i1 = madd(mi, x1, madd(mr, y1, i1));
+      r2 = nmadd(mi, y2, madd(mr, x2, r2));
+      i2 = madd(mi, x2, madd(mr, y2, i2));
+      r3 = nmadd(mi, y3, madd(mr, x3, r3));
+      i3 = madd(mi, x3, madd(mr, y3, i3));
+      base += per;
+    }
+    const yo = y + (<usize>i << 4);
+    finishPair(r0, i0, yo, 2 * p, r, stride, ar, ai);
+    finishPair(r1, i1, yo, 2 * p + 2, r, stride, ar, ai);
+    finishPair(r2, i2, yo, 2 * p + 4, r, stride, ar, ai);
+    finishPair(r3, i3, yo, 2 * p + 6, r, stride, ar, ai);
+  }
+}
+
+// One pass over A for two pairs of vectors starting at pair p.
+@inline function pairs2(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64): void {
+  const stride = <usize>d << 4;
+  const off = <usize>p << 4;
+  for (let i = 0; i < d; i++) {
+    const row = a + <usize>i * stride;
+    let r0 = f64x2.splat(0), i0 = f64x2.splat(0), r1 = f64x2.splat(0), i1 = f64x2.splat(0);
+    let base = xp + off;
+    for (let j = 0; j < d; j++) {
+      const m = row + (<usize>j << 4);
+      const mr = v128.load64_splat(m), mi = v128.load64_splat(m, 8);
+      const q = base + half;
+      const x0 = v128.load(base), y0 = v128.load(q);
+      const x1 = v128.load(base, 16), y1 = v128.load(q, 16);
+      r0 = nmadd(mi, y0, madd(mr, x0, r0));
+      i0 = madd(mi, x0, madd(mr, y0, i0));
+      r1 = nmadd(mi, y1, madd(mr, x1, r1));
+      i1 = madd(mi, x1, madd(mr, y1, i1));
+      base += per;
+    }
+    const yo = y + (<usize>i << 4);
+    finishPair(r0, i0, yo, 2 * p, r, stride, ar, ai);
+    finishPair(r1, i1, yo, 2 * p + 2, r, stride, ar, ai);
+  }
+}
+
+// One pass over A for one pair of vectors starting at pair p.
+@inline function pairs1(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64): void {
+  const stride = <usize>d << 4;
+  const off = <usize>p << 4;
+  for (let i = 0; i < d; i++) {
+    const row = a + <usize>i * stride;
+    let r0 = f64x2.splat(0), i0 = f64x2.splat(0), r1 = f64x2.splat(0), i1 = f64x2.splat(0);
+    let base = xp + off;
+    // two accumulator sets over even/odd j shorten the dependency chains
+    let j = 0;
+    for (; j + 1 < d; j += 2) {
+      const m = row + (<usize>j << 4);
+      const mr = v128.load64_splat(m), mi = v128.load64_splat(m, 8);
+      const nr = v128.load64_splat(m, 16), ni = v128.load64_splat(m, 24);
+      const x0 = v128.load(base), y0 = v128.load(base + half);
+      const x1 = v128.load(base + per), y1 = v128.load(base + per + half);
+      r0 = nmadd(mi, y0, madd(mr, x0, r0));
+      i0 = madd(mi, x0, madd(mr, y0, i0));
+      r1 = nmadd(ni, y1, madd(nr, x1, r1));
+      i1 = madd(ni, x1, madd(nr, y1, i1));
+      base += per << 1;
+    }
+    if (j < d) {
+      const m = row + (<usize>j << 4);
+      const mr = v128.load64_splat(m), mi = v128.load64_splat(m, 8);
+      const x0 = v128.load(base), y0 = v128.load(base + half);
+      r0 = nmadd(mi, y0, madd(mr, x0, r0));
+      i0 = madd(mi, x0, madd(mr, y0, i0));
+    }
+    finishPair(f64x2.add(r0, r1), f64x2.add(i0, i1), y + (<usize>i << 4), 2 * p, r, stride, ar, ai);
+  }
+}
+
+/**
+ * Packed SIMD kernel: same contract as zgemvRef, with `scratch` holding at least
+ * {@link packedScratchBytes}(d, r) bytes for the repacked X.
+ */
+export function zgemvPacked(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai: f64, scratch: usize): void {
+  const rp = (r + 1) & ~1, pairs = rp >> 1;
+  const per = <usize>rp << 4, half = <usize>rp << 3;
+  const stride = <usize>d << 4;
+  for (let j = 0; j < d; j++) {
+    const row = scratch + <usize>j * per;
+    for (let v = 0; v < rp; v++) {
+      let re = 0.0, im = 0.0;
+      if (v < r) {
+        const q = x + <usize>v * stride + (<usize>j << 4);
+        re = load<f64>(q);
+        im = load<f64>(q, 8);
+      }
+      store<f64>(row + (<usize>v << 3), re);
+      store<f64>(row + half + (<usize>v << 3), im);
+    }
+  }
+  let p = 0;
+  for (; p + 4 <= pairs; p += 4) pairs4(a, d, scratch, per, half, p, y, r, ar, ai);
+  if (p + 2 <= pairs) {
+    pairs2(a, d, scratch, per, half, p, y, r, ar, ai);
+    p += 2;
+  }
+  if (p < pairs) pairs1(a, d, scratch, per, half, p, y, r, ar, ai);
+}
+
 // The one registration point: which kernel the drivers call.
 let simdEnabled = true;
 
@@ -129,11 +288,34 @@ export function useSimd(on: bool): void {
   simdEnabled = on;
 }
 
+// Scratch for the packed kernel, set by the drivers after they allocate (0: none, use zgemvSimd).
+let scratch: usize = 0;
+let scratchBytes: usize = 0;
+
+/** Hands the drivers' scratch buffer to the packed kernel (bytes = 0 withdraws it). */
+export function setKernelScratch(ptr: usize, bytes: usize): void {
+  scratch = ptr;
+  scratchBytes = bytes;
+}
+
 /** Y[v] += α·A·X[v], v < r, with the selected kernel. */
 export function zgemv(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai: f64): void {
   if (r <= 0) return;
-  if (simdEnabled) zgemvSimd(a, d, x, y, r, ar, ai);
-  else zgemvRef(a, d, x, y, r, ar, ai);
+  if (!simdEnabled) {
+    zgemvRef(a, d, x, y, r, ar, ai);
+    return;
+  }
+  // the packed kernel (three vectors or more: below, the row kernel is faster) on as many vectors at a time
+  // as the scratch holds (an even number)
+  const cap = scratch == 0 ? 0 : <i32>(scratchBytes / (<usize>d << 4)) & ~1;
+  if (cap < 4 || r < 3) {
+    zgemvSimd(a, d, x, y, r, ar, ai);
+    return;
+  }
+  const stride = <usize>d << 4;
+  for (let v = 0; v < r; v += cap) {
+    zgemvPacked(a, d, x + <usize>v * stride, y + <usize>v * stride, min(cap, r - v), ar, ai, scratch);
+  }
 }
 
 /**
@@ -150,12 +332,12 @@ export function peakLoop(iterations: i32, x0: f64, dy: f64): f64 {
   let a0 = f64x2.splat(0), a1 = f64x2.splat(0), a2 = f64x2.splat(0);
   let a3 = f64x2.splat(0), a4 = f64x2.splat(0), a5 = f64x2.splat(0);
   for (let k = 0; k < iterations; k++) {
-    a0 = f64x2.add(a0, f64x2.mul(xa, y));
-    a1 = f64x2.add(a1, f64x2.mul(xb, y));
-    a2 = f64x2.add(a2, f64x2.mul(xc, y));
-    a3 = f64x2.add(a3, f64x2.mul(xa, z));
-    a4 = f64x2.add(a4, f64x2.mul(xb, z));
-    a5 = f64x2.add(a5, f64x2.mul(xc, z));
+    a0 = madd(xa, y, a0);
+    a1 = madd(xb, y, a1);
+    a2 = madd(xc, y, a2);
+    a3 = madd(xa, z, a3);
+    a4 = madd(xb, z, a4);
+    a5 = madd(xc, z, a5);
     y = f64x2.add(y, step);
     z = f64x2.sub(z, step);
   }

@@ -9,7 +9,7 @@
 // see: Van Loan, IEEE TAC 23 (1978).
 
 import { arenaAlloc, arenaReset } from "./arena";
-import { zgemv } from "./kernels";
+import { packedScratchBytes, setKernelScratch, zgemv } from "./kernels";
 import { eigh } from "./eigh";
 
 // 4th-order commutator-free exponential integrator (two exponentials).
@@ -149,6 +149,10 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32): 
   rkE5 = arenaAlloc(<usize>(r + 1) * vec);
   rkE3 = arenaAlloc(<usize>(r + 1) * vec);
   startRateValid = false;
+  // the packed kernel's scratch: the stacked state at once (wider products go in slices of it)
+  const scratchBytes = packedScratchBytes(d, max(16, r + 2));
+  const kernelScratch = arenaAlloc(scratchBytes);
+  setKernelScratch(kernelScratch, kernelScratch == 0 ? 0 : scratchBytes);
   adaptive = false;
   tiny = TINY;
   return coefCoarse == 0 || work == 0 || rkE3 == 0 ? ERR_MEMORY : ERR_OK;
