@@ -42,7 +42,7 @@ import {
 export * from "./model.ts";
 
 /** A micro-kernel: Y[v] += α·A·X[v] for r vectors (addresses in wasm memory). */
-type Kernel = (a: number, d: number, x: number, y: number, r: number, ar: number, ai: number) => void;
+export type Kernel = (a: number, d: number, x: number, y: number, r: number, ar: number, ai: number) => void;
 
 interface Exports {
   memory: WebAssembly.Memory;

@@ -83,16 +83,19 @@ export function schemeFor(model: Model): Scheme {
 
 /**
  * How a stepped scheme steps. Fixed steps and the Schrödinger-picture scheme use the 4th-order commutator-free
- * exponential integrator (norm-preserving, step doubling for the error); an accuracy-driven interaction-picture
- * run uses the Dormand–Prince 8(5,3) Runge–Kutta pair with its embedded error estimate, whose twelve stages per
- * step sample the couplings far more densely.
+ * exponential integrator (norm-preserving, step doubling for the error). An accuracy-driven interaction-picture
+ * run uses a Lawson (integrating-factor) exponential Runge–Kutta method: H0's evolution by its exact exponential
+ * (the interaction picture), the coupling by the Dormand–Prince 8(5,3) pair with its embedded error estimate,
+ * whose twelve stages per step sample the coupling far more densely; it preserves the norm only to its accuracy.
+ * see: Lawson, SIAM J. Numer. Anal. 4 (1967) 372; Hochbruck & Ostermann, Acta Numerica 19 (2010) 209.
  */
 export type Method = "commutator-free-4" | "runge-kutta-8";
 
 /** How each method is named in reports. */
 export const METHOD_NAMES: Record<Method, string> = {
   "commutator-free-4": "4th-order commutator-free exponential integrator",
-  "runge-kutta-8": "Dormand–Prince 8(5,3) Runge–Kutta pair",
+  "runge-kutta-8":
+    "Lawson exponential Runge–Kutta (H0 exactly, the coupling by the Dormand–Prince 8(5,3) pair)",
 };
 
 /** The stepping method of a model (undefined for the time-independent scheme, which takes no steps). */

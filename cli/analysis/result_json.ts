@@ -62,6 +62,7 @@ export function runJson({ built, result, analysis, observed, amplitudes }: RunOu
     },
     method: {
       scheme: result.scheme,
+      stepping: result.method ?? null,
       steps: result.steps,
       step_size: result.stepSize,
       accuracy: built.model.accuracy ?? null,

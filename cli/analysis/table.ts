@@ -8,6 +8,7 @@
 import type { RunOutcome } from "./outcome.ts";
 import { normIntegralAt } from "./norms.ts";
 import { VERSION } from "../base/version.ts";
+import { METHOD_NAMES } from "../../engine/mod.ts";
 
 function sci(x: number, digits = 4): string {
   if (Number.isNaN(x)) return "—";
@@ -93,9 +94,10 @@ function header({ built, info, result, analysis }: RunOutcome): string[] {
   const stepText = result.scheme === "time-independent"
     ? `no time steps (time-independent H: exact exponentials between ${result.times.length} samples)`
     : built.model.accuracy !== undefined
-    ? `${result.steps} steps chosen for accuracy ${built.model.accuracy} (mean h = ${h}${tu}), 4th-order ` +
-      "commutator-free exponential integrator"
-    : `${result.steps} steps of h = ${h}${tu}, 4th-order commutator-free exponential integrator`;
+    ? `${result.steps} steps chosen for accuracy ${built.model.accuracy} (mean h = ${h}${tu}), ${
+      METHOD_NAMES[result.method!]
+    }`
+    : `${result.steps} steps of h = ${h}${tu}, ${METHOD_NAMES[result.method!]}`;
   return [
     `ordo ${VERSION} · ${built.title}`,
     `units   ${built.units.description}`,

@@ -180,7 +180,9 @@ function describeSteps(
   const suggestion = controller
     ? [
       `  accuracy   suggested: [grid] accuracy = ${controller.accuracy} instead of steps (or --accuracy): ` +
-      `the engine would take ${controller.steps} steps for it`,
+      `the engine would take ${controller.steps} steps for it (${
+        METHOD_NAMES[methodFor({ ...model, accuracy: controller.accuracy })!]
+      })`,
     ]
     : [];
   return [

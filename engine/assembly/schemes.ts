@@ -222,6 +222,7 @@ function toBasis(a: usize): void {
   memory.fill(m1, 0, mat);
   zgemv(basisH, d, m2, m1, d, 1.0, 0.0);
   transpose(a, m1, false);
+  kernelFlops += 16.0 * <f64>d * <f64>d * <f64>d;
 }
 
 /** ∞-norm (largest row sum of moduli) of a d×d matrix. */
