@@ -70,6 +70,7 @@ interface Exports {
     nH0: number,
     nV: number,
     chunk: number,
+    columns: number,
   ): number;
   prepare(scheme: number, strength: number, haveEigen: number): number;
   bufEnergies(): number;
@@ -185,6 +186,8 @@ async function readWasm(): Promise<Uint8Array<ArrayBuffer>> {
 /** What {@link solve} returns. States are interleaved (re, im), sample-major: sample k at offset 2·d·k. */
 export interface Result {
   scheme: Scheme;
+  /** Initial states propagated together (1 unless the model asked for columns); states hold d·columns entries per sample. */
+  columns: number;
   /** How the steps were taken (undefined for the time-independent scheme). */
   method?: Method;
   /** Integrator steps actually taken (0 for the time-independent scheme). */
@@ -227,17 +230,19 @@ export function solve(
   const e = engine.exports;
   const scheme = schemeFor(model);
   const d = model.dim, r = model.order + 1, samples = model.samples;
+  // m columns: m initial states propagated together (propagator columns); states are d·m entries per sample
+  const m = model.columns ?? 1, dm = d * m;
   const sumConstant = scheme !== "time-dependent-h0";
   const h0 = sumConstant ? [sumTerms(model.unperturbed, d)] : model.unperturbed;
   const v = scheme === "time-independent" ? [sumTerms(model.perturbation, d)] : model.perturbation;
-  check(e.init(d, model.order, h0.length, v.length, CHUNK_STEPS));
+  check(e.init(d, model.order, h0.length, v.length, CHUNK_STEPS, m));
   const mem = () => e.memory.buffer;
   const writeTerms = (ptr: number, terms: OperatorTerm[]) => {
     terms.forEach((t, k) => new Float64Array(mem(), ptr + k * 16 * d * d, 2 * d * d).set(t.matrix));
   };
   writeTerms(e.bufH0Terms(), h0);
   writeTerms(e.bufVTerms(), v);
-  new Float64Array(mem(), e.bufInitial(), 2 * d).set(model.initial);
+  new Float64Array(mem(), e.bufInitial(), 2 * dm).set(model.initial);
   const schemeCode = {
     "time-independent": 0,
     "interaction-picture": 1,
@@ -257,27 +262,28 @@ export function solve(
   }
   const terms = Array.from(
     { length: r },
-    () => new Float64Array(samples * 2 * d),
+    () => new Float64Array(samples * 2 * dm),
   );
-  const exact = new Float64Array(samples * 2 * d);
-  const checkStates = new Float64Array(samples * 2 * d);
-  const rec = new Float64Array(mem(), e.bufRecord(), (r + 2) * 2 * d);
+  const exact = new Float64Array(samples * 2 * dm);
+  const checkStates = new Float64Array(samples * 2 * dm);
+  const rec = new Float64Array(mem(), e.bufRecord(), (r + 2) * 2 * dm);
   const powers = Array.from({ length: r }, (_, n) => model.strength ** n);
   const store = (k: number, tau: number, inside = false) => {
     if (inside) e.recordSample(tau);
     else e.record(tau);
     for (let n = 0; n < r; n++) {
-      const src = rec.subarray(n * 2 * d, (n + 1) * 2 * d);
-      const dst = terms[n]!.subarray(k * 2 * d, (k + 1) * 2 * d);
-      for (let a = 0; a < 2 * d; a++) dst[a] = powers[n]! * src[a]!;
+      const src = rec.subarray(n * 2 * dm, (n + 1) * 2 * dm);
+      const dst = terms[n]!.subarray(k * 2 * dm, (k + 1) * 2 * dm);
+      for (let a = 0; a < 2 * dm; a++) dst[a] = powers[n]! * src[a]!;
     }
-    exact.set(rec.subarray(r * 2 * d, (r + 1) * 2 * d), k * 2 * d);
-    checkStates.set(rec.subarray((r + 1) * 2 * d, (r + 2) * 2 * d), k * 2 * d);
+    exact.set(rec.subarray(r * 2 * dm, (r + 1) * 2 * dm), k * 2 * dm);
+    checkStates.set(rec.subarray((r + 1) * 2 * dm, (r + 2) * 2 * dm), k * 2 * dm);
   };
   store(0, 0);
   const finish = (steps: number, stepSize: number, checkDivisor: number): Result =>
     finite({
       scheme,
+      columns: m,
       method: methodFor(model),
       steps,
       stepSize,
@@ -365,6 +371,33 @@ export function solve(
     store(j + 1, (j + 1) * per * h);
   }
   return finish(total, h, 15);
+}
+
+/**
+ * One column of a run with several: a result of one initial state, as a run from it alone would give.
+ *
+ * @param result a run with `columns` initial states
+ * @param d the dimension
+ * @param j which column
+ * @returns the states of column j (copied)
+ */
+export function columnOf(result: Result, d: number, j: number): Result {
+  const m = result.columns;
+  if (m === 1) return result;
+  const pick = (states: Float64Array) => {
+    const out = new Float64Array(result.times.length * 2 * d);
+    for (let k = 0; k < result.times.length; k++) {
+      out.set(states.subarray(2 * d * (k * m + j), 2 * d * (k * m + j + 1)), 2 * d * k);
+    }
+    return out;
+  };
+  return {
+    ...result,
+    columns: 1,
+    terms: result.terms.map(pick),
+    exact: pick(result.exact),
+    check: pick(result.check),
+  };
 }
 
 /**

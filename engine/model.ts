@@ -35,6 +35,11 @@ export interface Model {
   strength: number;
   /** ψ(t_start): length 2·d, interleaved, unit norm. */
   initial: Float64Array;
+  /**
+   * Initial states propagated together in one run, all by the same products (default 1): `initial` then holds
+   * them one after another (2·dim numbers each), e.g. basis states for columns of the propagator.
+   */
+  columns?: number;
   /** Start of the time window. */
   tStart: number;
   /** End of the time window (> tStart). */
@@ -174,9 +179,12 @@ export interface MemoryEstimate {
  * and the recorded states.
  */
 export function estimateMemory(
-  model: Pick<Model, "dim" | "order" | "samples"> & { unperturbed: unknown[]; perturbation: unknown[] },
+  model: Pick<Model, "dim" | "order" | "samples" | "columns"> & {
+    unperturbed: unknown[];
+    perturbation: unknown[];
+  },
 ): MemoryEstimate {
-  const d = model.dim, r = model.order + 1;
+  const d = model.dim, r = model.order + 1, dm = d * (model.columns ?? 1);
   const terms = Math.max(model.unperturbed.length, 1) + Math.max(model.perturbation.length, 1);
   // vectors: the stacked state and its copies (series, record, tmp, save: r+2 each; comp r+1; two Taylor
   // buffers), the Runge–Kutta stages and work (17 × (r+1)), the packed kernel's scratch, and a few singles
@@ -184,15 +192,21 @@ export function estimateMemory(
   const vectors = 4 * (r + 2) + (r + 1) + 2 * Math.max(r, 2) + 17 * (r + 1) + Math.max(16, r + 3) + 10;
   const parts: [string, number, "wasm" | "record"][] = [
     [`engine operators: ${matrices} matrices of d² = ${d * d} complex`, matrices * d * d * 16, "wasm"],
-    [`engine state: ${vectors} vectors of d = ${d} complex`, vectors * d * 16, "wasm"],
+    [
+      `engine state: ${vectors} vectors of d = ${d} complex${dm > d ? ` × ${dm / d} columns` : ""}`,
+      vectors * dm * 16,
+      "wasm",
+    ],
     [
       `coefficient chunk: ${CHUNK_STEPS} steps × 3 nodes × ${terms} terms`,
       CHUNK_STEPS * 3 * terms * 16,
       "wasm",
     ],
     [
-      `recorded states: ${model.samples} samples × ${r + 2} vectors × d = ${d} complex`,
-      model.samples * (r + 2) * d * 16,
+      `recorded states: ${model.samples} samples × ${r + 2} vectors × d = ${d} complex${
+        dm > d ? ` × ${dm / d} columns` : ""
+      }`,
+      model.samples * (r + 2) * dm * 16,
       "record",
     ],
   ];

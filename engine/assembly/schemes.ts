@@ -52,6 +52,10 @@ export const ERR_SUBSTEPS: i32 = 4;
 const MAX_SUBSTEPS: f64 = 1e6;
 
 let d: i32 = 0;
+// Columns: the stacked state holds m independent initial states side by side (a "vector" is then m consecutive
+// d-vectors, dm = d·m entries), all propagated by the same products (propagator columns in one run).
+let m: i32 = 1;
+let dm: i32 = 0;
 let r: i32 = 0;
 let k0: i32 = 0;
 let kv: i32 = 0;
@@ -100,15 +104,17 @@ let errv: usize = 0;
  * Allocate every buffer for a run: dimension dim, Dyson order order, nH0 and
  * nV operator terms, coefficient chunks of chunkSteps steps. Returns an error code.
  */
-export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32): i32 {
+export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32, columns: i32): i32 {
   arenaReset();
   d = dim;
+  m = max(columns, 1);
+  dm = d * m;
   r = order + 1;
   k0 = nH0;
   kv = nV;
   chunk = chunkSteps;
   mat = <usize>d * d << 4;
-  vec = <usize>d << 4;
+  vec = <usize>dm << 4;
   const kt = <usize>(k0 + kv);
   h0Terms = arenaAlloc(<usize>max(k0, 1) * mat);
   vTerms = arenaAlloc(<usize>max(kv, 1) * mat);
@@ -150,7 +156,7 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32): 
   rkE3 = arenaAlloc(<usize>(r + 1) * vec);
   startRateValid = false;
   // the packed kernel's scratch: the stacked state at once (wider products go in slices of it)
-  const scratchBytes = packedScratchBytes(d, max(16, r + 2));
+  const scratchBytes = packedScratchBytes(d, max(16, (r + 2) * m));
   const kernelScratch = arenaAlloc(scratchBytes);
   setKernelScratch(kernelScratch, kernelScratch == 0 ? 0 : scratchBytes);
   adaptive = false;
@@ -240,10 +246,11 @@ function normInf(a: usize): f64 {
   return best;
 }
 
-/** Σ|v_a|² of a d-vector. */
-function norm2(v: usize): f64 {
+/** Σ|v_a|² over n entries (default: a whole vector of m columns). */
+function norm2(v: usize, n: i32 = -1): f64 {
   let s = 0.0;
-  for (let a = 0; a < d; a++) {
+  const count = n < 0 ? dm : n;
+  for (let a = 0; a < count; a++) {
     const p = v + (<usize>a << 4);
     s += cre(p) * cre(p) + cim(p) * cim(p);
   }
@@ -252,7 +259,7 @@ function norm2(v: usize): f64 {
 
 function norm1(v: usize): f64 {
   let s = 0.0;
-  for (let a = 0; a < d; a++) {
+  for (let a = 0; a < dm; a++) {
     const p = v + (<usize>a << 4);
     s += Math.abs(cre(p)) + Math.abs(cim(p));
   }
@@ -262,7 +269,7 @@ function norm1(v: usize): f64 {
 /** v ← e^{−iθ}·v for n vectors. */
 function rotate(v: usize, n: i32, theta: f64): void {
   const c = Math.cos(theta), s = -Math.sin(theta);
-  const count = <usize>n * d;
+  const count = <usize>n * dm;
   for (let e: usize = 0; e < count; e++) {
     const p = v + (e << 4);
     const a = cre(p), b = cim(p);
@@ -279,12 +286,12 @@ function applyGenerator(
 ): void {
   memory.fill(out + <usize>low * vec, 0, <usize>(rr - low) * vec);
   if (mode == MODE_DENSE) {
-    zgemv(dOp, d, inp + <usize>low * vec, out + <usize>low * vec, rr - low, ar * dScale, ai * dScale);
-    kernelFlops += 8.0 * <f64>d * <f64>d * <f64>(rr - low);
+    zgemv(dOp, d, inp + <usize>low * vec, out + <usize>low * vec, (rr - low) * m, ar * dScale, ai * dScale);
+    kernelFlops += 8.0 * <f64>d * <f64>d * <f64>((rr - low) * m);
   }
   if (mode != MODE_NONE) {
     // the diagonal part: −μ (dense) or E_a − μ (diag), times α
-    const count = <usize>(rr - low) * d;
+    const count = <usize>(rr - low) * dm;
     const base = <usize>low * vec;
     for (let e: usize = 0; e < count; e++) {
       const p = inp + base + (e << 4), o = out + base + (e << 4);
@@ -295,8 +302,8 @@ function applyGenerator(
     }
   }
   if (bOp != 0 && rr - 1 > low) {
-    zgemv(bOp, d, inp + <usize>low * vec, out + <usize>(low + 1) * vec, rr - 1 - low, ar, ai);
-    kernelFlops += 8.0 * <f64>d * <f64>d * <f64>(rr - 1 - low);
+    zgemv(bOp, d, inp + <usize>low * vec, out + <usize>(low + 1) * vec, (rr - 1 - low) * m, ar, ai);
+    kernelFlops += 8.0 * <f64>d * <f64>d * <f64>((rr - 1 - low) * m);
   }
 }
 
@@ -349,7 +356,7 @@ function expBlock(
       let small = true;
       for (let n = low; n < rr; n++) {
         const term = t2 + <usize>n * vec, acc = psi + <usize>n * vec;
-        for (let a = 0; a < d; a++) {
+        for (let a = 0; a < dm; a++) {
           const p = term + (<usize>a << 4), o = acc + (<usize>a << 4);
           cset(o, cre(o) + cre(p), cim(o) + cim(p));
         }
@@ -411,7 +418,7 @@ export function prepare(which: i32, strength: f64, haveEigen: i32): i32 {
   for (let k = 0; k < kv; k++) toBasis(vTerms + <usize>k * mat);
   // c0 = U†ψ0
   memory.fill(tmp, 0, vec);
-  zgemv(basisH, d, initial, tmp, 1, 1.0, 0.0);
+  zgemv(basisH, d, initial, tmp, m, 1.0, 0.0);
   startVectors(tmp);
   if (scheme == SCHEME_TIME_INDEPENDENT) {
     // Exact: eigen-decomposition of H = H0 + λV (original basis): ψ(τ) = U₂ e^{−iE₂τ} U₂†ψ0.
@@ -435,7 +442,7 @@ export function prepare(which: i32, strength: f64, haveEigen: i32): i32 {
     // amp2 = U₂†·c0
     transpose(m1, basis2, true);
     memory.fill(amp2, 0, vec);
-    zgemv(m1, d, series, amp2, 1, 1.0, 0.0);
+    zgemv(m1, d, series, amp2, m, 1.0, 0.0);
   }
   return ERR_OK;
 }
@@ -608,11 +615,11 @@ export function macroStep(tau: f64, h: f64): i32 {
   err |= oneStep(coefFine, 1, tau + h, h, series, exact, 2);
   if (err != ERR_OK) return err;
   // Partial sums' differences accumulate order by order; the exact state's difference is its own.
-  let worst = distance(exact, comp + <usize>r * vec, d);
+  let worst = distance(exact, comp + <usize>r * vec, dm);
   memory.fill(tmp, 0, vec);
   for (let n = 0; n < r; n++) {
     const a = series + <usize>n * vec, b = comp + <usize>n * vec;
-    for (let e = 0; e < d; e++) {
+    for (let e = 0; e < dm; e++) {
       const p = a + (<usize>e << 4), q = b + (<usize>e << 4), o = tmp + (<usize>e << 4);
       cset(o, cre(o) + cre(p) - cre(q), cim(o) + cim(p) - cim(q));
     }
@@ -621,7 +628,7 @@ export function macroStep(tau: f64, h: f64): i32 {
   lastError = worst / 15.0;
   // err += (exact − companion)/15
   const c = comp + <usize>r * vec;
-  for (let e = 0; e < d; e++) {
+  for (let e = 0; e < dm; e++) {
     const p = exact + (<usize>e << 4), q = c + (<usize>e << 4), o = errv + (<usize>e << 4);
     cset(o, cre(o) + (cre(p) - cre(q)) / 15.0, cim(o) + (cim(p) - cim(q)) / 15.0);
   }
@@ -684,7 +691,7 @@ function hermitianNorm(m: usize): f64 {
   for (let a = 0; a < d; a++) cset(x + (<usize>a << 4), 1.0 + 0.1 * <f64>a / <f64>d, 0.0);
   let estimate = 0.0;
   for (let it = 0; it < 30; it++) {
-    const n = Math.sqrt(norm2(x));
+    const n = Math.sqrt(norm2(x, d));
     if (n == 0) return 0.0;
     for (let a = 0; a < d; a++) {
       const p = x + (<usize>a << 4);
@@ -692,7 +699,7 @@ function hermitianNorm(m: usize): f64 {
     }
     memory.fill(y2, 0, vec);
     zgemv(m, d, x, y2, 1, 1.0, 0.0);
-    estimate = Math.sqrt(norm2(y2));
+    estimate = Math.sqrt(norm2(y2, d));
     const swap = x;
     x = y2;
     y2 = swap;
@@ -710,7 +717,7 @@ export function record(tau: f64): void {
   const n = r + 2;
   if (adaptive) {
     // the check slot: the exact state less its estimated error
-    for (let e = 0; e < d; e++) {
+    for (let e = 0; e < dm; e++) {
       const p = exact + (<usize>e << 4), q = errv + (<usize>e << 4), o = check + (<usize>e << 4);
       cset(o, cre(p) - cre(q), cim(p) - cim(q));
     }
@@ -728,29 +735,29 @@ export function record(tau: f64): void {
     // ψ = U·e^{−iEτ}·c
     phases(ph1, -tau);
     for (let v = 0; v < n; v++) {
-      for (let a = 0; a < d; a++) {
-        const p = tmp + <usize>v * vec + (<usize>a << 4), q = ph1 + (<usize>a << 4);
+      for (let e = 0; e < dm; e++) {
+        const p = tmp + <usize>v * vec + (<usize>e << 4), q = ph1 + (<usize>(e % d) << 4);
         const xr = cre(p), xi = cim(p), pr = cre(q), pi = cim(q);
         cset(p, pr * xr - pi * xi, pr * xi + pi * xr);
       }
     }
     memory.fill(rec, 0, <usize>n * vec);
-    zgemv(basis, d, tmp, rec, n, 1.0, 0.0);
+    zgemv(basis, d, tmp, rec, n * m, 1.0, 0.0);
     return;
   }
   // time-independent: exact from H's eigen-decomposition, in H0's eigenbasis first
   const ex = tmp + <usize>r * vec;
   memory.fill(ex, 0, vec);
-  for (let a = 0; a < d; a++) {
-    const w = -load<f64>(energies2 + (<usize>a << 3)) * tau;
-    const p = amp2 + (<usize>a << 4), o = ph2 + (<usize>a << 4);
+  for (let e = 0; e < dm; e++) {
+    const w = -load<f64>(energies2 + (<usize>(e % d) << 3)) * tau;
+    const p = amp2 + (<usize>e << 4), o = ph2 + (<usize>e << 4);
     const c = Math.cos(w), s = Math.sin(w);
     cset(o, c * cre(p) - s * cim(p), c * cim(p) + s * cre(p));
   }
-  zgemv(basis2, d, ph2, ex, 1, 1.0, 0.0);
+  zgemv(basis2, d, ph2, ex, m, 1.0, 0.0);
   memory.copy(tmp + <usize>(r + 1) * vec, check, vec);
   memory.fill(rec, 0, <usize>n * vec);
-  zgemv(basis, d, tmp, rec, n, 1.0, 0.0);
+  zgemv(basis, d, tmp, rec, n * m, 1.0, 0.0);
 }
 
 // ------------------------------------------- embedded Runge–Kutta (interaction picture, accuracy-driven runs)
@@ -847,26 +854,26 @@ function interactionRate(buf: usize, node: i32, tau: f64, z: usize, kout: usize)
   // u_v = e^{−iEτ}∘z_v for v = 0…N−1, and u_N = e^{−iEτ}∘z_exact
   for (let v = 0; v < r; v++) {
     const src = v < r - 1 ? z + <usize>v * vec : z + <usize>r * vec, dst = rkU + <usize>v * vec;
-    for (let a = 0; a < d; a++) {
-      const p = src + (<usize>a << 4), q = ph1 + (<usize>a << 4);
+    for (let e = 0; e < dm; e++) {
+      const p = src + (<usize>e << 4), q = ph1 + (<usize>(e % d) << 4);
       const xr = cre(p), xi = cim(p), pr = cre(q), pi = cim(q);
-      cset(dst + (<usize>a << 4), pr * xr + pi * xi, pr * xi - pi * xr);
+      cset(dst + (<usize>e << 4), pr * xr + pi * xi, pr * xi - pi * xr);
     }
   }
   memory.fill(rkP, 0, <usize>r * vec);
-  zgemv(op, d, rkU, rkP, r, fr, fi);
-  kernelFlops += 8.0 * <f64>d * <f64>d * <f64>r;
+  zgemv(op, d, rkU, rkP, r * m, fr, fi);
+  kernelFlops += 8.0 * <f64>d * <f64>d * <f64>(r * m);
   memory.fill(kout, 0, vec);
   for (let v = 0; v < r; v++) {
     const src = rkP + <usize>v * vec;
     const dst = v < r - 1 ? kout + <usize>(v + 1) * vec : kout + <usize>r * vec;
     const scale = v < r - 1 ? 1.0 : lambda;
-    for (let a = 0; a < d; a++) {
-      const p = src + (<usize>a << 4), q = ph1 + (<usize>a << 4);
+    for (let e = 0; e < dm; e++) {
+      const p = src + (<usize>e << 4), q = ph1 + (<usize>(e % d) << 4);
       const xr = cre(p), xi = cim(p), pr = cre(q), pi = cim(q);
       // −i·scale·(e^{iEτ}∘P)
       const yr = pr * xr - pi * xi, yi = pr * xi + pi * xr;
-      cset(dst + (<usize>a << 4), scale * yi, -scale * yr);
+      cset(dst + (<usize>e << 4), scale * yi, -scale * yr);
     }
   }
 }
@@ -884,7 +891,7 @@ function interactionRate(buf: usize, node: i32, tau: f64, z: usize, kout: usize)
  * y0) already in place and the coefficients of the 12 stage times in the fine buffer.
  */
 function rkStages(tau: f64, h: f64, y0: usize, yout: usize): void {
-  const n = <usize>(r + 1) * <usize>d, bytes = <usize>(r + 1) * vec;
+  const n = <usize>(r + 1) * <usize>dm, bytes = <usize>(r + 1) * vec;
   for (let i = 1; i < RK_STAGES; i++) {
     memory.copy(rkZ, y0, bytes);
     for (let j = 0; j < i; j++) {
@@ -910,7 +917,7 @@ function rkStages(tau: f64, h: f64, y0: usize, yout: usize): void {
  */
 export function rkStep(tau: f64, h: f64): i32 {
   adaptive = true;
-  const bytes = <usize>(r + 1) * vec, n = <usize>(r + 1) * <usize>d;
+  const bytes = <usize>(r + 1) * vec, n = <usize>(r + 1) * <usize>dm;
   memory.copy(save, series, bytes + vec);
   if (!startRateValid) interactionRate(coefFine, 0, tau, series, rkStage);
   rkStages(tau, h, series, series);
@@ -924,8 +931,8 @@ export function rkStep(tau: f64, h: f64): i32 {
   }
   // Partial sums' errors accumulate order by order; the exact state's is its own.
   for (let v = 1; v < r; v++) {
-    axpy(rkE5 + <usize>v * vec, 1.0, rkE5 + <usize>(v - 1) * vec, <usize>d);
-    axpy(rkE3 + <usize>v * vec, 1.0, rkE3 + <usize>(v - 1) * vec, <usize>d);
+    axpy(rkE5 + <usize>v * vec, 1.0, rkE5 + <usize>(v - 1) * vec, <usize>dm);
+    axpy(rkE3 + <usize>v * vec, 1.0, rkE3 + <usize>(v - 1) * vec, <usize>dm);
   }
   let worst = 0.0, exactScale = 0.0;
   for (let v = 0; v <= r; v++) {
@@ -936,7 +943,7 @@ export function rkStep(tau: f64, h: f64): i32 {
     if (v == r && denominator > 0) exactScale = Math.sqrt(s5) / denominator;
   }
   lastError = worst;
-  axpy(errv, exactScale, rkE5 + <usize>r * vec, <usize>d);
+  axpy(errv, exactScale, rkE5 + <usize>r * vec, <usize>dm);
   startRateValid = false;
   return ERR_OK;
 }
