@@ -11,7 +11,8 @@ import { inChosenBasis, interactionPicture } from "./eigenbasis.ts";
 import { type Expectation, expectations } from "./expectations.ts";
 import type { BuiltCase } from "../case/build.ts";
 import { engineModel, inspectCase, type Inspection, normIntegralAt, turningFrom } from "./inspection.ts";
-import { type Engine, type Result, solve } from "../../engine/mod.ts";
+import { columnOf, type Engine, type Result, solve } from "../../engine/mod.ts";
+import { type Gate, gateColumns, gateOf, withColumns } from "./gate.ts";
 
 /** A finished run with its analysis. */
 export interface RunOutcome {
@@ -23,6 +24,8 @@ export interface RunOutcome {
   observed: Expectation[];
   /** The states whose amplitudes are reported: the result's own, or in the interaction picture. */
   amplitudes: { exact: Float64Array; terms: Float64Array[] };
+  /** With a subspace: the gate the run performs on it (in the case's own labels), order by order. */
+  gate?: Gate;
 }
 
 /**
@@ -44,7 +47,12 @@ export function runCase(
   const drives = driveWarning(built, driveSpectra(built, info));
   if (drives && !built.warnings.includes(drives)) built.warnings.push(drives);
   const turning = turningFrom(info);
-  const solved = solve(engine, engineModel(built, turning), onProgress);
+  const model = engineModel(built, turning);
+  // with a subspace, its propagator columns ride along with the start state in the same run
+  const columns = built.subspace ? gateColumns(built, info.scheme !== "time-dependent-h0") : undefined;
+  const run = solve(engine, columns ? withColumns(model, columns) : model, onProgress);
+  const gate = columns ? gateOf(engine, built, run, columns, turning.eigen) : undefined;
+  const solved = columnOf(run, built.model.dim, 0);
   // From here on the case and result are seen in the basis the case asks for.
   const chosen = inChosenBasis(engine, built, info, solved);
   const result = chosen.result;
@@ -64,5 +72,5 @@ export function runCase(
     ? interactionPicture(engine, built, info, result)
     : result;
   const observed = expectations(built.observables, result, built.model.dim);
-  return { built, info, result, analysis, observed, amplitudes };
+  return { built, info, result, analysis, observed, amplitudes, ...(gate ? { gate } : {}) };
 }

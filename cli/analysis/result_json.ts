@@ -7,9 +7,11 @@
 import type { RunOutcome } from "./outcome.ts";
 import { populationsAt } from "../../engine/mod.ts";
 import { VERSION } from "../base/version.ts";
+import type { Gate } from "./gate.ts";
 
 /** The stable JSON result (PRODUCT.md), plus the analysis. */
-export function runJson({ built, result, analysis, observed, amplitudes }: RunOutcome): unknown {
+export function runJson(outcome: RunOutcome): unknown {
+  const { built, result, analysis, observed, amplitudes } = outcome;
   const d = built.model.dim;
   const labels = built.targets;
   const index = labels.map((l) => built.space.labels.indexOf(l));
@@ -87,8 +89,37 @@ export function runJson({ built, result, analysis, observed, amplitudes }: RunOu
       exact: ampsOf(amplitudes.exact),
       series: seriesAmplitudes,
     },
+    ...(outcome.gate ? { gate: gateJson(outcome.gate) } : {}),
     warnings: built.warnings,
     analysis: analysisJson(analysis),
+  };
+}
+
+/** The gate part of the JSON result (propagator mode), at the final time. */
+function gateJson(gate: Gate): Record<string, unknown> {
+  const matrix = gate.magnus?.effective;
+  return {
+    subspace: gate.labels,
+    time: gate.time,
+    fidelity: gate.fidelity,
+    norm_error: gate.normError,
+    leakage: { exact: gate.leakage.exact, series: gate.leakage.series },
+    magnus: gate.magnus
+      ? {
+        error: gate.magnus.error,
+        effective_hamiltonian: {
+          picture: "interaction",
+          unit: gate.magnus.unit,
+          labels: gate.labels,
+          matrix: Array.from(
+            { length: matrix!.rows },
+            (_, i) =>
+              Array.from({ length: matrix!.cols }, (_, j) => [matrix!.get(i, j).re, matrix!.get(i, j).im]),
+          ),
+        },
+      }
+      : null,
+    ...(gate.magnusSkipped ? { magnus_skipped: gate.magnusSkipped } : {}),
   };
 }
 

@@ -32,6 +32,7 @@ export function formatRun(outcome: RunOutcome, show: "population" | "amplitude" 
     ...targetTables(outcome),
     ...(show === "amplitude" ? amplitudeTables(outcome) : []),
     ...observableTables(outcome),
+    ...gateTable(outcome),
   ];
   const { built, result, analysis } = outcome;
   out.push("");
@@ -45,7 +46,9 @@ export function formatRun(outcome: RunOutcome, show: "population" | "amplitude" 
   const refText = result.scheme === "time-independent"
     ? "exact by eigen-decomposition vs by Taylor series"
     : built.model.accuracy !== undefined
-    ? `step doubling on every step, carried to the reported time; judged with the accuracy ${built.model.accuracy} the steps were chosen for`
+    ? `${
+      result.method === "runge-kutta-8" ? "the Runge–Kutta pair's embedded estimate" : "step doubling"
+    } on every step, carried to the reported time; judged with the accuracy ${built.model.accuracy} the steps were chosen for`
     : "step doubling, |P(h) − P(2h)|/15";
   const judged = analysis.untrusted.length === 0;
   out.push(
@@ -86,6 +89,54 @@ export function formatRun(outcome: RunOutcome, show: "population" | "amplitude" 
   }
   for (const w of built.warnings) out.push(`  warning: ${w}`);
   return out.join("\n");
+}
+
+/** The gate on the subspace, order by order (propagator mode). */
+function gateTable({ built, gate }: RunOutcome): string[] {
+  if (!gate) return [];
+  const tu = built.units.time ? ` ${built.units.time}` : "";
+  const rows = [[
+    "order",
+    "fidelity F",
+    "1 − F",
+    "‖(U − S_n)P‖",
+    "leakage",
+    ...(gate.magnus ? ["Magnus ‖(e^Ω − U_I)P‖"] : []),
+  ]];
+  rows.push(["exact", "1", "0", "0", sci(gate.leakage.exact, 3), ...(gate.magnus ? [""] : [])]);
+  gate.fidelity.forEach((f, n) =>
+    rows.push([
+      String(n),
+      f.toFixed(12),
+      sci(1 - f, 3),
+      sci(gate.normError[n]!, 3),
+      sci(gate.leakage.series[n]!, 3),
+      ...(gate.magnus ? [sci(gate.magnus.error[n]!, 3)] : []),
+    ])
+  );
+  const widths = rows[0]!.map((_, c) => Math.max(...rows.map((r) => r[c]!.length)));
+  const out = [
+    "",
+    `gate on the subspace {${gate.labels.join(", ")}} at t = ${Number(gate.time.toPrecision(6))}${tu} ` +
+    "(partial sums S_n against the exact propagator U; fidelity and leakage averaged over the subspace's inputs)",
+    ...rows.map((r) => "  " + r.map((cell, c) => cell.padEnd(widths[c]!)).join("  ").trimEnd()),
+  ];
+  if (gate.magnus) {
+    const m = gate.magnus.effective;
+    const entry = (i: number, j: number) => {
+      const z = m.get(i, j);
+      return `${sci(z.re, 4)}${z.im < 0 ? " − " : " + "}${sci(Math.abs(z.im), 3)}i`;
+    };
+    out.push(
+      `  effective Hamiltonian iΩ/(t − t0) to order ${gate.fidelity.length - 1} on {${
+        gate.labels.join(", ")
+      }} [${gate.magnus.unit}, interaction picture]:`,
+    );
+    gate.labels.forEach((label, i) =>
+      out.push(`    ${label.padEnd(8)} ${gate.labels.map((_, j) => entry(i, j).padStart(24)).join(" ")}`)
+    );
+  } else if (gate.magnusSkipped) out.push(`  Magnus terms: not computed (${gate.magnusSkipped})`);
+  return out;
 }
 
 function header({ built, info, result, analysis }: RunOutcome): string[] {

@@ -22,7 +22,7 @@ import {
   termCount,
 } from "./terms.ts";
 import { checkHermitian } from "./hermiticity.ts";
-import { startState } from "./start.ts";
+import { startState, type Subspace, subspaceOf } from "./start.ts";
 import { buildObservables, type Observable } from "./observables.ts";
 import { checkMemory, guardExactWork, guardSteppedWork } from "./limits.ts";
 import type { Model } from "../../engine/model.ts";
@@ -45,6 +45,8 @@ export interface BuildOptions {
   basis?: "bare" | "eigen";
   /** `--picture schrodinger|interaction`: the picture amplitudes are reported in. */
   picture?: "schrodinger" | "interaction";
+  /** `--subspace a,b`: follow these propagator columns too (a gate on that subspace). */
+  subspace?: string[];
 }
 
 /** A case ready for the engine, with everything a report needs. */
@@ -65,6 +67,8 @@ export interface BuiltCase {
   terms: AssembledTerm[];
   /** `[[observable]]` entries, as matrices in the case's basis. */
   observables: Observable[];
+  /** `[start] subspace`: the levels of a gate whose propagator columns are followed too. */
+  subspace?: Subspace;
   model: Model;
   warnings: string[];
 }
@@ -150,6 +154,8 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
 
   const initial = startState(spec.start, space, constScope, warnings);
   const observables = buildObservables(spec, space, constScope);
+  const written = options.subspace ?? spec.start.subspace;
+  const subspace = written ? subspaceOf(written, space, options.subspace !== undefined) : undefined;
   const basis = options.basis ?? spec.series.basis ?? "bare";
   const targets = options.targets ?? spec.series.targets ?? space.labels;
   // eigenstates are named after their dominant bare label, known only once H0 is diagonalised: checked then
@@ -183,6 +189,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
     picture: options.picture ?? spec.series.picture ?? "schrodinger",
     terms,
     observables,
+    ...(subspace ? { subspace } : {}),
     model,
     warnings,
   };

@@ -80,6 +80,7 @@ export const caseSchema = z.object({
   start: z.object({
     state: z.string().optional(),
     amplitudes: z.array(entrySchema).optional(),
+    subspace: z.array(z.string()).min(1).optional(),
   }).strict(),
   grid: z.object({
     t_start: scalar.default(0),

@@ -26,20 +26,25 @@ export function startState(
   scope: Scope,
   warnings: string[],
 ): Float64Array {
-  if ((start.state === undefined) === (start.amplitudes === undefined)) {
+  if (start.state !== undefined && start.amplitudes !== undefined) {
+    throw new CaseError("give one of state and amplitudes, not both", ["start"], 'e.g. state = "g"');
+  }
+  // with a subspace, the state defaults to its first label
+  const state = start.state ?? (start.amplitudes === undefined ? start.subspace?.[0] : undefined);
+  if (state === undefined && start.amplitudes === undefined) {
     throw new CaseError(
-      "give exactly one of state and amplitudes",
+      "give one of state and amplitudes (or a subspace)",
       ["start"],
-      'e.g. state = "g", or amplitudes = [1, 0, …]',
+      'e.g. state = "g", or amplitudes = [1, 0, …], or subspace = ["g", "e"]',
     );
   }
   const psi = new Float64Array(2 * space.dim);
-  if (start.state !== undefined) {
-    const k = space.labels.indexOf(start.state);
+  if (state !== undefined) {
+    const k = space.labels.indexOf(state);
     if (k < 0) {
       throw new CaseError(
-        `unknown label "${start.state}"`,
-        ["start", "state"],
+        `unknown label "${state}"`,
+        start.state === undefined ? ["start", "subspace", 0] : ["start", "state"],
         `labels are: ${listLabels(space)}`,
       );
     }
@@ -85,4 +90,38 @@ export function startState(
     psi.forEach((x, k) => (psi[k] = x / largest / root));
   }
   return psi;
+}
+
+/** The levels whose propagator columns a run follows (`[start] subspace`, or `--subspace`). */
+export interface Subspace {
+  labels: string[];
+  /** Their indices in the space. */
+  indices: number[];
+}
+
+/**
+ * The subspace of a gate, checked: known labels, none twice.
+ *
+ * @param labels the labels as written
+ * @param space the Hilbert space
+ * @param fromFlag whether they came from `--subspace` (no key path then)
+ * @returns the labels and their indices
+ */
+export function subspaceOf(labels: string[], space: Space, fromFlag: boolean): Subspace {
+  const indices = labels.map((label, k) => {
+    const at = space.labels.indexOf(label);
+    const path = fromFlag ? [] : ["start", "subspace", k];
+    if (at < 0) {
+      throw new CaseError(
+        `unknown label "${label}" in the subspace`,
+        path,
+        `labels are: ${listLabels(space)}`,
+      );
+    }
+    if (labels.indexOf(label) !== k) {
+      throw new CaseError(`"${label}" is in the subspace twice`, path, "list each level once");
+    }
+    return at;
+  });
+  return { labels, indices };
 }

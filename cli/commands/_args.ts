@@ -22,6 +22,7 @@ export const CASE_FLAGS: Flags = {
   targets: { type: "string" },
   basis: { type: "string" },
   picture: { type: "string" },
+  subspace: { type: "string" },
   quiet: { type: "boolean" },
 };
 
@@ -77,8 +78,15 @@ export function buildOptions(values: Record<string, unknown>): BuildOptions {
   if (picture !== undefined && picture !== "schrodinger" && picture !== "interaction") {
     usage(`--picture takes schrodinger or interaction, got "${picture}"`);
   }
+  const subspace = values.subspace === undefined
+    ? undefined
+    : String(values.subspace).split(",").map((s) => s.trim()).filter(Boolean);
+  if (subspace !== undefined && subspace.length === 0) {
+    usage('--subspace takes labels, e.g. --subspace "0,1"');
+  }
   return {
     set,
+    ...(subspace !== undefined ? { subspace } : {}),
     ...(basis !== undefined ? { basis: basis as "bare" | "eigen" } : {}),
     ...(picture !== undefined ? { picture: picture as "schrodinger" | "interaction" } : {}),
     order: integerFlag(values.order, "--order"),
