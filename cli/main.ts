@@ -36,6 +36,7 @@ const USAGE: Record<string, string> = {
                   --show amplitude    also the amplitude (modulus, phase) of each partial sum
                   --basis eigen       report in H0's eigenstates (default: bare, the case's labels)
                   --picture interaction  amplitudes as e^{iH0 t}ψ (default: schrodinger, ψ itself)
+                  --subspace a,b      also the gate on these levels: fidelity, leakage, Magnus per order
                   --quiet             no progress on stderr
                   --out DIR           also write result.json, populations.csv, report.html`,
   sweep: `  sweep CASE      a parameter sweep over the case's [sweep] grid: points.csv, report.html

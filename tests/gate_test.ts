@@ -212,3 +212,45 @@ Deno.test("ordo run --subspace: the gate in the table and in the JSON; an unknow
   assertEqual(bad.code, 2);
   assert(new TextDecoder().decode(bad.stderr).includes('unknown label "x" in the subspace'));
 });
+
+Deno.test("a sweep with a subspace writes fidelity per order and the leakage per point, and resumes over them", async () => {
+  const dir = Deno.makeTempDirSync();
+  const file = tempCase(twoLevelGate(2, 5));
+  const sweep = (extra: string[]) =>
+    new Deno.Command(Deno.execPath(), {
+      args: [
+        "run",
+        "-A",
+        new URL("../cli/main.ts", import.meta.url).pathname,
+        "sweep",
+        file,
+        "--vary",
+        "g=0.05:0.2:4",
+        "--out",
+        dir,
+        "--quiet",
+        ...extra,
+      ],
+      stdout: "piped",
+      stderr: "piped",
+    }).output();
+  const first = await sweep([]);
+  assertEqual(first.code, 0, new TextDecoder().decode(first.stderr));
+  const lines = Deno.readTextFileSync(`${dir}/points.csv`).trim().split("\n");
+  const header = lines[0]!.split(",");
+  assertEqual(header.slice(-4).join(","), "fidelity:order0,fidelity:order1,fidelity:order2,leakage:exact");
+  assertEqual(lines.length, 5);
+  // per row: fidelities in [0, 1], rising to 1 at weak coupling; nothing leaks from the whole space
+  for (const row of lines.slice(1)) {
+    const cells = row.split(",").map(Number);
+    const [f0, f1, f2, leak] = cells.slice(-4);
+    for (const f of [f0!, f1!, f2!]) assert(f >= 0 && f <= 1 + 1e-12, `fidelity ${f} in [0, 1]`);
+    assert(f2! >= f0!, `order 2 (${f2}) at least as good as order 0 (${f0})`);
+    assertClose(leak!, 0, { abs: 1e-14 });
+  }
+  // drop the last row (as if cut): resume recomputes it and keeps the others
+  Deno.writeTextFileSync(`${dir}/points.csv`, lines.slice(0, 4).join("\n") + "\n");
+  const resumed = await sweep(["--resume"]);
+  assertEqual(resumed.code, 0, new TextDecoder().decode(resumed.stderr));
+  assertEqual(Deno.readTextFileSync(`${dir}/points.csv`).trim().split("\n").length, 5);
+});

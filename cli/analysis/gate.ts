@@ -3,11 +3,13 @@
  * start state and the propagator columns of the subspace (all columns, when the Magnus terms are wanted and the
  * space is small) together; from them, at the final time:
  *
- * - the average gate fidelity of each partial sum S_n against the exact propagator U on the subspace P,
- *   F_n = (Tr(M M†) + |Tr M|²) / (m(m+1)) with M = (UP)†(S_nP), the average over pure inputs ψ in the subspace
- *   of |⟨Uψ|S_nψ⟩|² (Nielsen, Phys. Lett. A 303 (2002) 249; for an M that is not unitary, the same Haar
- *   average: Pedersen, Møller & Mølmer, Phys. Lett. A 367 (2007) 47). S_n is not renormalised: a partial sum
- *   that loses norm loses fidelity, one that gains norm may not, so read F with the norm error beside it;
+ * - the average gate fidelity of each partial sum S_n against the exact propagator U on the subspace P:
+ *   the Haar average over pure inputs ψ in the subspace of |⟨Uψ|S_nψ⟩|² is (Tr(M M†) + |Tr M|²) / (m(m+1))
+ *   with M = (UP)†(S_nP) (Nielsen, Phys. Lett. A 303 (2002) 249; for an M that is not unitary, the same
+ *   average: Pedersen, Møller & Mølmer, Phys. Lett. A 367 (2007) 47). A truncated sum is not unitary, so it is
+ *   divided by the average of ‖S_nψ‖² over the same inputs, ‖S_nP‖²_F/m: F_n ≤ 1 (Cauchy–Schwarz, input by
+ *   input), equal to Nielsen's F for a unitary S_n; a sum that only gains or loses norm keeps F = 1, and the
+ *   norm error beside it shows that part;
  * - the operator-norm error ‖(U − S_n)P‖₂ (largest singular value);
  * - the leakage out of the subspace, averaged over its inputs: ‖QUP‖²_F/m, and ‖QS_nP‖²_F/m per order;
  * - the Magnus terms Ω_n of the interaction-picture propagator U_I = e^{iH0(t−t0)}U, from the λ-expansion of
@@ -20,17 +22,21 @@
  */
 
 import { ComplexMatrix } from "../case/complex_matrix.ts";
+import { WHOLE_PROPAGATOR_MAX_DIM } from "../case/start.ts";
 import type { BuiltCase } from "../case/build.ts";
 import { columnOf, eigh, type Engine, type Model, type Result } from "../../engine/mod.ts";
 
-/** The largest space whose whole propagator a run follows for the Magnus terms (d columns cost d runs' work). */
-export const MAGNUS_MAX_DIM = 16;
+/** The largest space whose whole propagator a gate run follows (for the Magnus terms). */
+export const MAGNUS_MAX_DIM = WHOLE_PROPAGATOR_MAX_DIM;
 
 /** The gate a run performs on its subspace, at the final time. */
 export interface Gate {
   labels: string[];
   time: number;
-  /** fidelity[n]: average gate fidelity of the partial sum to order n against the exact propagator. */
+  /**
+   * fidelity[n]: average gate fidelity of the partial sum to order n against the exact propagator, divided by
+   * the partial sum's average squared norm on the subspace (≤ 1; Nielsen's F for a unitary sum).
+   */
   fidelity: number[];
   /** normError[n]: ‖(U − S_n)P‖₂. */
   normError: number[];
@@ -243,7 +249,7 @@ export function gateOf(
   const gate: Gate = {
     labels: sub.labels,
     time: result.times[result.times.length - 1]!,
-    fidelity: partial.map((s) => averageFidelity(exact, s)),
+    fidelity: partial.map((s) => averageFidelity(exact, s) / (frobenius2(s) / m)),
     normError: partial.map((s) => spectralNorm(engine, exact.sub(s))),
     leakage: { exact: outside(exact, inside) / m, series: partial.map((s) => outside(s, inside) / m) },
   };

@@ -118,7 +118,8 @@ function gateTable({ built, gate }: RunOutcome): string[] {
   const out = [
     "",
     `gate on the subspace {${gate.labels.join(", ")}} at t = ${Number(gate.time.toPrecision(6))}${tu} ` +
-    "(partial sums S_n against the exact propagator U; fidelity and leakage averaged over the subspace's inputs)",
+    "(partial sums S_n against the exact propagator U; fidelity and leakage averaged over the subspace's inputs, " +
+    "fidelity per unit norm of S_n)",
     ...rows.map((r) => "  " + r.map((cell, c) => cell.padEnd(widths[c]!)).join("  ").trimEnd()),
   ];
   if (gate.magnus) {

@@ -27,6 +27,10 @@ export const EXAMPLES: Record<string, { file: string; about: string }> = {
     file: "kicked_oscillator.toml",
     about: "driven truncated oscillator",
   },
+  gate: {
+    file: "gate_on_mode.toml",
+    about: "a π/2 gate on a three-level mode: fidelity, leakage, Magnus vs Dyson per order",
+  },
   check: {
     file: "weak_drive_check.toml",
     about: "a sweep with [[approx]] formulas for `ordo check`",

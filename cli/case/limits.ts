@@ -18,14 +18,22 @@ function gib(bytes: number): string {
 /**
  * Refuses a case whose engine memory or recorded states would exceed the limits.
  *
- * @param shape dimension, order, samples and the number of H0 and V matrices
+ * @param shape dimension, order, samples, the number of H0 and V matrices, and of initial states run together
  * @throws {CaseError} with the estimate and what to shrink
  */
 export function checkMemory(
-  shape: { dim: number; order: number; samples: number; unperturbed: number; perturbation: number },
+  shape: {
+    dim: number;
+    order: number;
+    samples: number;
+    unperturbed: number;
+    perturbation: number;
+    columns?: number;
+  },
 ): void {
   const memory = estimateMemory({
     dim: shape.dim,
+    columns: shape.columns ?? 1,
     order: shape.order,
     samples: shape.samples,
     unperturbed: Array(shape.unperturbed),

@@ -92,6 +92,12 @@ export function startState(
   return psi;
 }
 
+/**
+ * The largest space whose whole propagator a gate run follows (for the Magnus terms, which need every column;
+ * d columns cost about d runs' work). Larger spaces follow the subspace's columns only.
+ */
+export const WHOLE_PROPAGATOR_MAX_DIM = 16;
+
 /** The levels whose propagator columns a run follows (`[start] subspace`, or `--subspace`). */
 export interface Subspace {
   labels: string[];

@@ -23,6 +23,7 @@ import {
 import {
   csvHeader,
   csvRow,
+  gateColumnCount,
   PointEvaluator,
   type PointResult,
   rowKey,
@@ -163,7 +164,7 @@ async function prepare(file: string, options: SweepOptions) {
     throw e;
   }
   const { base } = evaluator;
-  const header = csvHeader(setup.axes, base.targets, base.model.order);
+  const header = csvHeader(setup.axes, base.targets, base.model.order, base.subspace !== undefined);
   const manifest = manifestOf(source.sha256, grid, options.build, { ...base, order: base.model.order });
   return { grid, setup, evaluator, header, manifest };
 }
@@ -184,7 +185,7 @@ function openFolder(
         "start a new sweep with another --out, or restore the case it was started with",
     );
   }
-  const shape = { targets: manifest.targets.length, order: manifest.order };
+  const shape = { targets: manifest.targets.length, order: manifest.order, gate: gateColumnCount(header) };
   const resumed = existing
     ? finishedRows(csvPath, header, grid, shape)
     : { rows: [], dropped: 0, example: "" };
@@ -263,7 +264,7 @@ async function sweepLocked(
     .filter((j) => !done.has(j.values.map(String).join(",")));
 
   const started = performance.now();
-  const reusedSeries = grid.axes.length === 1 && grid.axes[0]!.name === STRENGTH;
+  const reusedSeries = grid.axes.length === 1 && grid.axes[0]!.name === STRENGTH && !evaluator.base.subspace;
   const written = await evaluateInto(csvPath, rows, jobs, reusedSeries, { setup, evaluator, options });
   const seconds = (performance.now() - started) / 1000;
   writeSorted(csvPath, header, rows, grid);

@@ -13,6 +13,7 @@ import { escapeHtml } from "./html.ts";
 import { csvField } from "../base/csv.ts";
 import { Figures, slug } from "./figures.ts";
 import type { RunOutcome } from "../analysis/outcome.ts";
+import type { Gate } from "../analysis/gate.ts";
 import { formatRun } from "../analysis/table.ts";
 import { runJson } from "../analysis/result_json.ts";
 import { VERSION } from "../base/version.ts";
@@ -80,6 +81,17 @@ export function amplitudesCsv(json: ResultJson): string {
       });
     }
   });
+  return lines.join("\n") + "\n";
+}
+
+/** The gate per order (propagator mode): `order,fidelity,norm_error,leakage,magnus_error`; the exact row first. */
+export function gateCsv(gate: Gate): string {
+  const lines = ["order,fidelity,norm_error,leakage,magnus_error", `exact,1,0,${gate.leakage.exact},`];
+  gate.fidelity.forEach((f, n) =>
+    lines.push(
+      `${n},${f},${gate.normError[n]},${gate.leakage.series[n]},${gate.magnus ? gate.magnus.error[n] : ""}`,
+    )
+  );
   return lines.join("\n") + "\n";
 }
 
@@ -202,8 +214,14 @@ export async function writeReport(outcome: RunOutcome, dir: string): Promise<str
   Deno.writeTextFileSync(files[1]!, populationsCsv(json));
   Deno.writeTextFileSync(files[3]!, amplitudesCsv(json));
   if (outcome.observed.length > 0) {
-    files.push(join(dir, "observables.csv"));
-    Deno.writeTextFileSync(files[4]!, observablesCsv(outcome, json.times));
+    const path = join(dir, "observables.csv");
+    files.push(path);
+    Deno.writeTextFileSync(path, observablesCsv(outcome, json.times));
+  }
+  if (outcome.gate) {
+    const path = join(dir, "gate.csv");
+    files.push(path);
+    Deno.writeTextFileSync(path, gateCsv(outcome.gate));
   }
   const sections: string[] = [];
   const plotted = json.labels.slice(0, MAX_PLOTTED_TARGETS);

@@ -15,7 +15,8 @@ import { CaseError } from "../case/errors.ts";
 import { compileExpression } from "../case/expression.ts";
 import { STRENGTH } from "../case/params.ts";
 import { csvField } from "../base/csv.ts";
-import { type Engine, populationsAt, type Result, solve } from "../../engine/mod.ts";
+import { columnOf, type Engine, populationsAt, type Result, solve } from "../../engine/mod.ts";
+import { gateOf, withColumns } from "../analysis/gate.ts";
 
 /** What every point shares. */
 export interface SweepSetup {
@@ -42,6 +43,8 @@ export interface PointResult {
   minOrder: (number | null)[];
   /** The setup's formulas at the final time, in order. */
   formulas: number[];
+  /** With a subspace: the gate's fidelity per order and the exact leakage at the final time. */
+  gate?: { fidelity: number[]; leakage: number };
 }
 
 /** Builds and solves the points of one sweep with one engine. */
@@ -80,8 +83,14 @@ export class PointEvaluator {
   evaluate(index: number, values: number[]): PointResult {
     const built = this.build(values);
     const turning = turningOf(this.#engine, built);
-    const result = solve(this.#engine, engineModel(built, turning));
+    const model = engineModel(built, turning);
+    // a gate's subspace columns ride along in the same run (its columns alone: no Magnus terms in sweeps)
+    const columns = built.subspace ? { levels: built.subspace.indices, whole: false } : undefined;
+    const run = solve(this.#engine, columns ? withColumns(model, columns) : model);
+    const result = columnOf(run, built.model.dim, 0);
+    const gate = columns ? gateOf(this.#engine, built, run, columns) : undefined;
     return {
+      ...(gate ? { gate: { fidelity: gate.fidelity, leakage: gate.leakage.exact } } : {}),
       ...summarise(
         index,
         values,
@@ -126,6 +135,11 @@ export class PointEvaluator {
    * propagation (order 0) runs per point.
    */
   evaluateStrengths(points: { index: number; values: number[] }[], onPoint: (r: PointResult) => void): void {
+    if (this.base.subspace) {
+      // a gate needs its columns at every λ: no reuse
+      for (const { index, values } of points) onPoint(this.evaluate(index, values));
+      return;
+    }
     const built = this.build([1]);
     const turning = turningOf(this.#engine, built);
     const series = solve(this.#engine, engineModel(built, turning));
@@ -181,15 +195,27 @@ function summarise(
   };
 }
 
-/** The CSV header of a sweep: swept names, per target exact and orders, then min orders. */
-export function csvHeader(axes: string[], targets: string[], order: number): string {
+/**
+ * The CSV header of a sweep: swept names, per target exact and orders, then min orders, then with a gate its
+ * fidelity per order and the exact leakage.
+ */
+export function csvHeader(axes: string[], targets: string[], order: number, gate = false): string {
   const cols = [...axes];
   for (const t of targets) {
     cols.push(`exact:${t}`);
     for (let n = 0; n <= order; n++) cols.push(`order${n}:${t}`);
   }
   for (const t of targets) cols.push(`min_order:${t}`);
+  if (gate) {
+    for (let n = 0; n <= order; n++) cols.push(`fidelity:order${n}`);
+    cols.push("leakage:exact");
+  }
   return cols.map(csvField).join(",");
+}
+
+/** How many gate columns a header has (they come last). */
+export function gateColumnCount(header: string): number {
+  return header.split(",").filter((c) => c.startsWith("fidelity:") || c === "leakage:exact").length;
 }
 
 /** One CSV row (numbers in shortest round-trip form). */
@@ -197,6 +223,7 @@ export function csvRow(r: PointResult): string {
   const cells = r.values.map(String);
   r.exact.forEach((e, j) => cells.push(String(e), ...r.orders[j]!.map(String)));
   for (const m of r.minOrder) cells.push(m === null ? "" : String(m));
+  if (r.gate) cells.push(...r.gate.fidelity.map(String), String(r.gate.leakage));
   return cells.join(",");
 }
 

@@ -145,7 +145,7 @@ export function finishedRows(
   path: string,
   header: string,
   grid: Grid,
-  shape: { targets: number; order: number },
+  shape: { targets: number; order: number; gate?: number },
 ): ResumedRows {
   let text: string;
   try {
@@ -163,13 +163,18 @@ export function finishedRows(
   }
   const keys = keyIndex(grid);
   const numbers = grid.axes.length + shape.targets * (shape.order + 2);
-  const columns = numbers + shape.targets;
+  const columns = numbers + shape.targets + (shape.gate ?? 0);
   const seen = new Set<string>();
   const rows: string[] = [];
   let dropped = complete.length === text.length ? 0 : 1;
   let example = dropped ? "the last line was cut short" : "";
   lines.slice(1).forEach((row, k) => {
-    const why = rowProblem(row, { numbers, columns, axes: grid.axes.length }, keys, seen);
+    const why = rowProblem(
+      row,
+      { numbers, orders: shape.targets, columns, axes: grid.axes.length },
+      keys,
+      seen,
+    );
     if (why) {
       dropped++;
       example ||= `line ${k + 2}: ${why}`;
@@ -187,14 +192,16 @@ export function finishedRows(
 /** What is wrong with a row, or undefined when it is sound. */
 function rowProblem(
   row: string,
-  shape: { numbers: number; columns: number; axes: number },
+  shape: { numbers: number; orders: number; columns: number; axes: number },
   keys: Map<string, number>,
   seen: Set<string>,
 ): string | undefined {
   const cells = row.split(",");
   if (cells.length !== shape.columns) return `${cells.length} cells, expected ${shape.columns}`;
   const bad = cells.findIndex((c, k) =>
-    k < shape.numbers ? !(c !== "" && Number.isFinite(Number(c))) : !(c === "" || /^\d+$/.test(c))
+    k < shape.numbers || k >= shape.numbers + shape.orders
+      ? !(c !== "" && Number.isFinite(Number(c)))
+      : !(c === "" || /^\d+$/.test(c))
   );
   if (bad >= 0) return `cell ${bad + 1} is not a number: "${cells[bad]!.slice(0, 20)}"`;
   const key = rowKey(row, shape.axes);
