@@ -85,6 +85,7 @@ export async function benchCommand(): Promise<number> {
     samplingRow(),
     ...engineRows(engine),
     ...kernelRows(engine),
+    ...propagatorRows(engine),
     await memoryRow(),
     ...await scipyRows(engine, log),
   ];
@@ -184,6 +185,40 @@ function kernelRows(engine: Engine): Row[] {
       `${fmt(peak)} GFLOP/s`,
       `${fmt(100 * simd / peak)}%`,
       "≥ 50%",
+    ]);
+  }
+  return rows;
+}
+
+/**
+ * Propagator mode: r columns of the propagator in one run (every product takes all columns at once) against r
+ * runs of one column each, on the dense driven case with an accuracy (the best of three of each).
+ */
+function propagatorRows(engine: Engine): Row[] {
+  const rows: Row[] = [];
+  for (const [d, r] of [[16, 4], [64, 4], [64, 8]] as const) {
+    log(`propagator columns, dense d=${d}, ${r} columns`);
+    const base = { ...drivenModel(dense(d), 1), accuracy: 1e-8, samples: 2 };
+    base.unperturbedEigen = eigh(engine, base.unperturbed[0]!.matrix, d);
+    const column = (j: number) => {
+      const initial = new Float64Array(2 * d);
+      initial[2 * j] = 1;
+      return initial;
+    };
+    const stacked = { ...base, columns: r, initial: new Float64Array(2 * d * r) };
+    for (let j = 0; j < r; j++) stacked.initial.set(column(j), 2 * d * j);
+    const lone = Array.from({ length: r }, (_, j) => ({ ...base, initial: column(j) }));
+    let together = Infinity, apart = Infinity;
+    for (let trial = 0; trial < 3; trial++) {
+      together = Math.min(together, time(() => solve(engine, stacked)));
+      apart = Math.min(apart, time(() => lone.forEach((m) => solve(engine, m))));
+    }
+    rows.push([
+      `propagator mode, dense d=${d}, N=6, accuracy 1e-8: ${r} columns in one run vs ${r} runs`,
+      `${fmt(together)} ms`,
+      `${fmt(apart)} ms`,
+      `${fmt(together / apart)}×`,
+      "< 1×",
     ]);
   }
   return rows;

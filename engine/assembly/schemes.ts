@@ -614,8 +614,11 @@ export function macroStep(tau: f64, h: f64): i32 {
   err |= oneStep(coefFine, 0, tau, h, series, exact, 2);
   err |= oneStep(coefFine, 1, tau + h, h, series, exact, 2);
   if (err != ERR_OK) return err;
-  // Partial sums' differences accumulate order by order; the exact state's difference is its own.
-  let worst = distance(exact, comp + <usize>r * vec, dm);
+  // Partial sums' differences accumulate order by order; the exact state's difference is its own; each column
+  // is a state of its own (the largest over columns).
+  const column = <usize>d << 4;
+  let worst = 0.0;
+  for (let c = 0; c < m; c++) worst = max(worst, distance(exact + <usize>c * column, comp + <usize>r * vec + <usize>c * column, d));
   memory.fill(tmp, 0, vec);
   for (let n = 0; n < r; n++) {
     const a = series + <usize>n * vec, b = comp + <usize>n * vec;
@@ -623,7 +626,7 @@ export function macroStep(tau: f64, h: f64): i32 {
       const p = a + (<usize>e << 4), q = b + (<usize>e << 4), o = tmp + (<usize>e << 4);
       cset(o, cre(o) + cre(p) - cre(q), cim(o) + cim(p) - cim(q));
     }
-    worst = max(worst, Math.sqrt(norm2(tmp)));
+    for (let c = 0; c < m; c++) worst = max(worst, Math.sqrt(norm2(tmp + <usize>c * column, d)));
   }
   lastError = worst / 15.0;
   // err += (exact − companion)/15
@@ -934,16 +937,19 @@ export function rkStep(tau: f64, h: f64): i32 {
     axpy(rkE5 + <usize>v * vec, 1.0, rkE5 + <usize>(v - 1) * vec, <usize>dm);
     axpy(rkE3 + <usize>v * vec, 1.0, rkE3 + <usize>(v - 1) * vec, <usize>dm);
   }
-  let worst = 0.0, exactScale = 0.0;
+  // each column is a state of its own: the largest estimate over columns (not a norm over all of them)
+  let worst = 0.0;
+  const column = <usize>d << 4;
   for (let v = 0; v <= r; v++) {
-    const s5 = norm2(rkE5 + <usize>v * vec), s3 = norm2(rkE3 + <usize>v * vec);
-    const denominator = Math.sqrt(s5 + 0.01 * s3);
-    const estimate = denominator > 0 ? s5 / denominator : 0.0;
-    worst = max(worst, estimate);
-    if (v == r && denominator > 0) exactScale = Math.sqrt(s5) / denominator;
+    for (let c = 0; c < m; c++) {
+      const e5 = rkE5 + <usize>v * vec + <usize>c * column, e3 = rkE3 + <usize>v * vec + <usize>c * column;
+      const s5 = norm2(e5, d), s3 = norm2(e3, d);
+      const denominator = Math.sqrt(s5 + 0.01 * s3);
+      worst = max(worst, denominator > 0 ? s5 / denominator : 0.0);
+      if (v == r && denominator > 0) axpy(errv + <usize>c * column, Math.sqrt(s5) / denominator, e5, <usize>d);
+    }
   }
   lastError = worst;
-  axpy(errv, exactScale, rkE5 + <usize>r * vec, <usize>dm);
   startRateValid = false;
   return ERR_OK;
 }
