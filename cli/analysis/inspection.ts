@@ -8,6 +8,7 @@
  * @module
  */
 
+import { gateRunColumns } from "../case/start.ts";
 import type { BuiltCase } from "../case/build.ts";
 import { assembleAt } from "../case/terms.ts";
 import { bohrFrequencies, type BohrFrequency, spectrum } from "./spectra.ts";
@@ -133,7 +134,10 @@ export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
   const { scheme, spectra, bohr, omegaMax } = spectralFacts(engine, built);
   const norms = normProfile(engine, built.terms, model);
 
-  const memory = estimateMemory(model);
+  const memory = estimateMemory({
+    ...model,
+    columns: built.subspace ? gateRunColumns(model.dim, built.subspace.indices.length) : 1,
+  });
   const span = model.tEnd - model.tStart;
   const timeIndependent = scheme === "time-independent";
   const per = timeIndependent ? 0 : stepsPerSample(model);

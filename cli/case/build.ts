@@ -22,7 +22,7 @@ import {
   termCount,
 } from "./terms.ts";
 import { checkHermitian } from "./hermiticity.ts";
-import { startState, type Subspace, subspaceOf, WHOLE_PROPAGATOR_MAX_DIM } from "./start.ts";
+import { gateRunColumns, startState, type Subspace, subspaceOf } from "./start.ts";
 import { buildObservables, type Observable } from "./observables.ts";
 import { checkMemory, guardExactWork, guardSteppedWork } from "./limits.ts";
 import type { Model } from "../../engine/model.ts";
@@ -133,7 +133,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   const gateLevels = options.subspace ?? spec.start.subspace;
   checkMemory({
     dim: space.dim,
-    columns: gateLevels ? 1 + (space.dim <= WHOLE_PROPAGATOR_MAX_DIM ? space.dim : gateLevels.length) : 1,
+    columns: gateLevels ? gateRunColumns(space.dim, gateLevels.length) : 1,
     order: settings.order,
     samples: settings.samples,
     unperturbed: termCount("unperturbed", spec.unperturbed),

@@ -98,6 +98,11 @@ export function startState(
  */
 export const WHOLE_PROPAGATOR_MAX_DIM = 16;
 
+/** Initial states a gate run propagates together: the start state and all d columns, or the subspace's m. */
+export function gateRunColumns(dim: number, subspaceSize: number): number {
+  return 1 + (dim <= WHOLE_PROPAGATOR_MAX_DIM ? dim : subspaceSize);
+}
+
 /** The levels whose propagator columns a run follows (`[start] subspace`, or `--subspace`). */
 export interface Subspace {
   labels: string[];

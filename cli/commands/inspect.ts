@@ -5,6 +5,7 @@
  * @module
  */
 
+import { WHOLE_PROPAGATOR_MAX_DIM } from "../case/start.ts";
 import { buildCase, type BuiltCase } from "../case/build.ts";
 import { readCase } from "../case/parse.ts";
 import {
@@ -77,6 +78,7 @@ export function formatInspection(
     }${freq}; the n-th Dyson term is at most xⁿ/n!)`,
     ...describeDrives(built, drives),
     ...describeSteps(built, info, controller),
+    ...describeGate(built, info),
     `  memory     about ${bytes(info.memoryBytes)} (largest part: ${info.memoryLargest})`,
   ];
   for (const w of built.warnings) lines.push(`  warning    ${w}`);
@@ -150,6 +152,21 @@ function describeDrives(built: BuiltCase, drives: DriveSpectrum[]): string[] {
   const warning = driveWarning(built, drives);
   if (warning) lines.push(`  warning    ${warning}`);
   return lines;
+}
+
+/** The line about a gate's subspace (propagator mode), if the case has one. */
+function describeGate(built: BuiltCase, info: Inspection): string[] {
+  if (!built.subspace) return [];
+  const d = built.model.dim, whole = info.scheme !== "time-dependent-h0" && d <= WHOLE_PROPAGATOR_MAX_DIM;
+  return [
+    `  gate       subspace {${built.subspace.labels.join(", ")}}: ${
+      whole
+        ? `all ${d} propagator columns run with the start state (Magnus terms included)`
+        : `its ${built.subspace.labels.length} propagator columns run with the start state (no Magnus terms: ${
+          info.scheme === "time-dependent-h0" ? "H0 depends on t" : `d > ${WHOLE_PROPAGATOR_MAX_DIM}`
+        })`
+    }`,
+  ];
 }
 
 function describeSteps(
