@@ -71,7 +71,34 @@ interface Exports {
     nV: number,
     chunk: number,
     columns: number,
+    sparse: number,
   ): number;
+  allocSparseTerm(k: number, nnz: number): number;
+  sparseRowStart(k: number): number;
+  sparseColumn(k: number): number;
+  sparseValues(k: number): number;
+  zcsrmvRef(
+    rowStart: number,
+    column: number,
+    values: number,
+    d: number,
+    x: number,
+    y: number,
+    r: number,
+    ar: number,
+    ai: number,
+  ): void;
+  zcsrmvSimd(
+    rowStart: number,
+    column: number,
+    values: number,
+    d: number,
+    x: number,
+    y: number,
+    r: number,
+    ar: number,
+    ai: number,
+  ): void;
   prepare(scheme: number, strength: number, haveEigen: number): number;
   bufEnergies(): number;
   bufBasis(): number;
@@ -232,23 +259,28 @@ export function solve(
   const d = model.dim, r = model.order + 1, samples = model.samples;
   // m columns: m initial states propagated together (propagator columns); states are d·m entries per sample
   const m = model.columns ?? 1, dm = d * m;
-  const sumConstant = scheme !== "time-dependent-h0";
+  const sparse = scheme === "sparse-schrodinger";
+  const sumConstant = scheme !== "time-dependent-h0" && !sparse;
   const h0 = sumConstant ? [sumTerms(model.unperturbed, d)] : model.unperturbed;
   const v = scheme === "time-independent" ? [sumTerms(model.perturbation, d)] : model.perturbation;
-  check(e.init(d, model.order, h0.length, v.length, CHUNK_STEPS, m));
+  check(e.init(d, model.order, h0.length, v.length, CHUNK_STEPS, m, sparse ? 1 : 0));
   const mem = () => e.memory.buffer;
   const writeTerms = (ptr: number, terms: OperatorTerm[]) => {
     terms.forEach((t, k) => new Float64Array(mem(), ptr + k * 16 * d * d, 2 * d * d).set(t.matrix));
   };
-  writeTerms(e.bufH0Terms(), h0);
-  writeTerms(e.bufVTerms(), v);
+  if (sparse) writeSparse(e, d, [...h0, ...v]);
+  else {
+    writeTerms(e.bufH0Terms(), h0);
+    writeTerms(e.bufVTerms(), v);
+  }
   new Float64Array(mem(), e.bufInitial(), 2 * dm).set(model.initial);
   const schemeCode = {
     "time-independent": 0,
     "interaction-picture": 1,
     "time-dependent-h0": 2,
+    "sparse-schrodinger": 3,
   }[scheme];
-  const eigen = scheme === "time-dependent-h0" ? undefined : model.unperturbedEigen;
+  const eigen = scheme === "time-dependent-h0" || sparse ? undefined : model.unperturbedEigen;
   if (eigen) {
     new Float64Array(mem(), e.bufEnergies(), d).set(eigen.values);
     new Float64Array(mem(), e.bufBasis(), 2 * d * d).set(eigen.vectors);
@@ -371,6 +403,24 @@ export function solve(
     store(j + 1, (j + 1) * per * h);
   }
   return finish(total, h, 15);
+}
+
+/** Writes every term's CSR arrays into the engine (which allocates them). */
+function writeSparse(e: Exports, d: number, terms: OperatorTerm[]): void {
+  terms.forEach((t, k) => {
+    const csr = t.sparse;
+    if (!csr) throw new EngineError("a model's terms must be all dense or all sparse");
+    const nnz = csr.column.length;
+    if (csr.rowStart.length !== d + 1 || csr.values.length !== 2 * nnz || csr.rowStart[d] !== nnz) {
+      throw new EngineError(
+        `sparse term ${k} is malformed (rowStart of d+1 offsets ending at nnz, 2·nnz values)`,
+      );
+    }
+    check(e.allocSparseTerm(k, nnz));
+    new Int32Array(e.memory.buffer, e.sparseRowStart(k), d + 1).set(csr.rowStart);
+    new Int32Array(e.memory.buffer, e.sparseColumn(k), nnz).set(csr.column);
+    new Float64Array(e.memory.buffer, e.sparseValues(k), 2 * nnz).set(csr.values);
+  });
 }
 
 /**

@@ -17,10 +17,22 @@ export type Coefficient =
 
 /** One term c(t)·M of H0 or of V. */
 export interface OperatorTerm {
-  /** d×d, row-major, interleaved (re, im): length 2·d². */
+  /** d×d, row-major, interleaved (re, im): length 2·d² (empty when the term is sparse). */
   matrix: Float64Array;
   /** The scalar in front. */
   coefficient: Coefficient;
+  /** The term as a sparse matrix; then `matrix` is not read. A model's terms are all dense or all sparse. */
+  sparse?: SparseMatrix;
+}
+
+/** A d×d complex matrix in compressed sparse rows. */
+export interface SparseMatrix {
+  /** d+1 offsets into column/values: row i holds entries rowStart[i] … rowStart[i+1]−1. */
+  rowStart: Int32Array;
+  /** The column of each entry. */
+  column: Int32Array;
+  /** The entries, interleaved (re, im). */
+  values: Float64Array;
 }
 
 /** Everything the engine needs for one run. */
@@ -73,10 +85,21 @@ export function isTimeDependent(c: Coefficient): boolean {
 export type Scheme =
   | "time-independent"
   | "interaction-picture"
-  | "time-dependent-h0";
+  | "time-dependent-h0"
+  | "sparse-schrodinger";
 
-/** Picks the scheme: no t anywhere, constant H0 with V(t), or H0(t). */
+/** Whether a model's operators are sparse (then every term is). */
+export function isSparse(model: Pick<Model, "unperturbed" | "perturbation">): boolean {
+  return model.unperturbed.some((t) => t.sparse !== undefined) ||
+    model.perturbation.some((t) => t.sparse !== undefined);
+}
+
+/**
+ * Picks the scheme: sparse operators (the Schrödinger picture, whatever depends on t), no t anywhere, constant
+ * H0 with V(t), or H0(t).
+ */
 export function schemeFor(model: Model): Scheme {
+  if (isSparse(model)) return "sparse-schrodinger";
   if (model.unperturbed.some((t) => isTimeDependent(t.coefficient))) {
     return "time-dependent-h0";
   }
@@ -180,18 +203,28 @@ export interface MemoryEstimate {
  */
 export function estimateMemory(
   model: Pick<Model, "dim" | "order" | "samples" | "columns"> & {
-    unperturbed: unknown[];
-    perturbation: unknown[];
+    unperturbed: ({ sparse?: SparseMatrix } | undefined)[];
+    perturbation: ({ sparse?: SparseMatrix } | undefined)[];
   },
 ): MemoryEstimate {
   const d = model.dim, r = model.order + 1, dm = d * (model.columns ?? 1);
   const terms = Math.max(model.unperturbed.length, 1) + Math.max(model.perturbation.length, 1);
   // vectors: the stacked state and its copies (series, record, tmp, save: r+2 each; comp r+1; two Taylor
   // buffers), the Runge–Kutta stages and work (17 × (r+1)), the packed kernel's scratch, and a few singles
-  const matrices = terms + 10;
+  // sparse terms: no d×d matrix at all, their CSR arrays instead (16 bytes a value, 4 a column, 4 a row)
+  const all = [...model.unperturbed, ...model.perturbation];
+  const sparse = all.some((t) => t?.sparse !== undefined);
+  const nonZeros = all.reduce((s, t) => s + (t?.sparse?.column.length ?? 0), 0);
+  const matrices = sparse ? 0 : terms + 10;
   const vectors = 4 * (r + 2) + (r + 1) + 2 * Math.max(r, 2) + 17 * (r + 1) + Math.max(16, r + 3) + 10;
   const parts: [string, number, "wasm" | "record"][] = [
-    [`engine operators: ${matrices} matrices of d² = ${d * d} complex`, matrices * d * d * 16, "wasm"],
+    sparse
+      ? [
+        `engine operators: ${all.length} sparse terms, ${nonZeros} non-zeros`,
+        nonZeros * 20 + all.length * (d + 1) * 4,
+        "wasm",
+      ]
+      : [`engine operators: ${matrices} matrices of d² = ${d * d} complex`, matrices * d * d * 16, "wasm"],
     [
       `engine state: ${vectors} vectors of d = ${d} complex${dm > d ? ` × ${dm / d} columns` : ""}`,
       vectors * dm * 16,

@@ -9,7 +9,7 @@
 // see: Van Loan, IEEE TAC 23 (1978).
 
 import { arenaAlloc, arenaReset } from "./arena";
-import { packedScratchBytes, setKernelScratch, zgemv } from "./kernels";
+import { packedScratchBytes, setKernelScratch, zcsrmv, zgemv } from "./kernels";
 import { eigh } from "./eigh";
 
 // 4th-order commutator-free exponential integrator (two exponentials).
@@ -36,11 +36,15 @@ const MAX_TERMS: i32 = 60;
 const MODE_NONE: i32 = 0;
 const MODE_DENSE: i32 = 1;
 const MODE_DIAG: i32 = 2;
+// The generator is a combination of the sparse terms, with the coefficients at `sparseCoefs` (see applySparse).
+const MODE_SPARSE: i32 = 3;
 
 /** Schemes (match engine/mod.ts). */
 export const SCHEME_TIME_INDEPENDENT: i32 = 0;
 export const SCHEME_INTERACTION: i32 = 1;
 export const SCHEME_TD_H0: i32 = 2;
+/** Sparse operators (CSR): the Schrödinger picture, every product a sparse one; no d×d matrix anywhere. */
+export const SCHEME_SPARSE: i32 = 3;
 
 /** Error codes (turned into messages by engine/mod.ts). */
 export const ERR_OK: i32 = 0;
@@ -96,6 +100,13 @@ let work: usize = 0;
 // Adaptive stepping: the start of a macro step (to restore on rejection), the 2h companion, and the
 // estimated error vector of the exact state, kept right after it (exact, err contiguous).
 let adaptive = false;
+// Sparse runs: per term (H0 terms, then V terms) 6 words in csrTable: rowStart, column, values, nnz, ∞-norm
+// (f64) and trace (re; the trace's imaginary part of a Hermitian combination cancels); the coefficients of the
+// current generator per term (complex) at sparseCoefs, and whether it is the exact state's (D + λV, no B).
+let sparse = false;
+let csrTable: usize = 0;
+let sparseCoefs: usize = 0;
+let sparseExact = false;
 let save: usize = 0;
 let comp: usize = 0;
 let errv: usize = 0;
@@ -104,8 +115,9 @@ let errv: usize = 0;
  * Allocate every buffer for a run: dimension dim, Dyson order order, nH0 and
  * nV operator terms, coefficient chunks of chunkSteps steps. Returns an error code.
  */
-export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32, columns: i32): i32 {
+export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32, columns: i32, sparseTerms: i32): i32 {
   arenaReset();
+  sparse = sparseTerms != 0;
   d = dim;
   m = max(columns, 1);
   dm = d * m;
@@ -113,7 +125,8 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32, c
   k0 = nH0;
   kv = nV;
   chunk = chunkSteps;
-  mat = <usize>d * d << 4;
+  // a sparse run holds no d×d matrix: the dense buffers shrink to a placeholder it never touches
+  mat = sparse ? 16 : <usize>d * d << 4;
   vec = <usize>dm << 4;
   const kt = <usize>(k0 + kv);
   h0Terms = arenaAlloc(<usize>max(k0, 1) * mat);
@@ -155,6 +168,8 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32, c
   rkE5 = arenaAlloc(<usize>(r + 1) * vec);
   rkE3 = arenaAlloc(<usize>(r + 1) * vec);
   startRateValid = false;
+  csrTable = arenaAlloc(<usize>max(<i32>kt, 1) * 48);
+  sparseCoefs = arenaAlloc(<usize>max(<i32>kt, 1) << 4);
   // the packed kernel's scratch: the stacked state at once (wider products go in slices of it)
   const scratchBytes = packedScratchBytes(d, max(16, (r + 2) * m));
   const kernelScratch = arenaAlloc(scratchBytes);
@@ -285,6 +300,10 @@ function applyGenerator(
   mode: i32, dOp: usize, dScale: f64, mu: f64, bOp: usize, ar: f64, ai: f64,
 ): void {
   memory.fill(out + <usize>low * vec, 0, <usize>(rr - low) * vec);
+  if (mode == MODE_SPARSE) {
+    applySparse(out, inp, rr, low, mu, ar, ai);
+    return;
+  }
   if (mode == MODE_DENSE) {
     zgemv(dOp, d, inp + <usize>low * vec, out + <usize>low * vec, (rr - low) * m, ar * dScale, ai * dScale);
     kernelFlops += 8.0 * <f64>d * <f64>d * <f64>((rr - low) * m);
@@ -324,6 +343,9 @@ function expBlock(
     mu = dScale * tr / <f64>d;
     // knownNorm: ‖dScale·D − μ‖ when the caller knows it (e.g. from the spectrum); else the ∞-norm bound.
     normA = knownNorm >= 0 ? knownNorm : Math.abs(dScale) * normInf(dOp) + Math.abs(mu);
+  } else if (mode == MODE_SPARSE) {
+    mu = sparseShift();
+    normA = sparseNorm() + Math.abs(mu);
   } else if (mode == MODE_DIAG) {
     let lo = Infinity, hi = -Infinity;
     for (let a = 0; a < d; a++) {
@@ -406,6 +428,11 @@ export function prepare(which: i32, strength: f64, haveEigen: i32): i32 {
   scheme = which;
   lambda = strength;
   if (scheme == SCHEME_TD_H0) {
+    startVectors(initial);
+    return ERR_OK;
+  }
+  if (scheme == SCHEME_SPARSE) {
+    prepareSparse();
     startVectors(initial);
     return ERR_OK;
   }
@@ -522,6 +549,9 @@ export function advance(nsteps: i32, tau0: f64, h: f64): i32 {
         err |= expBlock(2 * h, 1, MODE_DENSE, x1, lambda, 0, check);
         err |= expBlock(2 * h, 1, MODE_DENSE, x2, lambda, 0, check);
       }
+    } else if (scheme == SCHEME_SPARSE) {
+      err |= sparseStep(coefFine, s, h, series, exact, 1);
+      if (s & 1) err |= sparseStep(coefCoarse, s >> 1, 2 * h, 0, check, 1);
     } else {
       tdFactors(coefFine, s);
       err |= expBlock(h, r, MODE_DENSE, x0a, 1.0, x1, series);
@@ -555,6 +585,8 @@ function oneStep(buf: usize, step: i32, tau: f64, h: f64, ser: usize, ex: usize,
     err |= expBlock(h, r, MODE_NONE, 0, 0.0, x2, ser);
     err |= expBlock(h, nEx, MODE_DENSE, x1, lambda, 0, ex);
     err |= expBlock(h, nEx, MODE_DENSE, x2, lambda, 0, ex);
+  } else if (scheme == SCHEME_SPARSE) {
+    err |= sparseStep(buf, step, h, ser, ex, nEx);
   } else {
     tdFactors(buf, step);
     err |= expBlock(h, r, MODE_DENSE, x0a, 1.0, x1, ser);
@@ -725,7 +757,7 @@ export function record(tau: f64): void {
       cset(o, cre(p) - cre(q), cim(p) - cim(q));
     }
   }
-  if (scheme == SCHEME_TD_H0) {
+  if (scheme == SCHEME_TD_H0 || scheme == SCHEME_SPARSE) {
     memory.copy(rec, series, <usize>r * vec);
     memory.copy(rec + <usize>r * vec, exact, vec);
     memory.copy(rec + <usize>(r + 1) * vec, check, vec);
@@ -962,4 +994,129 @@ export function rkStep(tau: f64, h: f64): i32 {
 export function rkSample(tau: f64, h: f64): i32 {
   rkStages(tau, h, save, comp);
   return ERR_OK;
+}
+
+// ------------------------------------------------------------------ sparse operators (CSR)
+
+@inline function csrField(k: i32, f: i32): usize {
+  return csrTable + <usize>k * 48 + (<usize>f << 3);
+}
+
+/**
+ * Room for term k's CSR arrays (nnz non-zeros): rowStart (d+1 i32), column (nnz i32), values (nnz complex),
+ * filled by TypeScript through {@link sparseRowStart}, {@link sparseColumn}, {@link sparseValues}. Returns an
+ * error code.
+ */
+export function allocSparseTerm(k: i32, nnz: i32): i32 {
+  const rows = arenaAlloc(<usize>(d + 1) << 2), cols = arenaAlloc(<usize>max(nnz, 1) << 2);
+  const vals = arenaAlloc(<usize>max(nnz, 1) << 4);
+  if (rows == 0 || cols == 0 || vals == 0) return ERR_MEMORY;
+  store<u64>(csrField(k, 0), <u64>rows);
+  store<u64>(csrField(k, 1), <u64>cols);
+  store<u64>(csrField(k, 2), <u64>vals);
+  store<u64>(csrField(k, 3), <u64>nnz);
+  return ERR_OK;
+}
+export function sparseRowStart(k: i32): usize { return <usize>load<u64>(csrField(k, 0)); }
+export function sparseColumn(k: i32): usize { return <usize>load<u64>(csrField(k, 1)); }
+export function sparseValues(k: i32): usize { return <usize>load<u64>(csrField(k, 2)); }
+
+/** Per term: the ∞-norm (largest row sum of moduli) and the trace's real part, for sub-steps and the shift. */
+function prepareSparse(): void {
+  for (let k = 0; k < k0 + kv; k++) {
+    const rows = sparseRowStart(k), cols = sparseColumn(k), vals = sparseValues(k);
+    let norm = 0.0, trace = 0.0;
+    for (let i = 0; i < d; i++) {
+      let sum = 0.0;
+      const end = load<i32>(rows + (<usize>(i + 1) << 2));
+      for (let q = load<i32>(rows + (<usize>i << 2)); q < end; q++) {
+        const p = vals + (<usize>q << 4);
+        sum += Math.sqrt(cre(p) * cre(p) + cim(p) * cim(p));
+        if (load<i32>(cols + (<usize>q << 2)) == i) trace += cre(p);
+      }
+      norm = max(norm, sum);
+    }
+    store<f64>(csrField(k, 4), norm);
+    store<f64>(csrField(k, 5), trace);
+  }
+}
+
+/** The shift μ of the current generator D (its mean diagonal). */
+function sparseShift(): f64 {
+  let tr = 0.0;
+  const last = sparseExact ? k0 + kv : k0;
+  for (let k = 0; k < last; k++) {
+    const c = sparseCoefs + (<usize>k << 4);
+    tr += (k >= k0 ? lambda : 1.0) * cre(c) * load<f64>(csrField(k, 5));
+  }
+  return tr / <f64>d;
+}
+
+/** A bound on ‖D‖ + ‖B‖ of the current generator: Σ |c_k|·‖term_k‖∞. */
+function sparseNorm(): f64 {
+  let n = 0.0;
+  for (let k = 0; k < k0 + kv; k++) {
+    const c = sparseCoefs + (<usize>k << 4);
+    n += (k >= k0 && sparseExact ? Math.abs(lambda) : 1.0) * Math.sqrt(cre(c) * cre(c) + cim(c) * cim(c)) *
+      load<f64>(csrField(k, 4));
+  }
+  return n;
+}
+
+/**
+ * out (orders low..rr−1) += α·(D − μ)·inp_n + α·B·inp_{n−1} with the current sparse generator: D = Σ c_k H0_k
+ * (+ λ Σ c_k V_k for the exact state, which has no B), B = Σ c_k V_k for the series.
+ */
+function applySparse(out: usize, inp: usize, rr: i32, low: i32, mu: f64, ar: f64, ai: f64): void {
+  const count = (rr - low) * m;
+  for (let k = 0; k < k0 + kv; k++) {
+    const c = sparseCoefs + (<usize>k << 4);
+    let cr = cre(c), ci = cim(c);
+    if (cr == 0 && ci == 0) continue;
+    const rows = sparseRowStart(k), cols = sparseColumn(k), vals = sparseValues(k);
+    const nnz = <f64>load<u64>(csrField(k, 3));
+    if (k < k0 || sparseExact) {
+      if (k >= k0) {
+        cr *= lambda;
+        ci *= lambda;
+      }
+      zcsrmv(rows, cols, vals, d, inp + <usize>low * vec, out + <usize>low * vec, count, ar * cr - ai * ci, ar * ci + ai * cr);
+      kernelFlops += 8.0 * nnz * <f64>count;
+    } else if (rr - 1 > low) {
+      zcsrmv(rows, cols, vals, d, inp + <usize>low * vec, out + <usize>(low + 1) * vec, (rr - 1 - low) * m,
+        ar * cr - ai * ci, ar * ci + ai * cr);
+      kernelFlops += 8.0 * nnz * <f64>((rr - 1 - low) * m);
+    }
+  }
+  if (mu != 0) {
+    const n = <usize>(rr - low) * dm, base = <usize>low * vec;
+    for (let e: usize = 0; e < n; e++) {
+      const p = inp + base + (e << 4), o = out + base + (e << 4);
+      const xr = cre(p), xi = cim(p);
+      cset(o, cre(o) - mu * (ar * xr - ai * xi), cim(o) - mu * (ar * xi + ai * xr));
+    }
+  }
+}
+
+/**
+ * One step of the 4th-order commutator-free integrator with sparse terms: the two factors' coefficients per term
+ * (α₁f(t₁) + α₂f(t₂), then α₂f(t₁) + α₁f(t₂)) from the samples of step `step` of buf, applied to the series (if
+ * ser ≠ 0) and to nEx exact-state vectors at ex.
+ */
+function sparseStep(buf: usize, step: i32, h: f64, ser: usize, ex: usize, nEx: i32): i32 {
+  let err = ERR_OK;
+  for (let factor = 0; factor < 2; factor++) {
+    for (let k = 0; k < k0 + kv; k++) {
+      const f1 = coefAt(buf, step, 0, k), f2 = coefAt(buf, step, 1, k);
+      const a = factor == 0 ? A1 : A2, b = factor == 0 ? A2 : A1;
+      cset(sparseCoefs + (<usize>k << 4), a * cre(f1) + b * cre(f2), a * cim(f1) + b * cim(f2));
+    }
+    if (ser != 0) {
+      sparseExact = false;
+      err |= expBlock(h, r, MODE_SPARSE, 0, 1.0, 0, ser);
+    }
+    sparseExact = true;
+    err |= expBlock(h, nEx, MODE_SPARSE, 0, 1.0, 0, ex);
+  }
+  return err;
 }
