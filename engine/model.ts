@@ -205,6 +205,8 @@ export function estimateMemory(
   model: Pick<Model, "dim" | "order" | "samples" | "columns"> & {
     unperturbed: ({ sparse?: SparseMatrix } | undefined)[];
     perturbation: ({ sparse?: SparseMatrix } | undefined)[];
+    /** Sparse terms whose non-zeros are not known yet (a check before assembly): their matrices cost nothing here. */
+    sparse?: boolean;
   },
 ): MemoryEstimate {
   const d = model.dim, r = model.order + 1, dm = d * (model.columns ?? 1);
@@ -213,7 +215,7 @@ export function estimateMemory(
   // buffers), the Runge–Kutta stages and work (17 × (r+1)), the packed kernel's scratch, and a few singles
   // sparse terms: no d×d matrix at all, their CSR arrays instead (16 bytes a value, 4 a column, 4 a row)
   const all = [...model.unperturbed, ...model.perturbation];
-  const sparse = all.some((t) => t?.sparse !== undefined);
+  const sparse = model.sparse === true || all.some((t) => t?.sparse !== undefined);
   const nonZeros = all.reduce((s, t) => s + (t?.sparse?.column.length ?? 0), 0);
   const matrices = sparse ? 0 : terms + 10;
   const vectors = 4 * (r + 2) + (r + 1) + 2 * Math.max(r, 2) + 17 * (r + 1) + Math.max(16, r + 3) + 10;

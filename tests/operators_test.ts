@@ -6,18 +6,20 @@ import { assert, assertEqual, assertThrows } from "./assert.ts";
 import { assertClose } from "./helpers.ts";
 import { evaluateOperator } from "../cli/case/operators.ts";
 import { productSpace, spinLabels, type Subsystem } from "../cli/case/space.ts";
-import { ComplexMatrix } from "../cli/case/complex_matrix.ts";
+import { ComplexMatrix, type Operator } from "../cli/case/complex_matrix.ts";
+import { toDense } from "../cli/case/sparse_matrix.ts";
 import { CaseError } from "../cli/case/errors.ts";
 
 const math = create(all!);
 const noParams = { params: new Map(), allowTime: false };
 
 function assertMatrixClose(
-  a: ComplexMatrix,
-  b: ComplexMatrix,
+  x: Operator,
+  y: Operator,
   tol: number,
   what: string,
 ) {
+  const a = toDense(x), b = toDense(y);
   assertEqual(a.rows, b.rows, `${what}: rows`);
   for (let k = 0; k < a.data.length; k++) {
     assertClose(a.data[k]!, b.data[k]!, { abs: tol }, `${what} [${k}]`);

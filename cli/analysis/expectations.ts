@@ -6,6 +6,8 @@
  * @module
  */
 
+import type { Operator } from "../case/complex_matrix.ts";
+import { applyOperator } from "../case/sparse_matrix.ts";
 import type { Observable } from "../case/observables.ts";
 import type { Result } from "../../engine/mod.ts";
 
@@ -18,18 +20,8 @@ export interface Expectation {
 }
 
 /** O·x for a d×d interleaved matrix and a d-vector at offset `at` of `states`, into out. */
-function apply(o: Float64Array, d: number, states: Float64Array, at: number, out: Float64Array): void {
-  for (let i = 0; i < d; i++) {
-    let re = 0, im = 0;
-    for (let j = 0; j < d; j++) {
-      const mr = o[2 * (i * d + j)]!, mi = o[2 * (i * d + j) + 1]!;
-      const xr = states[at + 2 * j]!, xi = states[at + 2 * j + 1]!;
-      re += mr * xr - mi * xi;
-      im += mr * xi + mi * xr;
-    }
-    out[2 * i] = re;
-    out[2 * i + 1] = im;
-  }
+function apply(o: Operator, d: number, states: Float64Array, at: number, out: Float64Array): void {
+  out.set(applyOperator(o, states.subarray(at, at + 2 * d)));
 }
 
 /** Re⟨x|y⟩ of d-vectors x (at offset `at` of `states`) and y. */
@@ -50,7 +42,7 @@ function realDot(states: Float64Array, at: number, y: Float64Array, d: number): 
 export function expectations(observables: Observable[], result: Result, d: number): Expectation[] {
   const samples = result.times.length, r = result.terms.length;
   return observables.map(({ name, matrix }) => {
-    const o = matrix.data;
+    const o = matrix;
     const exact: number[] = [];
     const series = result.terms.map(() => [] as number[]),
       consistent = result.terms.map(() => [] as number[]);

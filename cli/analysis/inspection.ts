@@ -8,10 +8,19 @@
  * @module
  */
 
+import { SparseComplexMatrix, toDense } from "../case/sparse_matrix.ts";
+import type { AssembledTerm } from "../case/terms.ts";
 import { gateRunColumns } from "../case/start.ts";
 import type { BuiltCase } from "../case/build.ts";
 import { assembleAt } from "../case/terms.ts";
-import { bohrFrequencies, type BohrFrequency, spectrum } from "./spectra.ts";
+import {
+  bohrFrequencies,
+  type BohrFrequency,
+  sparseBohrFrequencies,
+  sparseSpectrum,
+  type Spectrum,
+  spectrum,
+} from "./spectra.ts";
 import { coefficientRate, type NormProfile, normProfile } from "./norms.ts";
 import { MAX_PHASE_PER_STEP } from "./verdict.ts";
 import {
@@ -34,7 +43,7 @@ export interface Inspection extends NormProfile {
   dim: number;
   scheme: string;
   /** H0 eigenvalues at t_start (and t_end when H0 depends on time). */
-  spectrum: { at: number; values: Float64Array; vectors: Float64Array; dominant: string[] }[];
+  spectrum: ({ at: number } & Spectrum)[];
   /** Bohr frequencies E_a − E_b > 0 of pairs that V couples, with their labels, largest coupling first. */
   bohr: BohrFrequency[];
   /** Largest coupled |E_a − E_b| (the fastest interaction-picture phase). */
@@ -55,16 +64,39 @@ function spectralFacts(engine: Engine, built: BuiltCase) {
   const h0Terms = built.terms.filter((t) => t.section === "unperturbed");
   const vTerms = built.terms.filter((t) => t.section === "perturbation");
   const scheme = schemeFor(model);
+  if (scheme === "sparse-schrodinger") return sparseFacts(built, h0Terms, vTerms);
   const h0TimeDependent = scheme === "time-dependent-h0";
   const spectra = (h0TimeDependent ? [model.tStart, model.tEnd] : [model.tStart]).map((at) => ({
     at,
-    ...spectrum(engine, assembleAt(h0Terms, d, at), space.labels),
+    ...spectrum(engine, toDense(assembleAt(h0Terms, d, at)), space.labels),
   }));
   let { bohr, omegaMax } = bohrFrequencies(engine, spectra[0]!, vTerms);
   if (h0TimeDependent) {
     for (const s of spectra) omegaMax = Math.max(omegaMax, s.values[d - 1]! - s.values[0]!);
   }
   return { scheme, spectra, bohr, omegaMax };
+}
+
+/**
+ * The same facts for sparse operators, without an eigensolver: H0's diagonal, or its Gershgorin interval
+ * (at both ends when it depends on t); the fastest phase is then bounded by the interval's width.
+ */
+function sparseFacts(built: BuiltCase, h0Terms: AssembledTerm[], vTerms: AssembledTerm[]) {
+  const { model, space } = built;
+  const h0TimeDependent = h0Terms.some((t) => t.coef?.usesTime);
+  const at = (t: number) => assembleAt(h0Terms, model.dim, t) as SparseComplexMatrix;
+  const spectra = (h0TimeDependent ? [model.tStart, model.tEnd] : [model.tStart]).map((t) => ({
+    at: t,
+    ...sparseSpectrum(at(t), space.labels),
+  }));
+  const first = at(model.tStart);
+  const diagonal = Float64Array.from({ length: model.dim }, (_, k) => first.get(k, k).re);
+  let { bohr, omegaMax } = sparseBohrFrequencies(spectra[0]!, diagonal, vTerms, space.labels);
+  // a constant diagonal H0: the coupled pairs' Bohr frequencies are the fastest phases; otherwise the widths
+  if (h0TimeDependent || spectra[0]!.sparse === "bound") {
+    for (const s of spectra) omegaMax = Math.max(omegaMax, s.values[s.values.length - 1]! - s.values[0]!);
+  }
+  return { scheme: "sparse-schrodinger" as const, spectra, bohr, omegaMax };
 }
 
 /** How fast H turns, and H0's eigen-decomposition when H0 is constant (to hand to the engine). */
@@ -88,7 +120,9 @@ export interface Turning {
  */
 export function turningOf(engine: Engine, built: BuiltCase): Turning {
   const facts = spectralFacts(engine, built);
-  const eigen = facts.scheme === "time-dependent-h0" ? undefined : facts.spectra[0]!;
+  const eigen = facts.scheme === "time-dependent-h0" || facts.scheme === "sparse-schrodinger"
+    ? undefined
+    : facts.spectra[0]!;
   if (facts.scheme === "time-independent") return { rate: 0, eigen };
   return { rate: Math.max(facts.omegaMax, coefficientRate(built.terms, built.model)), eigen };
 }
@@ -116,7 +150,9 @@ export function longestPhase(model: Model): number {
 
 /** What {@link turningOf} says, from an inspection already made. */
 export function turningFrom(info: Inspection): Turning {
-  const eigen = info.scheme === "time-dependent-h0" ? undefined : info.spectrum[0];
+  const eigen = info.scheme === "time-dependent-h0" || info.scheme === "sparse-schrodinger"
+    ? undefined
+    : info.spectrum[0];
   const rate = info.scheme === "time-independent" ? 0 : Math.max(info.omegaMax, info.coefRate);
   return { rate, eigen };
 }

@@ -7,7 +7,8 @@
  */
 
 import { type AssembledTerm, coefAt } from "../case/terms.ts";
-import { ComplexMatrix } from "../case/complex_matrix.ts";
+import { ComplexMatrix, type Operator } from "../case/complex_matrix.ts";
+import { SparseComplexMatrix } from "../case/sparse_matrix.ts";
 import { eigh, type Engine, multiply } from "../../engine/mod.ts";
 import type { Model } from "../../engine/model.ts";
 
@@ -75,7 +76,9 @@ interface BoundPart {
  */
 function boundParts(engine: Engine, vTerms: AssembledTerm[], d: number): BoundPart[] {
   const parts: BoundPart[] = [];
-  let constant = new ComplexMatrix(d, d), anyConstant = false;
+  // the zero matrix, stored as the terms are
+  let constant: Operator = vTerms[0]?.matrix.scale({ re: 0, im: 0 }) ?? new ComplexMatrix(d, d);
+  let anyConstant = false;
   for (let i = 0; i < vTerms.length; i++) {
     const term = vTerms[i]!;
     if (!term.coef?.usesTime) {
@@ -102,15 +105,20 @@ function boundParts(engine: Engine, vTerms: AssembledTerm[], d: number): BoundPa
   return parts;
 }
 
-/** ‖H‖₂ = max |eigenvalue| of a Hermitian matrix. */
-function hermitianNorm(engine: Engine, h: ComplexMatrix): number {
-  const values = eigh(engine, h.data, h.rows).values;
+/** ‖H‖₂ = max |eigenvalue| of a Hermitian matrix; for a sparse one the bound ‖H‖∞ (no eigensolver on O(d²)). */
+function hermitianNorm(engine: Engine, h: Operator): number {
+  if (h instanceof SparseComplexMatrix) return h.normInf();
+  const dense = h as ComplexMatrix;
+  const values = eigh(engine, dense.data, dense.rows).values;
   return Math.max(Math.abs(values[0]!), Math.abs(values[values.length - 1]!));
 }
 
-/** ‖M‖₂ = √(largest eigenvalue of M†M). */
-function operatorNorm(engine: Engine, m: ComplexMatrix): number {
-  const values = eigh(engine, multiply(engine, m.dagger().data, m.data, m.rows), m.rows).values;
+/** ‖M‖₂ = √(largest eigenvalue of M†M); for a sparse M the bound √(‖M‖₁‖M‖∞). */
+function operatorNorm(engine: Engine, m: Operator): number {
+  if (m instanceof SparseComplexMatrix) return Math.sqrt(m.normInf() * m.dagger().normInf());
+  const dense = m as ComplexMatrix;
+  const values =
+    eigh(engine, multiply(engine, dense.dagger().data, dense.data, dense.rows), dense.rows).values;
   return Math.sqrt(Math.max(0, values[values.length - 1]!));
 }
 

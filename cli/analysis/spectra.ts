@@ -6,7 +6,8 @@
  * @module
  */
 
-import { ComplexMatrix } from "../case/complex_matrix.ts";
+import { ComplexMatrix, type Operator } from "../case/complex_matrix.ts";
+import { forEachEntry, SparseComplexMatrix, toDense } from "../case/sparse_matrix.ts";
 import type { AssembledTerm } from "../case/terms.ts";
 import { eigh, type Engine, multiply } from "../../engine/mod.ts";
 
@@ -15,6 +16,12 @@ export interface Spectrum {
   values: Float64Array;
   vectors: Float64Array;
   dominant: string[];
+  /**
+   * For sparse operators, which are never diagonalised: "diagonal" when H0 is (values are its diagonal,
+   * ascending, and `vectors` is empty), or "bound" when it is not (values are the Gershgorin interval [lo, hi]
+   * that holds its spectrum).
+   */
+  sparse?: "diagonal" | "bound";
 }
 
 /** A Bohr frequency that V couples. */
@@ -68,7 +75,7 @@ export function bohrFrequencies(
   const coupling = new Float64Array(d * d);
   let largest = 0;
   for (const term of vTerms) {
-    const w = multiply(engine, basisH, multiply(engine, term.matrix.data, vectors, d), d);
+    const w = multiply(engine, basisH, multiply(engine, toDense(term.matrix).data, vectors, d), d);
     for (let k = 0; k < d * d; k++) {
       coupling[k] = Math.max(coupling[k]!, Math.hypot(w[2 * k]!, w[2 * k + 1]!));
       largest = Math.max(largest, coupling[k]!);
@@ -88,4 +95,82 @@ export function bohrFrequencies(
   }
   bohr.sort((x, y) => y.coupling - x.coupling || y.omega - x.omega);
   return { bohr, omegaMax };
+}
+
+/** The most coupled pairs a sparse case lists (the fastest phase is taken over all of them). */
+const SPARSE_BOHR_LISTED = 1000;
+
+/**
+ * H0's spectrum for sparse operators, without an eigensolver: its diagonal when H0 is diagonal, else the
+ * Gershgorin interval (every eigenvalue lies within a_ii ± Σ_{j≠i}|a_ij| for some i).
+ *
+ * @param h0 H0 at one time
+ * @param labels the basis labels
+ * @returns the spectrum, marked as diagonal or bound
+ */
+export function sparseSpectrum(h0: SparseComplexMatrix, labels: string[]): Spectrum {
+  const d = h0.rows;
+  if (h0.isDiagonal()) {
+    const order = Array.from({ length: d }, (_, k) => k).sort((a, b) => h0.get(a, a).re - h0.get(b, b).re);
+    return {
+      values: Float64Array.from(order, (k) => h0.get(k, k).re),
+      vectors: new Float64Array(0),
+      dominant: order.map((k) => labels[k]!),
+      sparse: "diagonal",
+    };
+  }
+  let lo = Infinity, hi = -Infinity;
+  h0.data.forEach((row, i) => {
+    let radius = 0;
+    for (const [j, z] of row) if (j !== i) radius += Math.hypot(z.re, z.im);
+    const centre = h0.get(i, i).re;
+    lo = Math.min(lo, centre - radius);
+    hi = Math.max(hi, centre + radius);
+  });
+  return {
+    values: Float64Array.from([lo, hi]),
+    vectors: new Float64Array(0),
+    dominant: ["", ""],
+    sparse: "bound",
+  };
+}
+
+/**
+ * The Bohr frequencies V couples, for sparse operators: with a diagonal H0, E_a − E_b over V's non-zeros (the
+ * strongest {@link SPARSE_BOHR_LISTED} listed, the fastest over all); otherwise none can be listed and the
+ * fastest is bounded by the width of H0's Gershgorin interval.
+ *
+ * @param h0 H0's sparse spectrum at t_start
+ * @param diagonal H0's diagonal by level (when it is diagonal)
+ * @param vTerms V's terms
+ * @param labels the basis labels
+ * @returns the coupled pairs and the largest |E_a − E_b| (or its bound)
+ */
+export function sparseBohrFrequencies(
+  h0: Spectrum,
+  diagonal: Float64Array,
+  vTerms: { matrix: Operator }[],
+  labels: string[],
+): { bohr: BohrFrequency[]; omegaMax: number } {
+  if (h0.sparse === "bound") return { bohr: [], omegaMax: h0.values[1]! - h0.values[0]! };
+  const coupling = new Map<number, number>();
+  const d = diagonal.length;
+  for (const term of vTerms) {
+    forEachEntry(term.matrix, (a, b, z) => {
+      if (a === b) return;
+      const key = Math.max(a, b) * d + Math.min(a, b);
+      coupling.set(key, Math.max(coupling.get(key) ?? 0, Math.hypot(z.re, z.im)));
+    });
+  }
+  let omegaMax = 0;
+  const bohr: BohrFrequency[] = [];
+  for (const [key, c] of coupling) {
+    const a = Math.floor(key / d), b = key % d;
+    const [upper, lower] = diagonal[a]! >= diagonal[b]! ? [a, b] : [b, a];
+    const omega = diagonal[upper]! - diagonal[lower]!;
+    omegaMax = Math.max(omegaMax, omega);
+    bohr.push({ omega, upper: labels[upper]!, lower: labels[lower]!, coupling: c });
+  }
+  bohr.sort((x, y) => y.coupling - x.coupling || y.omega - x.omega);
+  return { bohr: bohr.slice(0, SPARSE_BOHR_LISTED), omegaMax };
 }

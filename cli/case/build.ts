@@ -19,11 +19,14 @@ import {
   assembleSection,
   checkCoefficientsFinite,
   engineTerm,
+  sectionTerms,
   termCount,
 } from "./terms.ts";
 import { checkHermitian } from "./hermiticity.ts";
 import { gateRunColumns, startState, type Subspace, subspaceOf } from "./start.ts";
+import { SparseComplexMatrix, toDense } from "./sparse_matrix.ts";
 import { buildObservables, type Observable } from "./observables.ts";
+import type { CaseSpec } from "./schema.ts";
 import { checkMemory, guardExactWork, guardSteppedWork } from "./limits.ts";
 import type { Model } from "../../engine/model.ts";
 
@@ -47,7 +50,18 @@ export interface BuildOptions {
   picture?: "schrodinger" | "interaction";
   /** `--subspace a,b`: follow these propagator columns too (a gate on that subspace). */
   subspace?: string[];
+  /** `--operators auto|dense|sparse`: how operators are stored (overrides [grid] operators). */
+  operators?: "auto" | "dense" | "sparse";
 }
+
+/**
+ * With `operators = "auto"` (the default), spaces larger than this store their operators sparse: sums of local
+ * terms then cost O(d) memory and time per product instead of O(d²).
+ */
+export const SPARSE_FROM_DIM = 256;
+
+/** The largest space whose sparse operators ordo assembles (2^17 levels: about a hundred MB per operator). */
+export const SPARSE_MAX_DIM = 131_072;
 
 /** A case ready for the engine, with everything a report needs. */
 export interface BuiltCase {
@@ -125,6 +139,28 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   const params = evaluateParams(spec.params ?? {}, options.set ?? {}, units.energyFactor);
   const constScope: Scope = { params, allowTime: false, angularFactor: units.energyFactor };
   const space = buildSpace(source);
+  const operators = options.operators ?? spec.grid.operators ?? "auto";
+  // an explicit matrix is d² entries as written: sparse storage only pays for operator notation
+  const explicit = (["unperturbed", "perturbation"] as const).some((name) =>
+    sectionTerms(name, spec[name]).some(({ term }) => term.matrix !== undefined)
+  );
+  space.storage = operators === "auto"
+    ? (space.dim > SPARSE_FROM_DIM && !explicit ? "sparse" : "dense")
+    : operators;
+  if (space.storage === "sparse" && space.dim > SPARSE_MAX_DIM) {
+    throw new CaseError(
+      `the space has ${space.dim} levels, more than the ${SPARSE_MAX_DIM} sparse operators are assembled for`,
+      [],
+      "shrink the space (fewer subsystems, lower cutoffs)",
+    );
+  }
+  if (space.storage === "sparse" && explicit && space.dim > SPARSE_FROM_DIM) {
+    throw new CaseError(
+      `an explicit matrix has ${space.dim}² entries to evaluate: it cannot be stored sparse at this size`,
+      ["grid", "operators"],
+      'write the term in operator notation (op = "…"), or shrink the space',
+    );
+  }
   const relocate = (err: CaseError) => withLocation(err, source.file, source.text, source.format);
   const settings = readSettings(spec, options, constScope);
 
@@ -134,6 +170,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   checkMemory({
     dim: space.dim,
     columns: gateLevels ? gateRunColumns(space.dim, gateLevels.length) : 1,
+    sparse: space.storage === "sparse",
     order: settings.order,
     samples: settings.samples,
     unperturbed: termCount("unperturbed", spec.unperturbed),
@@ -141,12 +178,30 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   });
 
   const sections = ["unperturbed", "perturbation"] as const;
-  const terms = sections.flatMap((name) => assembleSection(name, spec[name], space, params, units, relocate));
+  let terms = sections.flatMap((name) => assembleSection(name, spec[name], space, params, units, relocate));
+  if (
+    space.storage === "sparse" && operators === "auto" && terms.some((t) => tooDenseForSparse(t, space.dim))
+  ) {
+    // chosen sparse for the size, but the operators fill their matrices: dense is the better form
+    space.storage = "dense";
+    checkMemory({
+      dim: space.dim,
+      columns: gateLevels ? gateRunColumns(space.dim, gateLevels.length) : 1,
+      order: settings.order,
+      samples: settings.samples,
+      unperturbed: termCount("unperturbed", spec.unperturbed),
+      perturbation: termCount("perturbation", spec.perturbation),
+    });
+    terms = terms.map((t) => ({ ...t, matrix: toDense(t.matrix) }));
+  }
+  if (space.storage === "sparse") refuseDenseOnlyViews(options, spec);
   // Finite coefficients at a few times (the engine's sampler checks every node as it runs); Hermitian at
   // every node the integrator uses.
   const { tStart, tEnd } = settings;
   if (terms.some((t) => t.coef?.usesTime)) {
-    if (settings.accuracy === undefined) guardSteppedWork({ dim: space.dim, ...settings });
+    if (settings.accuracy === undefined) {
+      guardSteppedWork({ dim: space.dim, ...settings, sparse: space.storage === "sparse" });
+    }
   } else guardExactWork(terms, tEnd - tStart, settings.strength);
   const checkTimes = Array.from({ length: 9 }, (_, k) => tStart + (tEnd - tStart) * k / 8);
   for (const name of sections) {
@@ -179,6 +234,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
     order: settings.order,
     ...(settings.accuracy !== undefined ? { accuracy: settings.accuracy } : {}),
   };
+  if (space.storage === "sparse") checkMemory({ ...settingsShape(settings, space, gateLevels), model });
   return {
     source,
     title: spec.title ?? source.file,
@@ -196,6 +252,46 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
     model,
     warnings,
   };
+}
+
+/** More than a quarter of its entries are non-zero: stored sparse it would cost more than dense. */
+function tooDenseForSparse(term: AssembledTerm, dim: number): boolean {
+  return term.matrix instanceof SparseComplexMatrix && term.matrix.nonZeros > 0.25 * dim * dim;
+}
+
+/** The memory check's shape from the settings (for the check with the assembled sparse terms). */
+function settingsShape(
+  settings: { order: number; samples: number },
+  space: Space,
+  gateLevels: string[] | undefined,
+) {
+  return {
+    dim: space.dim,
+    columns: gateLevels ? gateRunColumns(space.dim, gateLevels.length) : 1,
+    order: settings.order,
+    samples: settings.samples,
+    unperturbed: 0,
+    perturbation: 0,
+  };
+}
+
+/** What needs H0's eigenvectors (dense, d×d) is refused for sparse operators, saying why. */
+function refuseDenseOnlyViews(options: BuildOptions, spec: CaseSpec): void {
+  const fix = 'set [grid] operators = "dense" (or --operators dense) for a space small enough to diagonalise';
+  if ((options.basis ?? spec.series.basis) === "eigen") {
+    throw new CaseError(
+      "the eigenbasis of H0 is not available with sparse operators (H0 is never diagonalised)",
+      options.basis ? [] : ["series", "basis"],
+      fix,
+    );
+  }
+  if ((options.picture ?? spec.series.picture) === "interaction") {
+    throw new CaseError(
+      "interaction-picture amplitudes are not available with sparse operators (they need H0's eigenvectors)",
+      options.picture ? [] : ["series", "picture"],
+      fix,
+    );
+  }
 }
 
 /** Refuses a target that is not a label of the space. */

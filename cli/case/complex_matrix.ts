@@ -12,6 +12,26 @@ export interface Complex {
   im: number;
 }
 
+/**
+ * What the operator notation needs of a matrix, dense or sparse: a case's operators are all one or the other
+ * (the space's storage), never mixed in one expression.
+ */
+export interface Operator {
+  readonly rows: number;
+  readonly cols: number;
+  get(i: number, j: number): Complex;
+  set(i: number, j: number, re: number, im?: number): void;
+  add(other: Operator): Operator;
+  sub(other: Operator): Operator;
+  scale(z: Complex): Operator;
+  mul(other: Operator): Operator;
+  dagger(): Operator;
+  kron(other: Operator): Operator;
+  power(n: number): Operator;
+  hermiticityDefect(): { value: number; row: number; col: number };
+  maxAbs(): number;
+}
+
 /** A dense complex matrix, row-major, interleaved (re, im). */
 export class ComplexMatrix {
   readonly data: Float64Array;

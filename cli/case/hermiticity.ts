@@ -17,7 +17,8 @@
  */
 
 import { CaseError } from "./errors.ts";
-import { ComplexMatrix } from "./complex_matrix.ts";
+import { ComplexMatrix, type Operator } from "./complex_matrix.ts";
+import { forEachEntry } from "./sparse_matrix.ts";
 import { assembleAt, type AssembledTerm, coefAt, type Section } from "./terms.ts";
 import type { Space } from "./space.ts";
 import { forEachNode } from "../../engine/model.ts";
@@ -27,31 +28,36 @@ const RELATIVE_TOLERANCE = 1e-10;
 
 /** A matrix of the anti-Hermitian part and the weight it carries at time t. */
 interface Part {
-  matrix: ComplexMatrix;
+  matrix: Operator;
   weight: (t: number) => number;
 }
 
-function frobenius(m: ComplexMatrix): number {
+function frobenius(m: Operator): number {
   let s = 0;
-  for (const x of m.data) s += x * x;
+  forEachEntry(m, (_i, _j, z) => (s += z.re * z.re + z.im * z.im));
   return Math.sqrt(s);
 }
 
-function dot(a: ComplexMatrix, b: ComplexMatrix): number {
+/** Re Σ conj(a_ij)·b_ij (the real inner product of the entries). */
+function dot(a: Operator, b: Operator): number {
   let s = 0;
-  for (let k = 0; k < a.data.length; k++) s += a.data[k]! * b.data[k]!;
+  forEachEntry(a, (i, j, z) => {
+    const w = b.get(i, j);
+    s += z.re * w.re + z.im * w.im;
+  });
   return s;
 }
 
 /** (M + M†)/2 and (M − M†)/(2i): Hermitian and "anti-Hermitian over i" parts. */
-function split(m: ComplexMatrix): { h: ComplexMatrix; k: ComplexMatrix } {
+function split(m: Operator): { h: Operator; k: Operator } {
   const dag = m.dagger();
   return { h: m.add(dag).scale({ re: 0.5, im: 0 }), k: m.sub(dag).scale({ re: 0, im: -0.5 }) };
 }
 
 /** The parts of D and the scale they are judged against; terms with a partner are left out. */
 function antiHermitianParts(terms: AssembledTerm[], dim: number) {
-  let constant = new ComplexMatrix(dim, dim);
+  // the zero matrix, stored as the terms are
+  let constant: Operator = terms[0]?.matrix.scale({ re: 0, im: 0 }) ?? new ComplexMatrix(dim, dim);
   const parts: Part[] = [];
   const scaled: { term: AssembledTerm; norm: number }[] = [];
   terms.forEach((term, i) => {
@@ -76,10 +82,10 @@ function antiHermitianParts(terms: AssembledTerm[], dim: number) {
 
 /** R of the QR factorisation of the parts (columns), so that ‖Σ w_j P_j‖_F = ‖R·w‖₂. */
 function triangularFactor(parts: Part[]): number[][] {
-  const q: ComplexMatrix[] = [];
+  const q: Operator[] = [];
   const r = parts.map(() => parts.map(() => 0));
   parts.forEach(({ matrix }, j) => {
-    let v = matrix.clone();
+    let v = matrix;
     q.forEach((e, i) => {
       const c = dot(e, v);
       r[i]![j] = c;

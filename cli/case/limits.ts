@@ -6,10 +6,11 @@
  * @module
  */
 
+import { forEachEntry } from "./sparse_matrix.ts";
 import { CaseError } from "./errors.ts";
 import { toComplex } from "./expression.ts";
 import type { AssembledTerm } from "./terms.ts";
-import { estimateMemory, RECORD_LIMIT_BYTES, WASM_LIMIT_BYTES } from "../../engine/model.ts";
+import { estimateMemory, type Model, RECORD_LIMIT_BYTES, WASM_LIMIT_BYTES } from "../../engine/model.ts";
 
 function gib(bytes: number): string {
   return (bytes / 1024 ** 3).toFixed(bytes < 1024 ** 3 ? 3 : 1);
@@ -29,15 +30,20 @@ export function checkMemory(
     unperturbed: number;
     perturbation: number;
     columns?: number;
+    /** Operators stored sparse: no d×d matrix (their non-zeros are checked once assembled). */
+    sparse?: boolean;
+    /** The assembled model, when there is one (its sparse terms' non-zeros count). */
+    model?: Model;
   },
 ): void {
   const memory = estimateMemory({
     dim: shape.dim,
     columns: shape.columns ?? 1,
+    sparse: shape.sparse ?? false,
     order: shape.order,
     samples: shape.samples,
-    unperturbed: Array(shape.unperturbed),
-    perturbation: Array(shape.perturbation),
+    unperturbed: shape.model?.unperturbed ?? Array(shape.unperturbed),
+    perturbation: shape.model?.perturbation ?? Array(shape.perturbation),
   });
   if (memory.wasmBytes > WASM_LIMIT_BYTES) {
     throw new CaseError(
@@ -71,8 +77,12 @@ export const MAX_WORK_FLOPS = 1e15;
  *
  * @param shape dimension, Dyson order and the requested steps
  */
-export function guardSteppedWork(shape: { dim: number; order: number; steps: number }): void {
+export function guardSteppedWork(
+  shape: { dim: number; order: number; steps: number; sparse?: boolean },
+): void {
   const { dim, order, steps } = shape;
+  // a product costs 8d² flops dense; sparse, 8 per non-zero (counted here as at most 64 a row)
+  const perProduct = shape.sparse ? 8 * 64 * dim : 8 * dim * dim;
   if (steps > MAX_STEPS) {
     throw new CaseError(
       `steps = ${steps} is more than the ${MAX_STEPS.toExponential(0)} integrator steps ordo takes`,
@@ -80,7 +90,7 @@ export function guardSteppedWork(shape: { dim: number; order: number; steps: num
       "take fewer steps: see `ordo inspect` for the number the fastest phase needs",
     );
   }
-  const flops = steps * 3 * 2 * 12 * (order + 2) * 8 * dim * dim;
+  const flops = steps * 3 * 2 * 12 * (order + 2) * perProduct;
   if (flops > MAX_WORK_FLOPS) {
     throw new CaseError(
       `${steps} steps at dimension ${dim} and order ${order} would take about ${flops.toPrecision(2)} ` +
@@ -107,12 +117,9 @@ export function guardExactWork(terms: AssembledTerm[], span: number, strength: n
   let norm = 0;
   for (const t of terms) {
     const c = t.coef ? Math.hypot(toComplex(t.coef.at(0)).re, toComplex(t.coef.at(0)).im) : 1;
-    let row = 0;
-    for (let i = 0; i < t.matrix.rows; i++) {
-      let sum = 0;
-      for (let j = 0; j < t.matrix.cols; j++) sum += Math.hypot(t.matrix.get(i, j).re, t.matrix.get(i, j).im);
-      row = Math.max(row, sum);
-    }
+    const sums = new Float64Array(t.matrix.rows);
+    forEachEntry(t.matrix, (i, _j, z) => (sums[i]! += Math.hypot(z.re, z.im)));
+    const row = sums.reduce((a, b) => Math.max(a, b), 0);
     norm += c * row * (t.section === "perturbation" ? Math.max(1, Math.abs(strength)) : 1);
   }
   const substeps = norm * span / 2;

@@ -6,7 +6,7 @@
  */
 
 import { CaseError } from "./errors.ts";
-import type { ComplexMatrix } from "./complex_matrix.ts";
+import type { Operator } from "./complex_matrix.ts";
 import type { Scope } from "./expression.ts";
 import { evaluateOperator } from "./operators.ts";
 import type { CaseSpec } from "./schema.ts";
@@ -15,7 +15,7 @@ import type { Space } from "./space.ts";
 /** One observable, as a matrix in the case's basis. */
 export interface Observable {
   name: string;
-  matrix: ComplexMatrix;
+  matrix: Operator;
 }
 
 /**

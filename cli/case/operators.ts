@@ -22,7 +22,8 @@
 
 import type { MathNode } from "mathjs";
 import { CaseError, type KeyPath, quoted } from "./errors.ts";
-import { type Complex, ComplexMatrix } from "./complex_matrix.ts";
+import { type Complex, ComplexMatrix, type Operator } from "./complex_matrix.ts";
+import { SparseComplexMatrix, TooDenseError } from "./sparse_matrix.ts";
 import { compileNode, parseExpression, type Scope, toComplex, withinDepth } from "./expression.ts";
 import { constantCode, isFunctionName } from "./expression_builtins.ts";
 import { asWritten, IDENTITY, localMatrix, splitLocal, symbolsOf, toParserForm } from "./local_operators.ts";
@@ -34,7 +35,26 @@ export const HC_SUFFIX = /\+\s*h\.c\.?\s*$/i;
 /** Names the notation reserves (no param may use them). */
 export const OPERATOR_NAMES: readonly string[] = [IDENTITY];
 
-type OpValue = { kind: "scalar"; z: Complex } | { kind: "op"; m: ComplexMatrix };
+type OpValue = { kind: "scalar"; z: Complex } | { kind: "op"; m: Operator };
+
+/** Identity and zero matrices of the space's storage, and a small dense local matrix in it. */
+interface Kit {
+  identity(n: number): Operator;
+  zeros(n: number): Operator;
+  local(m: ComplexMatrix): Operator;
+}
+
+const DENSE: Kit = {
+  identity: (n) => ComplexMatrix.identity(n),
+  zeros: (n) => new ComplexMatrix(n, n),
+  local: (m) => m,
+};
+
+const SPARSE: Kit = {
+  identity: (n) => SparseComplexMatrix.identity(n),
+  zeros: (n) => new SparseComplexMatrix(n, n),
+  local: (m) => SparseComplexMatrix.fromDense(m.rows, m.cols, m.data),
+};
 type Fail = (what: string, fix?: string) => never;
 
 /** What a name in an operator expression stands for, when it is an operator. */
@@ -66,10 +86,11 @@ export function evaluateOperator(
   space: Space,
   scope: Scope,
   path: KeyPath,
-): { matrix: ComplexMatrix; hc: boolean } {
+): { matrix: Operator; hc: boolean } {
   const fail: Fail = (what, fix) => {
     throw new CaseError(`in ${quoted(source)}: ${what}`, path, fix);
   };
+  const kit = space.storage === "sparse" ? SPARSE : DENSE;
   const { text, hc, ketbras } = readNotation(source, fail);
   const node = parseExpression(toParserForm(text), path, source);
   const names = new Map<string, Named | undefined>();
@@ -77,10 +98,18 @@ export function evaluateOperator(
     if (!names.has(name)) names.set(name, classify(name, ketbras, space, scope, fail));
     return names.get(name);
   };
-  const walker = new OperatorWalker(space, scope, path, source, named, fail);
+  const walker = new OperatorWalker(space, scope, path, source, named, fail, kit);
   const value = withinDepth(() => {
     checkNames(node, named, scope, space, fail);
-    return walker.walk(node);
+    try {
+      return walker.walk(node);
+    } catch (e) {
+      if (!(e instanceof TooDenseError)) throw e;
+      return fail(
+        `${e.message}: too dense to assemble as a sparse operator`,
+        "sparse storage is for sums of local terms; write the operator as such a sum, or shrink the space",
+      );
+    }
   }, fail);
   if (value.kind === "scalar") {
     return fail(
@@ -206,6 +235,7 @@ class OperatorWalker {
     readonly source: string,
     readonly named: (name: string) => Named | undefined,
     readonly fail: Fail,
+    readonly kit: Kit,
   ) {}
 
   #containsOperator(n: MathNode): boolean {
@@ -217,8 +247,8 @@ class OperatorWalker {
     return found;
   }
 
-  #matrix(v: OpValue): ComplexMatrix {
-    return v.kind === "op" ? v.m : ComplexMatrix.identity(this.space.dim).scale(v.z);
+  #matrix(v: OpValue): Operator {
+    return v.kind === "op" ? v.m : this.kit.identity(this.space.dim).scale(v.z);
   }
 
   walk(n: MathNode): OpValue {
@@ -241,14 +271,14 @@ class OperatorWalker {
     }
   }
 
-  #named(named: Named): ComplexMatrix {
-    const { space } = this;
-    if (named.kind === "identity") return ComplexMatrix.identity(space.dim);
+  #named(named: Named): Operator {
+    const { space, kit } = this;
+    if (named.kind === "identity") return kit.identity(space.dim);
     if (named.kind === "local") {
       const sub = space.subsystems[named.subsystem]!;
-      return embed(space, named.subsystem, localMatrix(named.symbol, sub));
+      return embed(space, named.subsystem, kit.local(localMatrix(named.symbol, sub)), kit);
     }
-    return ketbra(space, named.ket, named.bra, this.fail);
+    return ketbra(space, named.ket, named.bra, this.fail, kit);
   }
 
   #operator(fn: string, op: string, args: OpValue[]): OpValue {
@@ -288,19 +318,19 @@ class OperatorWalker {
 }
 
 /** Embeds a local operator of subsystem k into the whole space. */
-function embed(space: Space, k: number, local: ComplexMatrix): ComplexMatrix {
-  let out = ComplexMatrix.identity(1);
+function embed(space: Space, k: number, local: Operator, kit: Kit): Operator {
+  let out = kit.identity(1);
   space.subsystems.forEach((sub, j) => {
-    out = out.kron(j === k ? local : ComplexMatrix.identity(sub.labels.length));
+    out = out.kron(j === k ? local : kit.identity(sub.labels.length));
   });
   return out;
 }
 
 /** |a><b| on full product labels, or on the one subsystem that has both labels. */
-function ketbra(space: Space, a: string, b: string, fail: Fail): ComplexMatrix {
+function ketbra(space: Space, a: string, b: string, fail: Fail, kit: Kit): Operator {
   const i = space.labels.indexOf(a), j = space.labels.indexOf(b);
   if (i >= 0 && j >= 0) {
-    const m = new ComplexMatrix(space.dim, space.dim);
+    const m = kit.zeros(space.dim);
     m.set(i, j, 1);
     return m;
   }
@@ -311,7 +341,7 @@ function ketbra(space: Space, a: string, b: string, fail: Fail): ComplexMatrix {
     const { s, k } = owners[0]!;
     const local = new ComplexMatrix(s.labels.length, s.labels.length);
     local.set(s.labels.indexOf(a), s.labels.indexOf(b), 1);
-    return embed(space, k, local);
+    return embed(space, k, kit.local(local), kit);
   }
   const shown = space.labels.slice(0, 12).join(", ") + (space.labels.length > 12 ? ", …" : "");
   if (owners.length > 1) {

@@ -88,6 +88,7 @@ export const caseSchema = z.object({
     steps: z.number().int().optional(),
     accuracy: z.number().positive().optional(),
     samples: z.number().int().default(101),
+    operators: z.enum(["auto", "dense", "sparse"]).optional(),
   }).strict(),
   series: z.object({
     order: z.number().int(),

@@ -29,6 +29,8 @@ export interface Space {
   /** Labels of the product basis, subsystem labels joined by ",". */
   labels: string[];
   dim: number;
+  /** How operators on it are stored (default dense): sparse ones hold their non-zeros only. */
+  storage?: "dense" | "sparse";
 }
 
 /**

@@ -9,7 +9,8 @@
 
 import { CaseError, type KeyPath } from "./errors.ts";
 import type { MatrixSpec, SectionSpec, TermSpec } from "./schema.ts";
-import { type Complex, ComplexMatrix } from "./complex_matrix.ts";
+import { type Complex, ComplexMatrix, type Operator } from "./complex_matrix.ts";
+import { forEachEntry, SparseComplexMatrix } from "./sparse_matrix.ts";
 import {
   type Compiled,
   compileExpression,
@@ -31,8 +32,8 @@ export type Section = "unperturbed" | "perturbation";
 export interface AssembledTerm {
   section: Section;
   path: KeyPath;
-  /** The matrix in rad per time unit. */
-  matrix: ComplexMatrix;
+  /** The matrix in rad per time unit (dense or sparse, as the space stores operators). */
+  matrix: Operator;
   /** The coefficient (undefined: the constant 1). */
   coef: Compiled | undefined;
   /** This is the Hermitian-conjugate partner of the previous term. */
@@ -151,7 +152,7 @@ function termMatrix(
   path: KeyPath,
   space: Space,
   scope: Scope,
-): { matrix: ComplexMatrix; hc: boolean } {
+): { matrix: Operator; hc: boolean } {
   if ((term.matrix === undefined) === (term.op === undefined)) {
     throw new CaseError(
       "a term needs exactly one of matrix and op",
@@ -160,8 +161,11 @@ function termMatrix(
     );
   }
   if (term.matrix) {
+    const dense = explicitMatrix(term.matrix, space.dim, scope, [...path, "matrix"]);
     return {
-      matrix: explicitMatrix(term.matrix, space.dim, scope, [...path, "matrix"]),
+      matrix: space.storage === "sparse"
+        ? SparseComplexMatrix.fromDense(space.dim, space.dim, dense.data)
+        : dense,
       hc: term.hc ?? false,
     };
   }
@@ -176,14 +180,12 @@ function termMatrix(
   return { matrix: r.matrix, hc: r.hc || (term.hc ?? false) };
 }
 
-function firstNonFinite(m: ComplexMatrix): string | undefined {
-  for (let i = 0; i < m.rows; i++) {
-    for (let j = 0; j < m.cols; j++) {
-      const z = m.get(i, j);
-      if (!Number.isFinite(z.re) || !Number.isFinite(z.im)) return `${i}, ${j}`;
-    }
-  }
-  return undefined;
+function firstNonFinite(m: Operator): string | undefined {
+  let found: string | undefined;
+  forEachEntry(m, (i, j, z) => {
+    if (found === undefined && (!Number.isFinite(z.re) || !Number.isFinite(z.im))) found = `${i}, ${j}`;
+  });
+  return found;
 }
 
 function explicitMatrix(
@@ -237,9 +239,11 @@ export function coefAt(term: AssembledTerm, t: number): Complex {
   return term.conjugate ? { re: z.re, im: -z.im } : z;
 }
 
-/** The sum of terms at time t. */
-export function assembleAt(terms: AssembledTerm[], d: number, t: number): ComplexMatrix {
-  let sum = new ComplexMatrix(d, d);
+/** The sum of terms at time t (stored as the terms are). */
+export function assembleAt(terms: AssembledTerm[], d: number, t: number): Operator {
+  let sum: Operator = terms[0]?.matrix instanceof SparseComplexMatrix
+    ? new SparseComplexMatrix(d, d)
+    : new ComplexMatrix(d, d);
   for (const term of terms) sum = sum.add(term.matrix.scale(coefAt(term, t)));
   return sum;
 }
@@ -273,7 +277,11 @@ export function checkCoefficientsFinite(terms: AssembledTerm[], times: number[])
  * @returns the engine's operator term
  */
 export function engineTerm(term: AssembledTerm, relocate: (e: CaseError) => CaseError): OperatorTerm {
-  return { matrix: term.matrix.data, coefficient: coefficientOf(term, relocate) };
+  const coefficient = coefficientOf(term, relocate);
+  if (term.matrix instanceof SparseComplexMatrix) {
+    return { matrix: new Float64Array(0), sparse: term.matrix.toCsr(), coefficient };
+  }
+  return { matrix: (term.matrix as ComplexMatrix).data, coefficient };
 }
 
 function coefficientOf(

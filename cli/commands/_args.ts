@@ -23,6 +23,7 @@ export const CASE_FLAGS: Flags = {
   basis: { type: "string" },
   picture: { type: "string" },
   subspace: { type: "string" },
+  operators: { type: "string" },
   quiet: { type: "boolean" },
 };
 
@@ -84,9 +85,14 @@ export function buildOptions(values: Record<string, unknown>): BuildOptions {
   if (subspace !== undefined && subspace.length === 0) {
     usage('--subspace takes labels, e.g. --subspace "0,1"');
   }
+  const operators = values.operators as string | undefined;
+  if (operators !== undefined && !["auto", "dense", "sparse"].includes(operators)) {
+    usage(`--operators takes auto, dense or sparse, got "${operators}"`);
+  }
   return {
     set,
     ...(subspace !== undefined ? { subspace } : {}),
+    ...(operators !== undefined ? { operators: operators as "auto" | "dense" | "sparse" } : {}),
     ...(basis !== undefined ? { basis: basis as "bare" | "eigen" } : {}),
     ...(picture !== undefined ? { picture: picture as "schrodinger" | "interaction" } : {}),
     order: integerFlag(values.order, "--order"),

@@ -79,6 +79,7 @@ export function formatInspection(
     ...describeDrives(built, drives),
     ...describeSteps(built, info, controller),
     ...describeGate(built, info),
+    describeOperators(built),
     `  memory     about ${bytes(info.memoryBytes)} (largest part: ${info.memoryLargest})`,
   ];
   for (const w of built.warnings) lines.push(`  warning    ${w}`);
@@ -112,14 +113,32 @@ function describeCase(built: BuiltCase, info: Inspection): string[] {
 function describeSpectrum(info: Inspection, freq: string): string[] {
   const lines: string[] = [];
   for (const s of info.spectrum) {
+    const head = `  H0 spectrum${info.spectrum.length > 1 ? ` at t = ${fmt(s.at)}` : ""} [${
+      freq.trim() || "angular"
+    }]`;
+    if (s.sparse === "bound") {
+      lines.push(
+        head,
+        `             within [${fmt(s.values[0]!)}, ${
+          fmt(s.values[1]!)
+        }] (Gershgorin's bound: sparse operators ` +
+          "are not diagonalised)",
+      );
+      continue;
+    }
     const shown = Array.from(s.values.slice(0, 16), (e, k) => `${fmt(e)} (${s.dominant[k]})`).join(", ");
     lines.push(
-      `  H0 spectrum${info.spectrum.length > 1 ? ` at t = ${fmt(s.at)}` : ""} [${freq.trim() || "angular"}]`,
+      head + (s.sparse === "diagonal" ? " (H0 is diagonal: its diagonal)" : ""),
       `             ${shown}${s.values.length > 16 ? `, … (${s.values.length} levels)` : ""}`,
     );
   }
   lines.push(`  Bohr frequencies coupled by V (E_a − E_b, strongest coupling first):`);
-  if (info.bohr.length === 0) lines.push("             none: V is diagonal in H0's eigenbasis");
+  if (info.spectrum[0]?.sparse === "bound") {
+    lines.push(
+      "             not listed: H0 is not diagonal and sparse operators are not diagonalised; the fastest phase " +
+        `is taken as the spectral width, ${fmt(info.omegaMax)}${freq}`,
+    );
+  } else if (info.bohr.length === 0) lines.push("             none: V is diagonal in H0's eigenbasis");
   for (const b of info.bohr.slice(0, 10)) {
     lines.push(
       `             ${b.upper} ↔ ${b.lower}: ω = ${fmt(b.omega)}${freq}, |V| = ${fmt(b.coupling, 4)}`,
@@ -152,6 +171,20 @@ function describeDrives(built: BuiltCase, drives: DriveSpectrum[]): string[] {
   const warning = driveWarning(built, drives);
   if (warning) lines.push(`  warning    ${warning}`);
   return lines;
+}
+
+/** How the operators are stored: dense, or sparse with their non-zeros. */
+function describeOperators(built: BuiltCase): string {
+  const sparse = built.space.storage === "sparse";
+  if (!sparse) return `  operators  dense (d×d matrices)`;
+  const nonZeros = [...built.model.unperturbed, ...built.model.perturbation].reduce(
+    (s, t) => s + (t.sparse?.column.length ?? 0),
+    0,
+  );
+  const terms = built.model.unperturbed.length + built.model.perturbation.length;
+  return `  operators  sparse (compressed rows): ${nonZeros} non-zeros in ${terms} terms, ` +
+    `${(nonZeros / terms / built.model.dim).toPrecision(3)} a row on average; no d×d matrix is formed ` +
+    `(operators = "dense" in [grid] or --operators dense overrides)`;
 }
 
 /** The line about a gate's subspace (propagator mode), if the case has one. */
