@@ -259,7 +259,7 @@ export function solve(
   const d = model.dim, r = model.order + 1, samples = model.samples;
   // m columns: m initial states propagated together (propagator columns); states are d·m entries per sample
   const m = model.columns ?? 1, dm = d * m;
-  const sparse = scheme === "sparse-schrodinger";
+  const sparse = scheme === "sparse-schrodinger" || scheme === "sparse-interaction";
   const sumConstant = scheme !== "time-dependent-h0" && !sparse;
   const h0 = sumConstant ? [sumTerms(model.unperturbed, d)] : model.unperturbed;
   const v = scheme === "time-independent" ? [sumTerms(model.perturbation, d)] : model.perturbation;
@@ -268,8 +268,12 @@ export function solve(
   const writeTerms = (ptr: number, terms: OperatorTerm[]) => {
     terms.forEach((t, k) => new Float64Array(mem(), ptr + k * 16 * d * d, 2 * d * d).set(t.matrix));
   };
-  if (sparse) writeSparse(e, d, [...h0, ...v]);
-  else {
+  if (sparse) {
+    writeSparse(e, d, [...h0, ...v]);
+    if (scheme === "sparse-interaction") {
+      new Float64Array(mem(), e.bufEnergies(), d).set(diagonalEnergies(h0, d));
+    }
+  } else {
     writeTerms(e.bufH0Terms(), h0);
     writeTerms(e.bufVTerms(), v);
   }
@@ -279,6 +283,7 @@ export function solve(
     "interaction-picture": 1,
     "time-dependent-h0": 2,
     "sparse-schrodinger": 3,
+    "sparse-interaction": 4,
   }[scheme];
   const eigen = scheme === "time-dependent-h0" || sparse ? undefined : model.unperturbedEigen;
   if (eigen) {
@@ -403,6 +408,22 @@ export function solve(
     store(j + 1, (j + 1) * per * h);
   }
   return finish(total, h, 15);
+}
+
+/** H0's energies when it is a constant diagonal sparse sum: Σ_k c_k·(H0_k)_aa. */
+function diagonalEnergies(terms: OperatorTerm[], d: number): Float64Array {
+  const out = new Float64Array(d);
+  for (const t of terms) {
+    const c = t.coefficient;
+    if (c.kind !== "constant") throw new EngineError("a time-dependent H0 has no fixed energies");
+    const csr = t.sparse!;
+    for (let i = 0; i < d; i++) {
+      for (let k = csr.rowStart[i]!; k < csr.rowStart[i + 1]!; k++) {
+        out[i]! += c.re * csr.values[2 * k]! - c.im * csr.values[2 * k + 1]!;
+      }
+    }
+  }
+  return out;
 }
 
 /** Writes every term's CSR arrays into the engine (which allocates them). */

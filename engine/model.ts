@@ -86,7 +86,19 @@ export type Scheme =
   | "time-independent"
   | "interaction-picture"
   | "time-dependent-h0"
-  | "sparse-schrodinger";
+  | "sparse-schrodinger"
+  | "sparse-interaction";
+
+/** The row of entry k of a CSR matrix. */
+function rowOf(csr: SparseMatrix, k: number): number {
+  let lo = 0, hi = csr.rowStart.length - 2;
+  while (lo < hi) {
+    const mid = (lo + hi + 1) >> 1;
+    if (csr.rowStart[mid]! <= k) lo = mid;
+    else hi = mid - 1;
+  }
+  return lo;
+}
 
 /** Whether a model's operators are sparse (then every term is). */
 export function isSparse(model: Pick<Model, "unperturbed" | "perturbation">): boolean {
@@ -99,7 +111,13 @@ export function isSparse(model: Pick<Model, "unperturbed" | "perturbation">): bo
  * H0 with V(t), or H0(t).
  */
 export function schemeFor(model: Model): Scheme {
-  if (isSparse(model)) return "sparse-schrodinger";
+  if (isSparse(model)) {
+    // a constant diagonal H0: the interaction picture keeps V's pattern (with an accuracy: Runge–Kutta steps)
+    const diagonal = model.unperturbed.every((t) =>
+      !isTimeDependent(t.coefficient) && t.sparse!.column.every((j, k) => rowOf(t.sparse!, k) === j)
+    );
+    return diagonal && model.accuracy !== undefined ? "sparse-interaction" : "sparse-schrodinger";
+  }
   if (model.unperturbed.some((t) => isTimeDependent(t.coefficient))) {
     return "time-dependent-h0";
   }
@@ -130,6 +148,7 @@ export const METHOD_NAMES: Record<Method, string> = {
 export function methodFor(model: Model): Method | undefined {
   const scheme = schemeFor(model);
   if (scheme === "time-independent") return undefined;
+  if (scheme === "sparse-interaction") return "runge-kutta-8";
   return scheme === "interaction-picture" && model.accuracy !== undefined
     ? "runge-kutta-8"
     : "commutator-free-4";

@@ -57,7 +57,8 @@ Deno.test("XX chain, d = 2^10, sparse: one excitation hops as a free particle (t
   assertEqual(result.scheme, "sparse-schrodinger");
   const last = result.times.length - 1;
   const zeroth = populationsAt(result.terms[0]!, 1024, last);
-  const phi = (k: number, j: number) => Math.sqrt(2 / (length + 1)) * Math.sin(k * Math.PI * j / (length + 1));
+  const phi = (k: number, j: number) =>
+    Math.sqrt(2 / (length + 1)) * Math.sin(k * Math.PI * j / (length + 1));
   let total = 0;
   for (let site = 1; site <= length; site++) {
     let re = 0, im = 0;
@@ -91,7 +92,8 @@ Deno.test("XX chain, d = 2^8: sparse and dense operators give the same exact and
   });
   assert(moved < 0.99, "the excitation moved");
   for (let n = 0; n < sparse.result.terms.length; n++) {
-    const s = sparse.analysis.targets[0]!.rows[n]!.population, t = dense.analysis.targets[0]!.rows[n]!.population;
+    const s = sparse.analysis.targets[0]!.rows[n]!.population,
+      t = dense.analysis.targets[0]!.rows[n]!.population;
     assertClose(s, t, { abs: 1e-8 }, `partial sum to order ${n}`);
   }
 });

@@ -64,7 +64,9 @@ function spectralFacts(engine: Engine, built: BuiltCase) {
   const h0Terms = built.terms.filter((t) => t.section === "unperturbed");
   const vTerms = built.terms.filter((t) => t.section === "perturbation");
   const scheme = schemeFor(model);
-  if (scheme === "sparse-schrodinger") return sparseFacts(built, h0Terms, vTerms);
+  if (scheme === "sparse-schrodinger" || scheme === "sparse-interaction") {
+    return sparseFacts(built, h0Terms, vTerms);
+  }
   const h0TimeDependent = scheme === "time-dependent-h0";
   const spectra = (h0TimeDependent ? [model.tStart, model.tEnd] : [model.tStart]).map((at) => ({
     at,
@@ -96,7 +98,7 @@ function sparseFacts(built: BuiltCase, h0Terms: AssembledTerm[], vTerms: Assembl
   if (h0TimeDependent || spectra[0]!.sparse === "bound") {
     for (const s of spectra) omegaMax = Math.max(omegaMax, s.values[s.values.length - 1]! - s.values[0]!);
   }
-  return { scheme: "sparse-schrodinger" as const, spectra, bohr, omegaMax };
+  return { scheme: schemeFor(model), spectra, bohr, omegaMax };
 }
 
 /** How fast H turns, and H0's eigen-decomposition when H0 is constant (to hand to the engine). */
@@ -120,7 +122,7 @@ export interface Turning {
  */
 export function turningOf(engine: Engine, built: BuiltCase): Turning {
   const facts = spectralFacts(engine, built);
-  const eigen = facts.scheme === "time-dependent-h0" || facts.scheme === "sparse-schrodinger"
+  const eigen = facts.scheme === "time-dependent-h0" || facts.scheme.startsWith("sparse")
     ? undefined
     : facts.spectra[0]!;
   if (facts.scheme === "time-independent") return { rate: 0, eigen };
@@ -150,7 +152,7 @@ export function longestPhase(model: Model): number {
 
 /** What {@link turningOf} says, from an inspection already made. */
 export function turningFrom(info: Inspection): Turning {
-  const eigen = info.scheme === "time-dependent-h0" || info.scheme === "sparse-schrodinger"
+  const eigen = info.scheme === "time-dependent-h0" || info.scheme.startsWith("sparse")
     ? undefined
     : info.spectrum[0];
   const rate = info.scheme === "time-independent" ? 0 : Math.max(info.omegaMax, info.coefRate);

@@ -98,3 +98,72 @@ export function memoryProbe(engine: Engine): void {
   const hwm = /VmHWM:\s+(\d+) kB/.exec(status);
   console.log(JSON.stringify({ peakKiB: hwm ? Number(hwm[1]) : null }));
 }
+
+/**
+ * A random sparse d-level model with about `perRow` non-zeros a row in H0 and in V (Hermitian, CSR), V driven by
+ * a Gaussian pulse, to order N with an accuracy; or the same matrices dense (for the dense path's time).
+ */
+export function sparseModel(
+  d: number,
+  perRow: number,
+  order: number,
+  accuracy: number,
+  dense = false,
+  diagonalH0 = false,
+): Model {
+  const random = seeded(d + perRow);
+  const build = (scale: number, partners = perRow / 2) => {
+    const rows: Map<number, [number, number]>[] = Array.from({ length: d }, () => new Map());
+    for (let i = 0; i < d; i++) {
+      rows[i]!.set(i, [scale * (2 * random() - 1), 0]);
+      for (let k = 0; k < partners; k++) {
+        const j = Math.floor(random() * d);
+        if (j === i) continue;
+        const re = scale * (random() - 0.5), im = scale * (random() - 0.5);
+        rows[i]!.set(j, [re, im]);
+        rows[j]!.set(i, [re, -im]);
+      }
+    }
+    if (dense) {
+      const m = new Float64Array(2 * d * d);
+      rows.forEach((row, i) =>
+        row.forEach(([re, im], j) => ((m[2 * (i * d + j)] = re), (m[2 * (i * d + j) + 1] = im)))
+      );
+      return { matrix: m };
+    }
+    const rowStart = new Int32Array(d + 1), column: number[] = [], values: number[] = [];
+    rows.forEach((row, i) => {
+      for (const j of [...row.keys()].sort((a, b) => a - b)) {
+        column.push(j);
+        values.push(...row.get(j)!);
+      }
+      rowStart[i + 1] = column.length;
+    });
+    return {
+      matrix: new Float64Array(0),
+      sparse: { rowStart, column: Int32Array.from(column), values: Float64Array.from(values) },
+    };
+  };
+  const initial = new Float64Array(2 * d);
+  initial[0] = 1;
+  return {
+    dim: d,
+    unperturbed: [{ ...build(diagonalH0 ? 2 : 0.3, diagonalH0 ? 0 : perRow / 2), coefficient: one }],
+    perturbation: [{
+      ...build(0.02),
+      coefficient: {
+        kind: "sampled",
+        sample: (ts, out) =>
+          ts.forEach((t, k) => ((out[2 * k] = Math.exp(-0.5 * ((t - 5) / 1.5) ** 2)), (out[2 * k + 1] = 0))),
+      },
+    }],
+    strength: 1,
+    initial,
+    tStart: 0,
+    tEnd: 10,
+    steps: 1,
+    samples: 2,
+    order,
+    accuracy,
+  };
+}

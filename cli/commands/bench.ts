@@ -86,6 +86,7 @@ export async function benchCommand(): Promise<number> {
     ...engineRows(engine),
     ...kernelRows(engine),
     ...propagatorRows(engine),
+    ...(await sparseRows()),
     await memoryRow(),
     ...await scipyRows(engine, log),
   ];
@@ -220,6 +221,65 @@ function propagatorRows(engine: Engine): Row[] {
       `${fmt(together / apart)}×`,
       "< 1×",
     ]);
+  }
+  return rows;
+}
+
+/** One sparse (or dense) probe in its own process: wall time, steps and peak memory. */
+async function sparseProbe(d: number, dense: boolean, diagonal: boolean) {
+  const out = await new Deno.Command(Deno.execPath(), {
+    args: [
+      "run",
+      "-A",
+      new URL("./_bench_sparse_probe.ts", import.meta.url).pathname,
+      String(d),
+      "20",
+      "4",
+      "1e-8",
+      dense ? "dense" : "sparse",
+      diagonal ? "diagonal" : "offdiagonal",
+    ],
+    stdout: "piped",
+    stderr: "inherit",
+  }).output();
+  if (!out.success) throw new Error(`the sparse probe at d=${d} failed`);
+  return JSON.parse(new TextDecoder().decode(out.stdout)) as {
+    ms: number;
+    steps: number;
+    peakKiB: number | null;
+  };
+}
+
+/**
+ * Sparse operators: random sparse models (about 20 non-zeros a row in V, and in H0 unless it is diagonal; N = 4,
+ * accuracy 1e-8), each in its own process (so its peak memory is its own), with H0 diagonal (the interaction
+ * picture keeps V's pattern) and not (the Schrödinger picture): d = 1024 sparse against the same matrices dense,
+ * and d = 2^12, 2^14 sparse.
+ */
+async function sparseRows(): Promise<Row[]> {
+  const rows: Row[] = [];
+  for (const diagonal of [true, false]) {
+    const form = diagonal ? "H0 diagonal" : "H0 not diagonal";
+    log(`sparse against dense, d=1024, ${form} (subprocesses)`);
+    const sparse = await sparseProbe(1024, false, diagonal), dense = await sparseProbe(1024, true, diagonal);
+    rows.push([
+      `sparse vs dense operators, d=1024, ${form}, ~20 non-zeros a row, N=4, accuracy 1e-8 (whole solve)`,
+      `${fmt(sparse.ms)} ms (${sparse.steps} steps)`,
+      `${fmt(dense.ms)} ms (${dense.steps} steps)`,
+      `${fmt(dense.ms / sparse.ms)}× faster`,
+      "≥ 20× faster",
+    ]);
+    for (const d of [4096, 16384]) {
+      log(`sparse d=${d}, ${form} (subprocess)`);
+      const run = await sparseProbe(d, false, diagonal);
+      rows.push([
+        `sparse d=${d}, ${form}, ~20 non-zeros a row, N=4, accuracy 1e-8: time (${run.steps} steps), peak memory`,
+        `${fmt(run.ms / 1000)} s, ${run.peakKiB ? fmt(run.peakKiB / 1024) : "?"} MiB`,
+        "",
+        "",
+        d === 16384 ? "< 60 s, < 1 GB" : "",
+      ]);
+    }
   }
   return rows;
 }

@@ -45,6 +45,11 @@ export const SCHEME_INTERACTION: i32 = 1;
 export const SCHEME_TD_H0: i32 = 2;
 /** Sparse operators (CSR): the Schrödinger picture, every product a sparse one; no d×d matrix anywhere. */
 export const SCHEME_SPARSE: i32 = 3;
+/**
+ * Sparse operators with a constant diagonal H0 (energies written by TypeScript): the interaction picture keeps
+ * V's pattern, and the accuracy-driven Runge–Kutta steps take sparse products only.
+ */
+export const SCHEME_SPARSE_INTERACTION: i32 = 4;
 
 /** Error codes (turned into messages by engine/mod.ts). */
 export const ERR_OK: i32 = 0;
@@ -431,9 +436,9 @@ export function prepare(which: i32, strength: f64, haveEigen: i32): i32 {
     startVectors(initial);
     return ERR_OK;
   }
-  if (scheme == SCHEME_SPARSE) {
+  if (scheme == SCHEME_SPARSE || scheme == SCHEME_SPARSE_INTERACTION) {
     prepareSparse();
-    startVectors(initial);
+    startVectors(initial); // the basis is the identity: c(0) = ψ(0)
     return ERR_OK;
   }
   // haveEigen: TypeScript has written H0's eigenvalues and eigenvectors (computed once for the whole run).
@@ -764,7 +769,7 @@ export function record(tau: f64): void {
     return;
   }
   memory.copy(tmp, series, <usize>r * vec);
-  if (scheme == SCHEME_INTERACTION) {
+  if (scheme == SCHEME_INTERACTION || scheme == SCHEME_SPARSE_INTERACTION) {
     memory.copy(tmp + <usize>r * vec, exact, vec);
     memory.copy(tmp + <usize>(r + 1) * vec, check, vec);
     // ψ = U·e^{−iEτ}·c
@@ -776,8 +781,11 @@ export function record(tau: f64): void {
         cset(p, pr * xr - pi * xi, pr * xi + pi * xr);
       }
     }
-    memory.fill(rec, 0, <usize>n * vec);
-    zgemv(basis, d, tmp, rec, n * m, 1.0, 0.0);
+    if (scheme == SCHEME_SPARSE_INTERACTION) memory.copy(rec, tmp, <usize>n * vec); // the basis is the identity
+    else {
+      memory.fill(rec, 0, <usize>n * vec);
+      zgemv(basis, d, tmp, rec, n * m, 1.0, 0.0);
+    }
     return;
   }
   // time-independent: exact from H's eigen-decomposition, in H0's eigenbasis first
@@ -878,7 +886,9 @@ let startRateValid = false;
 function interactionRate(buf: usize, node: i32, tau: f64, z: usize, kout: usize): void {
   const coefs = buf + ((<usize>node * <usize>(k0 + kv) + <usize>k0) << 4);
   let op = vTerms, fr = 1.0, fi = 0.0;
-  if (kv == 1) {
+  if (sparse) {
+    op = 0;
+  } else if (kv == 1) {
     fr = cre(coefs);
     fi = cim(coefs);
   } else {
@@ -896,8 +906,18 @@ function interactionRate(buf: usize, node: i32, tau: f64, z: usize, kout: usize)
     }
   }
   memory.fill(rkP, 0, <usize>r * vec);
-  zgemv(op, d, rkU, rkP, r * m, fr, fi);
-  kernelFlops += 8.0 * <f64>d * <f64>d * <f64>(r * m);
+  if (sparse) {
+    // Σ_k f_k W_k, term by term (W_k = V_k: H0 is diagonal, its eigenbasis is the case's own)
+    for (let k = 0; k < kv; k++) {
+      const c = coefs + (<usize>k << 4), t = k0 + k;
+      if (cre(c) == 0 && cim(c) == 0) continue;
+      zcsrmv(sparseRowStart(t), sparseColumn(t), sparseValues(t), d, rkU, rkP, r * m, cre(c), cim(c));
+      kernelFlops += 8.0 * <f64>load<u64>(csrField(t, 3)) * <f64>(r * m);
+    }
+  } else {
+    zgemv(op, d, rkU, rkP, r * m, fr, fi);
+    kernelFlops += 8.0 * <f64>d * <f64>d * <f64>(r * m);
+  }
   memory.fill(kout, 0, vec);
   for (let v = 0; v < r; v++) {
     const src = rkP + <usize>v * vec;
