@@ -65,6 +65,13 @@ export function runJson(outcome: RunOutcome): unknown {
     method: {
       scheme: result.scheme,
       stepping: result.method ?? null,
+      operators: built.space.storage ?? "dense",
+      non_zeros: built.space.storage === "sparse"
+        ? [...built.model.unperturbed, ...built.model.perturbation].reduce(
+          (s, t) => s + (t.sparse?.column.length ?? 0),
+          0,
+        )
+        : null,
       steps: result.steps,
       step_size: result.stepSize,
       accuracy: built.model.accuracy ?? null,

@@ -157,6 +157,16 @@ function header({ built, info, result, analysis }: RunOutcome): string[] {
       ? "basis   eigen: populations and amplitudes in H0's eigenstates, each named by its largest bare component"
       : "basis   bare: populations and amplitudes in the case's own labels",
     `scheme  ${result.scheme}; ${stepText}; Dyson order ≤ ${built.model.order}; λ = ${built.model.strength}`,
+    ...(built.space.storage === "sparse"
+      ? [
+        `operators sparse: ${
+          [...built.model.unperturbed, ...built.model.perturbation].reduce(
+            (s, t) => s + (t.sparse?.column.length ?? 0),
+            0,
+          )
+        } non-zeros (no ${built.model.dim}×${built.model.dim} matrix is formed)`,
+      ]
+      : []),
     `window  t = ${built.model.tStart} … ${built.model.tEnd}${tu}; reporting t = ${
       Number(analysis.time.toPrecision(6))
     }${tu}; x = ∫‖λV‖dt ≤ ${sci(normIntegralAt(info, analysis.time), 3)}`,

@@ -27,6 +27,10 @@ export const EXAMPLES: Record<string, { file: string; about: string }> = {
     file: "kicked_oscillator.toml",
     about: "driven truncated oscillator",
   },
+  crosstalk: {
+    file: "qubit_chain_crosstalk.toml",
+    about: "an idle chain of ten qubits, d = 1024: crosstalk by residual exchange, sparse operators",
+  },
   gate: {
     file: "gate_on_mode.toml",
     about: "a π/2 gate on a three-level mode: fidelity, leakage, Magnus vs Dyson per order",
