@@ -410,7 +410,7 @@ export function solve(
   return finish(total, h, 15);
 }
 
-/** H0's energies when it is a constant diagonal sparse sum: Σ_k c_k·(H0_k)_aa. */
+/** H0's diagonal when it is a constant sparse sum: E_a = Σ_k c_k·(H0_k)_aa (its interaction picture's energies). */
 function diagonalEnergies(terms: OperatorTerm[], d: number): Float64Array {
   const out = new Float64Array(d);
   for (const t of terms) {
@@ -419,7 +419,7 @@ function diagonalEnergies(terms: OperatorTerm[], d: number): Float64Array {
     const csr = t.sparse!;
     for (let i = 0; i < d; i++) {
       for (let k = csr.rowStart[i]!; k < csr.rowStart[i + 1]!; k++) {
-        out[i]! += c.re * csr.values[2 * k]! - c.im * csr.values[2 * k + 1]!;
+        if (csr.column[k] === i) out[i]! += c.re * csr.values[2 * k]! - c.im * csr.values[2 * k + 1]!;
       }
     }
   }

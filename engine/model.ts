@@ -89,17 +89,6 @@ export type Scheme =
   | "sparse-schrodinger"
   | "sparse-interaction";
 
-/** The row of entry k of a CSR matrix. */
-function rowOf(csr: SparseMatrix, k: number): number {
-  let lo = 0, hi = csr.rowStart.length - 2;
-  while (lo < hi) {
-    const mid = (lo + hi + 1) >> 1;
-    if (csr.rowStart[mid]! <= k) lo = mid;
-    else hi = mid - 1;
-  }
-  return lo;
-}
-
 /** Whether a model's operators are sparse (then every term is). */
 export function isSparse(model: Pick<Model, "unperturbed" | "perturbation">): boolean {
   return model.unperturbed.some((t) => t.sparse !== undefined) ||
@@ -112,11 +101,10 @@ export function isSparse(model: Pick<Model, "unperturbed" | "perturbation">): bo
  */
 export function schemeFor(model: Model): Scheme {
   if (isSparse(model)) {
-    // a constant diagonal H0: the interaction picture keeps V's pattern (with an accuracy: Runge–Kutta steps)
-    const diagonal = model.unperturbed.every((t) =>
-      !isTimeDependent(t.coefficient) && t.sparse!.column.every((j, k) => rowOf(t.sparse!, k) === j)
-    );
-    return diagonal && model.accuracy !== undefined ? "sparse-interaction" : "sparse-schrodinger";
+    // a constant H0: the interaction picture of its diagonal keeps V's pattern (with an accuracy: Runge–Kutta
+    // steps; H0's off-diagonal part, if any, joins the rate)
+    const constant = model.unperturbed.every((t) => !isTimeDependent(t.coefficient));
+    return constant && model.accuracy !== undefined ? "sparse-interaction" : "sparse-schrodinger";
   }
   if (model.unperturbed.some((t) => isTimeDependent(t.coefficient))) {
     return "time-dependent-h0";

@@ -54,7 +54,7 @@ Deno.test("XX chain, d = 2^10, sparse: one excitation hops as a free particle (t
   assertEqual(built.space.storage, "sparse");
   assertEqual(built.model.dim, 1024);
   const { result } = runCase(engine, built);
-  assertEqual(result.scheme, "sparse-schrodinger");
+  assertEqual(result.scheme, "sparse-interaction");
   const last = result.times.length - 1;
   const zeroth = populationsAt(result.terms[0]!, 1024, last);
   const phi = (k: number, j: number) =>
@@ -81,7 +81,7 @@ Deno.test("XX chain, d = 2^8: sparse and dense operators give the same exact and
   const run = (operators: string) =>
     runCase(engine, buildCase(parseCase(chain(8, 2, { operators, eps: 0.05, order: 3 }), "chain.toml")));
   const sparse = run("sparse"), dense = run("dense");
-  assertEqual(sparse.result.scheme, "sparse-schrodinger");
+  assertEqual(sparse.result.scheme, "sparse-interaction");
   assertEqual(dense.result.scheme, "interaction-picture");
   const d = 256, last = sparse.result.times.length - 1;
   const a = populationsAt(sparse.result.exact, d, last), b = populationsAt(dense.result.exact, d, last);

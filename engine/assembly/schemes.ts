@@ -46,8 +46,9 @@ export const SCHEME_TD_H0: i32 = 2;
 /** Sparse operators (CSR): the Schrödinger picture, every product a sparse one; no d×d matrix anywhere. */
 export const SCHEME_SPARSE: i32 = 3;
 /**
- * Sparse operators with a constant diagonal H0 (energies written by TypeScript): the interaction picture keeps
- * V's pattern, and the accuracy-driven Runge–Kutta steps take sparse products only.
+ * Sparse operators with a constant H0 (its diagonal written by TypeScript as the energies): the interaction
+ * picture of that diagonal keeps V's pattern (H0's off-diagonal part, if any, joins the rate), and the
+ * accuracy-driven Runge–Kutta steps take sparse products only.
  */
 export const SCHEME_SPARSE_INTERACTION: i32 = 4;
 
@@ -112,6 +113,8 @@ let sparse = false;
 let csrTable: usize = 0;
 let sparseCoefs: usize = 0;
 let sparseExact = false;
+// Sparse interaction picture: H0 has entries off its diagonal (carried in the rate as H0 − E).
+let h0OffDiagonal = false;
 let save: usize = 0;
 let comp: usize = 0;
 let errv: usize = 0;
@@ -884,6 +887,10 @@ let startRateValid = false;
  * coefficients of node `node` of buf: kout_0 = 0, kout_n = −i V_I z_{n−1}, kout_exact = −iλ V_I z_exact.
  */
 function interactionRate(buf: usize, node: i32, tau: f64, z: usize, kout: usize): void {
+  if (sparse) {
+    interactionRateSparse(buf, node, tau, z, kout);
+    return;
+  }
   const coefs = buf + ((<usize>node * <usize>(k0 + kv) + <usize>k0) << 4);
   let op = vTerms, fr = 1.0, fi = 0.0;
   if (sparse) {
@@ -930,6 +937,55 @@ function interactionRate(buf: usize, node: i32, tau: f64, z: usize, kout: usize)
       const yr = pr * xr - pi * xi, yi = pr * xi + pi * xr;
       cset(dst + (<usize>e << 4), scale * yi, -scale * yr);
     }
+  }
+}
+
+/**
+ * The stacked derivative with sparse terms, in the interaction picture of H0's diagonal E (energies): with
+ * u = e^{−iEτ}∘z and O = H0 − E (H0's off-diagonal part, absent when H0 is diagonal),
+ * kout_n = −i e^{iEτ}∘(O u_n + Σ f_k V_k u_{n−1}) for the series (u_{−1} = 0) and
+ * kout_exact = −i e^{iEτ}∘(O u_exact + λ Σ f_k V_k u_exact). Every product is sparse.
+ */
+function interactionRateSparse(buf: usize, node: i32, tau: f64, z: usize, kout: usize): void {
+  const nodeCoefs = buf + ((<usize>node * <usize>(k0 + kv)) << 4);
+  const all = <usize>(r + 1) * <usize>dm;
+  phases(ph1, tau); // e^{iEτ}
+  for (let e: usize = 0; e < all; e++) {
+    const p = z + (e << 4), q = ph1 + ((e % <usize>d) << 4);
+    const xr = cre(p), xi = cim(p), pr = cre(q), pi = cim(q);
+    cset(rkU + (e << 4), pr * xr + pi * xi, pr * xi - pi * xr);
+  }
+  memory.fill(rkP, 0, <usize>(r + 1) * vec);
+  for (let k = 0; k < kv; k++) {
+    const c = nodeCoefs + (<usize>(k0 + k) << 4), t = k0 + k;
+    const cr = cre(c), ci = cim(c);
+    if (cr == 0 && ci == 0) continue;
+    const rows = sparseRowStart(t), cols = sparseColumn(t), vals = sparseValues(t);
+    const nnz = <f64>load<u64>(csrField(t, 3));
+    // orders 0…N−1 feed orders 1…N; the exact state its own, times λ
+    zcsrmv(rows, cols, vals, d, rkU, rkP + vec, (r - 1) * m, cr, ci);
+    zcsrmv(rows, cols, vals, d, rkU + <usize>r * vec, rkP + <usize>r * vec, m, lambda * cr, lambda * ci);
+    kernelFlops += 8.0 * nnz * <f64>(r * m);
+  }
+  if (h0OffDiagonal) {
+    for (let k = 0; k < k0; k++) {
+      const c = nodeCoefs + (<usize>k << 4);
+      const rows = sparseRowStart(k), cols = sparseColumn(k), vals = sparseValues(k);
+      zcsrmv(rows, cols, vals, d, rkU, rkP, (r + 1) * m, cre(c), cim(c));
+      kernelFlops += 8.0 * <f64>load<u64>(csrField(k, 3)) * <f64>((r + 1) * m);
+    }
+    // less the diagonal, which the phases carry
+    for (let e: usize = 0; e < all; e++) {
+      const p = rkU + (e << 4), o = rkP + (e << 4), w = load<f64>(energies + ((e % <usize>d) << 3));
+      cset(o, cre(o) - w * cre(p), cim(o) - w * cim(p));
+    }
+  }
+  for (let e: usize = 0; e < all; e++) {
+    const p = rkP + (e << 4), q = ph1 + ((e % <usize>d) << 4);
+    const xr = cre(p), xi = cim(p), pr = cre(q), pi = cim(q);
+    // −i·(e^{iEτ}∘P)
+    const yr = pr * xr - pi * xi, yi = pr * xi + pi * xr;
+    cset(kout + (e << 4), yi, -yr);
   }
 }
 
@@ -1043,6 +1099,7 @@ export function sparseValues(k: i32): usize { return <usize>load<u64>(csrField(k
 
 /** Per term: the ∞-norm (largest row sum of moduli) and the trace's real part, for sub-steps and the shift. */
 function prepareSparse(): void {
+  h0OffDiagonal = false;
   for (let k = 0; k < k0 + kv; k++) {
     const rows = sparseRowStart(k), cols = sparseColumn(k), vals = sparseValues(k);
     let norm = 0.0, trace = 0.0;
@@ -1053,6 +1110,7 @@ function prepareSparse(): void {
         const p = vals + (<usize>q << 4);
         sum += Math.sqrt(cre(p) * cre(p) + cim(p) * cim(p));
         if (load<i32>(cols + (<usize>q << 2)) == i) trace += cre(p);
+        else if (k < k0) h0OffDiagonal = true;
       }
       norm = max(norm, sum);
     }
