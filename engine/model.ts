@@ -129,7 +129,7 @@ export type Method = "commutator-free-4" | "runge-kutta-8";
 export const METHOD_NAMES: Record<Method, string> = {
   "commutator-free-4": "4th-order commutator-free exponential integrator",
   "runge-kutta-8":
-    "Lawson exponential Runge–Kutta (H0 exactly, the coupling by the Dormand–Prince 8(5,3) pair)",
+    "Lawson exponential Runge–Kutta (the interaction picture's phases exactly, the rest by the Dormand–Prince 8(5,3) pair)",
 };
 
 /** The stepping method of a model (undefined for the time-independent scheme, which takes no steps). */

@@ -17,6 +17,7 @@ import { parseCase } from "../cli/case/parse.ts";
 import { buildCase } from "../cli/case/build.ts";
 import { runCase } from "../cli/analysis/outcome.ts";
 import { populationsAt } from "../engine/mod.ts";
+import { PointEvaluator } from "../cli/sweep/point.ts";
 
 /** The chain's case text: L spins, the excitation on site `start` (1-based), the other spins down. */
 function chain(length: number, start: number, options: { operators?: string; eps?: number; order?: number }) {
@@ -96,4 +97,18 @@ Deno.test("XX chain, d = 2^8: sparse and dense operators give the same exact and
       t = dense.analysis.targets[0]!.rows[n]!.population;
     assertClose(s, t, { abs: 1e-8 }, `partial sum to order ${n}`);
   }
+});
+
+Deno.test("a sweep point of a sparse case equals the run of the same case (sweeps work unchanged on sparse cases)", async () => {
+  const engine = await testEngine();
+  const text = chain(9, 1, { eps: 0.02 });
+  const evaluator = new PointEvaluator(engine, { text, file: "chain.toml", options: {}, axes: ["eps"] });
+  assertEqual(evaluator.base.space.storage, "sparse");
+  const point = evaluator.evaluate(0, [0.04]);
+  const single = runCase(engine, buildCase(parseCase(text, "chain.toml"), { set: { eps: "0.04" } }));
+  assertClose(point.exact[0]!, single.analysis.targets[0]!.exact, { abs: 1e-14 }, "exact");
+  point.orders[0]!.forEach((p, n) =>
+    assertClose(p, single.analysis.targets[0]!.rows[n]!.population, { abs: 1e-14 }, `order ${n}`)
+  );
+  assert(point.minOrder[0] !== undefined, "judged");
 });
