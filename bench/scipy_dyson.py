@@ -5,6 +5,8 @@ adaptive 8th-order Runge-Kutta (DOP853). Reads a JSON job on stdin, prints JSON 
 
   {"kind": "driven", "d", "order", "t_end", "h0", "v" (row-major [re, im] pairs), "rtol", "atol"}
   {"kind": "constant", "d", "order", "t_end", "h0", "v"}   (time-independent: eigh + expm_multiply)
+  {"kind": "sweep", "d", "order", "t_end", "rtol", "atol", "points": [{"h0", "v", "center", "width"}, ...]}
+      (a parameter sweep: each point driven by the Gaussian exp(-((t-center)/width)^2/2), in a loop)
 
 and answers {"seconds": in-process time of the solve, "exact": [populations], "series": [[populations of
 the partial sum to order n] for n = 0..N]} at the final time. The drive is f(t) = exp(-((t-10)/3)^2/2) cos(1.1 t).
@@ -29,7 +31,7 @@ def drive(t):
     return np.exp(-0.5 * ((t - 10.0) / 3.0) ** 2) * np.cos(1.1 * t)
 
 
-def driven(job):
+def driven(job, f=drive):
     d, n, t_end = job["d"], job["order"], job["t_end"]
     h0, v = matrix(job["h0"], d), matrix(job["v"], d)
     start = time.perf_counter()
@@ -40,7 +42,7 @@ def driven(job):
     def rhs(t, y):
         c = y.reshape(n + 2, d)  # rows: c_0 ... c_N, then the exact state
         phase = np.exp(1j * energies * t)
-        wt = drive(t) * (phase[:, None] * w * phase.conj()[None, :])
+        wt = f(t) * (phase[:, None] * w * phase.conj()[None, :])
         out = np.empty_like(c)
         out[0] = 0.0
         out[1:n + 1] = -1j * (c[:n] @ wt.T)
@@ -84,9 +86,19 @@ def constant(job):
             "series": [list(np.abs(p) ** 2) for p in partial]}
 
 
+def sweep(job):
+    answers = []
+    for point in job["points"]:
+        c, w = point["center"], point["width"]
+        answers.append(driven({**job, "h0": point["h0"], "v": point["v"]},
+                              lambda t, c=c, w=w: np.exp(-0.5 * ((t - c) / w) ** 2)))
+    return {"seconds": sum(a["seconds"] for a in answers), "points": answers}
+
+
 def main():
     job = json.load(sys.stdin)
-    answer = driven(job) if job["kind"] == "driven" else constant(job)
+    kinds = {"driven": driven, "constant": constant, "sweep": sweep}
+    answer = kinds[job["kind"]](job)
     json.dump(answer, sys.stdout)
 
 
