@@ -37,6 +37,7 @@ const USAGE: Record<string, string> = {
                   --basis eigen       report in H0's eigenstates (default: bare, the case's labels)
                   --picture interaction  amplitudes as e^{iH0 t}ψ (default: schrodinger, ψ itself)
                   --subspace a,b      also the gate on these levels: fidelity, leakage, Magnus per order
+                  --operators sparse  how operators are stored: auto (sparse above d = 256), dense, sparse
                   --quiet             no progress on stderr
                   --out DIR           also write result.json, populations.csv, report.html`,
   sweep: `  sweep CASE      a parameter sweep over the case's [sweep] grid: points.csv, report.html
