@@ -137,7 +137,7 @@ async function evaluateAll(
 ): Promise<PointResult[]> {
   const jobs = [...Array(grid.size).keys()].map((index) => ({ index, values: pointValues(grid, index) }));
   const results: PointResult[] = [];
-  const bar = options.quiet ? undefined : progressBar("check", jobs.length);
+  const bar = options.quiet ? undefined : await progressBar("check", jobs.length);
   const collect = (r: PointResult) => {
     results.push(r);
     bar?.update(results.length / jobs.length);

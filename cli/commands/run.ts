@@ -46,7 +46,7 @@ export async function runCommand(args: string[]): Promise<number> {
   }
   if (values.out !== undefined) ensureOutputDir(String(values.out), "--out");
   const engine = await loadEngine();
-  const progress = values.quiet ? undefined : progressBar("propagating");
+  const progress = values.quiet ? undefined : await progressBar("propagating");
   let outcome: RunOutcome;
   try {
     outcome = runCase(engine, built, at, progress?.update);

@@ -206,8 +206,8 @@ function openFolder(
 }
 
 /** Reports progress: a bar on a terminal, otherwise a line every two seconds. */
-function progressReporter(total: number, quiet: boolean) {
-  const bar = quiet ? undefined : progressBar("sweep", total);
+async function progressReporter(total: number, quiet: boolean) {
+  const bar = quiet ? undefined : await progressBar("sweep", total);
   const started = performance.now();
   let finished = 0, lastLine = started;
   return {
@@ -282,7 +282,7 @@ async function evaluateInto(
 ): Promise<number> {
   const csv = Deno.openSync(csvPath, { append: true });
   const encoder = new TextEncoder();
-  const progress = progressReporter(jobs.length, options.quiet);
+  const progress = await progressReporter(jobs.length, options.quiet);
   let written = 0;
   const onResult = (r: PointResult) => {
     const row = csvRow(r);

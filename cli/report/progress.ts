@@ -4,9 +4,6 @@
  * @module
  */
 
-import cliProgress from "cli-progress";
-import process from "node:process";
-
 /** A progress display: update with the fraction done, then stop. */
 export interface Progress {
   update(fraction: number): void;
@@ -14,14 +11,17 @@ export interface Progress {
 }
 
 /**
- * A progress bar with rate and ETA when stderr is a terminal; undefined otherwise.
+ * A progress bar with rate and ETA when stderr is a terminal; undefined otherwise. The bar's library is loaded
+ * only then (off a terminal it would cost memory and start-up for nothing).
  *
  * @param what the word in front of the bar
  * @param total the number of items (default: percent)
  * @returns the bar, or undefined off a terminal
  */
-export function progressBar(what: string, total = 100): Progress | undefined {
+export async function progressBar(what: string, total = 100): Promise<Progress | undefined> {
   if (!Deno.stderr.isTerminal()) return undefined;
+  const { default: cliProgress } = await import("cli-progress");
+  const { default: process } = await import("node:process");
   const bar = new cliProgress.SingleBar({
     format: `${what} [{bar}] {percentage}% | {value}/{total} | {rate}/s | ETA {eta_formatted}`,
     stream: process.stderr,
