@@ -319,10 +319,32 @@ class OperatorWalker {
 
 /** Embeds a local operator of subsystem k into the whole space. */
 function embed(space: Space, k: number, local: Operator, kit: Kit): Operator {
+  if (local instanceof SparseComplexMatrix) return embedSparse(space, k, local);
   let out = kit.identity(1);
   space.subsystems.forEach((sub, j) => {
     out = out.kron(j === k ? local : kit.identity(sub.labels.length));
   });
+  return out;
+}
+
+/**
+ * I ⊗ L ⊗ I written entry by entry (row-major product labels: the left factors vary slowest): the same matrix as
+ * the chain of tensor products, without building the identities' intermediate products.
+ */
+function embedSparse(space: Space, k: number, local: SparseComplexMatrix): SparseComplexMatrix {
+  const n = local.rows;
+  const right = space.subsystems.slice(k + 1).reduce((p, s) => p * s.labels.length, 1);
+  const left = space.dim / (n * right);
+  const out = new SparseComplexMatrix(space.dim, space.dim);
+  for (let l = 0; l < left; l++) {
+    local.data.forEach((row, a) => {
+      for (const [b, z] of row) {
+        for (let r = 0; r < right; r++) {
+          out.data[(l * n + a) * right + r]!.set((l * n + b) * right + r, { re: z.re, im: z.im });
+        }
+      }
+    });
+  }
   return out;
 }
 
