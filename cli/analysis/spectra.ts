@@ -120,13 +120,15 @@ export function sparseSpectrum(h0: SparseComplexMatrix, labels: string[]): Spect
     };
   }
   let lo = Infinity, hi = -Infinity;
-  h0.data.forEach((row, i) => {
+  for (let i = 0; i < d; i++) {
     let radius = 0;
-    for (const [j, z] of row) if (j !== i) radius += Math.hypot(z.re, z.im);
+    h0.forEachInRow(i, (j, re, im) => {
+      if (j !== i) radius += Math.hypot(re, im);
+    });
     const centre = h0.get(i, i).re;
     lo = Math.min(lo, centre - radius);
     hi = Math.max(hi, centre + radius);
-  });
+  }
   return {
     values: Float64Array.from([lo, hi]),
     vectors: new Float64Array(0),

@@ -334,18 +334,11 @@ function embed(space: Space, k: number, local: Operator, kit: Kit): Operator {
 function embedSparse(space: Space, k: number, local: SparseComplexMatrix): SparseComplexMatrix {
   const n = local.rows;
   const right = space.subsystems.slice(k + 1).reduce((p, s) => p * s.labels.length, 1);
-  const left = space.dim / (n * right);
-  const out = new SparseComplexMatrix(space.dim, space.dim);
-  for (let l = 0; l < left; l++) {
-    local.data.forEach((row, a) => {
-      for (const [b, z] of row) {
-        for (let r = 0; r < right; r++) {
-          out.data[(l * n + a) * right + r]!.set((l * n + b) * right + r, { re: z.re, im: z.im });
-        }
-      }
-    });
-  }
-  return out;
+  return SparseComplexMatrix.fromRows(space.dim, space.dim, (row, push) => {
+    // row = (l·n + a)·right + r
+    const r = row % right, a = Math.floor(row / right) % n, l = Math.floor(row / (right * n));
+    local.forEachInRow(a, (b, re, im) => push((l * n + b) * right + r, re, im));
+  });
 }
 
 /** |a><b| on full product labels, or on the one subsystem that has both labels. */

@@ -1,7 +1,9 @@
 /**
  * Sparse complex matrices for assembling operators of large spaces: the same operations as ComplexMatrix
- * (sum, product, scale, adjoint, tensor product, power), with only the non-zero entries stored, row by row.
- * Sums of local terms on a space of d levels have O(d) non-zeros, so assembly costs O(d), never O(d²).
+ * (sum, product, scale, adjoint, tensor product, power), with only the non-zero entries stored in compressed
+ * rows (columns ascending within a row; about 20 bytes an entry). Sums of local terms on a space of d levels
+ * have O(d) non-zeros, so assembly costs O(d) memory and time, never O(d²). Matrices are not changed in place
+ * by the operations (each returns a new one).
  *
  * @module
  */
@@ -10,74 +12,201 @@ import { type Complex, ComplexMatrix, type Operator } from "./complex_matrix.ts"
 import type { SparseMatrix as Csr } from "../../engine/model.ts";
 
 /** The most non-zeros one assembled operator may hold (a few hundred MB of entries while it is being built). */
-export const MAX_NON_ZEROS = 4e6;
+export const MAX_NON_ZEROS = 2e7;
 
 /** Thrown when a product would hold more than {@link MAX_NON_ZEROS} entries. */
 export class TooDenseError extends Error {}
 
-type Row = Map<number, Complex>;
+/** Growable compressed rows, filled row by row. */
+class RowsBuilder {
+  rowStart: Int32Array;
+  column: Int32Array;
+  re: Float64Array;
+  im: Float64Array;
+  count = 0;
+  row = 0;
 
-/** A sparse complex matrix: one map per row from column to entry (zeros are not stored). */
+  constructor(readonly rows: number, capacity: number) {
+    this.rowStart = new Int32Array(rows + 1);
+    this.column = new Int32Array(Math.max(capacity, 4));
+    this.re = new Float64Array(Math.max(capacity, 4));
+    this.im = new Float64Array(Math.max(capacity, 4));
+  }
+
+  /** Appends an entry to the current row (columns must come ascending). */
+  push(j: number, re: number, im: number): void {
+    if (re === 0 && im === 0) return;
+    if (this.count === this.column.length) {
+      if (this.count >= MAX_NON_ZEROS) {
+        throw new TooDenseError(`an operator holds more than ${MAX_NON_ZEROS} non-zeros`);
+      }
+      const grow = (a: Int32Array | Float64Array) => {
+        const b = new (a.constructor as Int32ArrayConstructor | Float64ArrayConstructor)(2 * a.length);
+        b.set(a);
+        return b;
+      };
+      this.column = grow(this.column) as Int32Array;
+      this.re = grow(this.re) as Float64Array;
+      this.im = grow(this.im) as Float64Array;
+    }
+    this.column[this.count] = j;
+    this.re[this.count] = re;
+    this.im[this.count] = im;
+    this.count++;
+  }
+
+  /** Closes the current row. */
+  endRow(): void {
+    this.rowStart[++this.row] = this.count;
+  }
+
+  build(cols: number): SparseComplexMatrix {
+    while (this.row < this.rows) this.endRow();
+    const n = this.count;
+    return new SparseComplexMatrix(this.rows, cols, {
+      rowStart: this.rowStart,
+      column: this.column.slice(0, n),
+      re: this.re.slice(0, n),
+      im: this.im.slice(0, n),
+    });
+  }
+}
+
+/** The compressed rows of a sparse matrix. */
+interface Rows {
+  rowStart: Int32Array;
+  column: Int32Array;
+  re: Float64Array;
+  im: Float64Array;
+}
+
+/** A sparse complex matrix in compressed rows. */
 export class SparseComplexMatrix {
-  readonly data: Row[];
+  readonly store: Rows;
 
   /**
    * @param rows number of rows
    * @param cols number of columns
-   * @param data the rows (taken, not copied)
+   * @param store the compressed rows (taken, not copied; empty when omitted)
    */
-  constructor(readonly rows: number, readonly cols: number, data?: Row[]) {
-    this.data = data ?? Array.from({ length: rows }, () => new Map());
+  constructor(readonly rows: number, readonly cols: number, store?: Rows) {
+    this.store = store ?? {
+      rowStart: new Int32Array(rows + 1),
+      column: new Int32Array(0),
+      re: new Float64Array(0),
+      im: new Float64Array(0),
+    };
   }
 
   /** The n×n identity. */
   static identity(n: number): SparseComplexMatrix {
-    const m = new SparseComplexMatrix(n, n);
-    for (let i = 0; i < n; i++) m.data[i]!.set(i, { re: 1, im: 0 });
-    return m;
+    const b = new RowsBuilder(n, n);
+    for (let i = 0; i < n; i++) {
+      b.push(i, 1, 0);
+      b.endRow();
+    }
+    return b.build(n);
   }
 
   /** The non-zeros of a dense interleaved matrix. */
   static fromDense(rows: number, cols: number, dense: Float64Array): SparseComplexMatrix {
-    const m = new SparseComplexMatrix(rows, cols);
+    const b = new RowsBuilder(rows, rows);
     for (let i = 0; i < rows; i++) {
-      for (let j = 0; j < cols; j++) {
-        const re = dense[2 * (i * cols + j)]!, im = dense[2 * (i * cols + j) + 1]!;
-        if (re !== 0 || im !== 0) m.data[i]!.set(j, { re, im });
-      }
+      for (let j = 0; j < cols; j++) b.push(j, dense[2 * (i * cols + j)]!, dense[2 * (i * cols + j) + 1]!);
+      b.endRow();
     }
-    return m;
+    return b.build(cols);
+  }
+
+  /**
+   * A matrix given row by row: entries(i, push) pushes row i's entries (any column order; repeats are summed).
+   *
+   * @param rows number of rows
+   * @param cols number of columns
+   * @param entries called once per row
+   * @returns the matrix
+   */
+  static fromRows(
+    rows: number,
+    cols: number,
+    entries: (i: number, push: (j: number, re: number, im: number) => void) => void,
+  ): SparseComplexMatrix {
+    const b = new RowsBuilder(rows, rows);
+    const acc = new Map<number, Complex>();
+    for (let i = 0; i < rows; i++) {
+      acc.clear();
+      entries(i, (j, re, im) => {
+        const z = acc.get(j);
+        if (z) {
+          z.re += re;
+          z.im += im;
+        } else acc.set(j, { re, im });
+      });
+      for (const j of [...acc.keys()].sort((x, y) => x - y)) b.push(j, acc.get(j)!.re, acc.get(j)!.im);
+      b.endRow();
+    }
+    return b.build(cols);
   }
 
   /** Non-zeros stored. */
   get nonZeros(): number {
-    return this.data.reduce((s, row) => s + row.size, 0);
+    return this.store.column.length;
   }
 
-  /** Entry (i, j). */
+  /** Calls visit(j, re, im) for the stored entries of row i, columns ascending. */
+  forEachInRow(i: number, visit: (j: number, re: number, im: number) => void): void {
+    const { rowStart, column, re, im } = this.store;
+    for (let k = rowStart[i]!; k < rowStart[i + 1]!; k++) visit(column[k]!, re[k]!, im[k]!);
+  }
+
+  /** Entry (i, j) (a binary search in row i). */
   get(i: number, j: number): Complex {
-    return this.data[i]!.get(j) ?? { re: 0, im: 0 };
+    const { rowStart, column, re, im } = this.store;
+    let lo = rowStart[i]!, hi = rowStart[i + 1]! - 1;
+    while (lo <= hi) {
+      const mid = (lo + hi) >> 1, c = column[mid]!;
+      if (c === j) return { re: re[mid]!, im: im[mid]! };
+      if (c < j) lo = mid + 1;
+      else hi = mid - 1;
+    }
+    return { re: 0, im: 0 };
   }
 
-  /** Sets entry (i, j) (a zero removes it). */
+  /** Sets entry (i, j): rebuilds the rows (for the occasional single entry, e.g. a ket-bra). */
   set(i: number, j: number, re: number, im = 0): void {
-    if (re === 0 && im === 0) this.data[i]!.delete(j);
-    else this.data[i]!.set(j, { re, im });
+    const next = SparseComplexMatrix.fromRows(this.rows, this.cols, (row, push) => {
+      this.forEachInRow(row, (c, a, b) => {
+        if (row !== i || c !== j) push(c, a, b);
+      });
+      if (row === i) push(j, re, im);
+    });
+    (this as { store: Rows }).store = next.store;
   }
 
-  /** this + other (same shape). */
+  /** this + other (same shape): rows merged by column. */
   add(other: SparseComplexMatrix): SparseComplexMatrix {
-    const out = this.#copyRows();
-    other.data.forEach((row, i) => {
-      const o = out[i]!;
-      for (const [j, b] of row) {
-        const a = o.get(j);
-        const z = a ? { re: a.re + b.re, im: a.im + b.im } : { re: b.re, im: b.im };
-        if (z.re === 0 && z.im === 0) o.delete(j);
-        else o.set(j, z);
+    const a = this.store, b = other.store;
+    const out = new RowsBuilder(this.rows, this.nonZeros + other.nonZeros);
+    for (let i = 0; i < this.rows; i++) {
+      let p = a.rowStart[i]!, q = b.rowStart[i]!;
+      const pe = a.rowStart[i + 1]!, qe = b.rowStart[i + 1]!;
+      while (p < pe || q < qe) {
+        const cp = p < pe ? a.column[p]! : Infinity, cq = q < qe ? b.column[q]! : Infinity;
+        if (cp === cq) {
+          out.push(cp, a.re[p]! + b.re[q]!, a.im[p]! + b.im[q]!);
+          p++;
+          q++;
+        } else if (cp < cq) {
+          out.push(cp, a.re[p]!, a.im[p]!);
+          p++;
+        } else {
+          out.push(cq, b.re[q]!, b.im[q]!);
+          q++;
+        }
       }
-    });
-    return new SparseComplexMatrix(this.rows, this.cols, out);
+      out.endRow();
+    }
+    return out.build(this.cols);
   }
 
   /** this − other (same shape). */
@@ -88,71 +217,88 @@ export class SparseComplexMatrix {
   /** z·this. */
   scale(z: Complex): SparseComplexMatrix {
     if (z.re === 0 && z.im === 0) return new SparseComplexMatrix(this.rows, this.cols);
-    const out = this.data.map((row) => {
-      const o: Row = new Map();
-      for (const [j, a] of row) o.set(j, { re: z.re * a.re - z.im * a.im, im: z.re * a.im + z.im * a.re });
-      return o;
-    });
-    return new SparseComplexMatrix(this.rows, this.cols, out);
+    const { rowStart, column, re, im } = this.store;
+    const r2 = new Float64Array(re.length), i2 = new Float64Array(im.length);
+    for (let k = 0; k < re.length; k++) {
+      r2[k] = z.re * re[k]! - z.im * im[k]!;
+      i2[k] = z.re * im[k]! + z.im * re[k]!;
+    }
+    return new SparseComplexMatrix(this.rows, this.cols, { rowStart, column, re: r2, im: i2 });
   }
 
-  /** The matrix product this·other (row by row: each row of this combines rows of other). */
+  /** The matrix product this·other (a dense accumulator over one output row at a time). */
   mul(other: SparseComplexMatrix): SparseComplexMatrix {
-    let total = 0;
-    const out = this.data.map((row) => {
-      const o: Row = new Map();
-      for (const [k, a] of row) {
-        for (const [j, b] of other.data[k]!) {
-          const z = o.get(j);
-          const re = a.re * b.re - a.im * b.im, im = a.re * b.im + a.im * b.re;
-          if (z) {
-            z.re += re;
-            z.im += im;
-          } else o.set(j, { re, im });
+    const a = this.store, b = other.store;
+    const accRe = new Float64Array(other.cols), accIm = new Float64Array(other.cols);
+    const mark = new Int32Array(other.cols).fill(-1);
+    const touched: number[] = [];
+    const out = new RowsBuilder(this.rows, this.nonZeros + other.nonZeros);
+    for (let i = 0; i < this.rows; i++) {
+      touched.length = 0;
+      for (let p = a.rowStart[i]!; p < a.rowStart[i + 1]!; p++) {
+        const k = a.column[p]!, xr = a.re[p]!, xi = a.im[p]!;
+        for (let q = b.rowStart[k]!; q < b.rowStart[k + 1]!; q++) {
+          const j = b.column[q]!;
+          if (mark[j] !== i) {
+            mark[j] = i;
+            accRe[j] = 0;
+            accIm[j] = 0;
+            touched.push(j);
+          }
+          accRe[j]! += xr * b.re[q]! - xi * b.im[q]!;
+          accIm[j]! += xr * b.im[q]! + xi * b.re[q]!;
         }
       }
-      for (const [j, z] of o) if (z.re === 0 && z.im === 0) o.delete(j);
-      total += o.size;
-      if (total > MAX_NON_ZEROS) {
-        throw new TooDenseError(`a product holds more than ${MAX_NON_ZEROS} non-zeros`);
-      }
-      return o;
-    });
-    return new SparseComplexMatrix(this.rows, other.cols, out);
+      touched.sort((x, y) => x - y);
+      for (const j of touched) out.push(j, accRe[j]!, accIm[j]!);
+      out.endRow();
+    }
+    return out.build(other.cols);
   }
 
-  /** The conjugate transpose. */
+  /** The conjugate transpose (a counting sort by column). */
   dagger(): SparseComplexMatrix {
-    const out = new SparseComplexMatrix(this.cols, this.rows);
-    this.data.forEach((row, i) => {
-      for (const [j, a] of row) out.data[j]!.set(i, { re: a.re, im: -a.im });
-    });
-    return out;
+    const { rowStart, column, re, im } = this.store;
+    const n = column.length, start = new Int32Array(this.cols + 1);
+    for (let k = 0; k < n; k++) start[column[k]! + 1]!++;
+    for (let j = 0; j < this.cols; j++) start[j + 1]! += start[j]!;
+    const next = start.slice(0, this.cols);
+    const c2 = new Int32Array(n), r2 = new Float64Array(n), i2 = new Float64Array(n);
+    for (let i = 0; i < this.rows; i++) {
+      for (let k = rowStart[i]!; k < rowStart[i + 1]!; k++) {
+        const at = next[column[k]!]!++;
+        c2[at] = i;
+        r2[at] = re[k]!;
+        i2[at] = -im[k]!;
+      }
+    }
+    return new SparseComplexMatrix(this.cols, this.rows, { rowStart: start, column: c2, re: r2, im: i2 });
   }
 
   /** The Kronecker (tensor) product this ⊗ other. */
   kron(other: SparseComplexMatrix): SparseComplexMatrix {
-    const out = new SparseComplexMatrix(this.rows * other.rows, this.cols * other.cols);
     if (this.nonZeros * other.nonZeros > MAX_NON_ZEROS) {
       throw new TooDenseError(`a tensor product holds more than ${MAX_NON_ZEROS} non-zeros`);
     }
-    this.data.forEach((row, i) => {
-      for (const [j, a] of row) {
-        other.data.forEach((orow, k) => {
-          const o = out.data[i * other.rows + k]!;
-          for (const [l, b] of orow) {
-            o.set(j * other.cols + l, { re: a.re * b.re - a.im * b.im, im: a.re * b.im + a.im * b.re });
-          }
+    const out = new RowsBuilder(this.rows * other.rows, this.nonZeros * other.nonZeros);
+    for (let i = 0; i < this.rows; i++) {
+      for (let k = 0; k < other.rows; k++) {
+        this.forEachInRow(i, (j, ar, ai) => {
+          other.forEachInRow(
+            k,
+            (l, br, bi) => out.push(j * other.cols + l, ar * br - ai * bi, ar * bi + ai * br),
+          );
         });
+        out.endRow();
       }
-    });
-    return out;
+    }
+    return out.build(this.cols * other.cols);
   }
 
   /** this·this·…·this (n ≥ 0 factors; square matrices only), by repeated squaring. */
   power(n: number): SparseComplexMatrix {
     let out = SparseComplexMatrix.identity(this.rows);
-    let square = new SparseComplexMatrix(this.rows, this.cols, this.#copyRows());
+    let square: SparseComplexMatrix = this;
     for (let k = n; k > 0; k = Math.floor(k / 2)) {
       if (k % 2 === 1) out = out.mul(square);
       if (k > 1) square = square.mul(square);
@@ -163,29 +309,30 @@ export class SparseComplexMatrix {
   /** Largest |A_ij − conj(A_ji)| and where it occurs (square matrices). */
   hermiticityDefect(): { value: number; row: number; col: number } {
     let worst = { value: 0, row: 0, col: 0 };
-    this.data.forEach((row, i) => {
-      for (const [j, a] of row) {
+    for (let i = 0; i < this.rows; i++) {
+      this.forEachInRow(i, (j, re, im) => {
         const b = this.get(j, i);
-        const value = Math.hypot(a.re - b.re, a.im + b.im);
+        const value = Math.hypot(re - b.re, im + b.im);
         if (value > worst.value) worst = { value, row: Math.min(i, j), col: Math.max(i, j) };
-      }
-    });
+      });
+    }
     return worst;
   }
 
   /** Largest modulus of any entry. */
   maxAbs(): number {
     let m = 0;
-    for (const row of this.data) for (const a of row.values()) m = Math.max(m, Math.hypot(a.re, a.im));
+    const { re, im } = this.store;
+    for (let k = 0; k < re.length; k++) m = Math.max(m, Math.hypot(re[k]!, im[k]!));
     return m;
   }
 
   /** The largest row sum of moduli (bounds the 2-norm of a Hermitian matrix). */
   normInf(): number {
     let m = 0;
-    for (const row of this.data) {
+    for (let i = 0; i < this.rows; i++) {
       let s = 0;
-      for (const a of row.values()) s += Math.hypot(a.re, a.im);
+      this.forEachInRow(i, (_j, re, im) => (s += Math.hypot(re, im)));
       m = Math.max(m, s);
     }
     return m;
@@ -193,56 +340,44 @@ export class SparseComplexMatrix {
 
   /** Whether every entry is on the diagonal. */
   isDiagonal(): boolean {
-    return this.data.every((row, i) => row.size === 0 || (row.size === 1 && row.has(i)));
+    const { rowStart, column } = this.store;
+    for (let i = 0; i < this.rows; i++) {
+      for (let k = rowStart[i]!; k < rowStart[i + 1]!; k++) if (column[k] !== i) return false;
+    }
+    return true;
   }
 
-  /** The engine's compressed sparse rows (columns ascending within a row). */
+  /** The engine's compressed sparse rows (values interleaved). */
   toCsr(): Csr {
-    const rowStart = new Int32Array(this.rows + 1);
-    const nnz = this.nonZeros;
-    const column = new Int32Array(nnz), values = new Float64Array(2 * nnz);
-    let at = 0;
-    this.data.forEach((row, i) => {
-      for (const j of [...row.keys()].sort((a, b) => a - b)) {
-        const z = row.get(j)!;
-        column[at] = j;
-        values[2 * at] = z.re;
-        values[2 * at + 1] = z.im;
-        at++;
-      }
-      rowStart[i + 1] = at;
-    });
-    return { rowStart, column, values };
+    const { rowStart, column, re, im } = this.store;
+    const values = new Float64Array(2 * re.length);
+    for (let k = 0; k < re.length; k++) {
+      values[2 * k] = re[k]!;
+      values[2 * k + 1] = im[k]!;
+    }
+    return { rowStart: rowStart.slice(), column: column.slice(), values };
   }
 
   /** y = this·x for a complex vector (interleaved). */
   apply(x: Float64Array): Float64Array {
     const y = new Float64Array(2 * this.rows);
-    this.data.forEach((row, i) => {
-      let re = 0, im = 0;
-      for (const [j, a] of row) {
-        re += a.re * x[2 * j]! - a.im * x[2 * j + 1]!;
-        im += a.re * x[2 * j + 1]! + a.im * x[2 * j]!;
-      }
-      y[2 * i] = re;
-      y[2 * i + 1] = im;
-    });
+    for (let i = 0; i < this.rows; i++) {
+      let sr = 0, si = 0;
+      this.forEachInRow(i, (j, re, im) => {
+        sr += re * x[2 * j]! - im * x[2 * j + 1]!;
+        si += re * x[2 * j + 1]! + im * x[2 * j]!;
+      });
+      y[2 * i] = sr;
+      y[2 * i + 1] = si;
+    }
     return y;
-  }
-
-  #copyRows(): Row[] {
-    return this.data.map((row) => {
-      const o: Row = new Map();
-      for (const [j, a] of row) o.set(j, { re: a.re, im: a.im });
-      return o;
-    });
   }
 }
 
 /** Calls visit(i, j, z) for every non-zero entry of a dense or sparse operator. */
 export function forEachEntry(m: Operator, visit: (i: number, j: number, z: Complex) => void): void {
   if (m instanceof SparseComplexMatrix) {
-    m.data.forEach((row, i) => row.forEach((z, j) => visit(i, j, z)));
+    for (let i = 0; i < m.rows; i++) m.forEachInRow(i, (j, re, im) => visit(i, j, { re, im }));
     return;
   }
   for (let i = 0; i < m.rows; i++) {
