@@ -298,7 +298,7 @@ export class SparseComplexMatrix {
   /** this·this·…·this (n ≥ 0 factors; square matrices only), by repeated squaring. */
   power(n: number): SparseComplexMatrix {
     let out = SparseComplexMatrix.identity(this.rows);
-    let square: SparseComplexMatrix = this;
+    let square = new SparseComplexMatrix(this.rows, this.cols, this.store);
     for (let k = n; k > 0; k = Math.floor(k / 2)) {
       if (k % 2 === 1) out = out.mul(square);
       if (k > 1) square = square.mul(square);
