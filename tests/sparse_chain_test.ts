@@ -122,3 +122,19 @@ Deno.test("a sweep point of a sparse case equals the run of the same case (sweep
   );
   assert(point.minOrder[0] !== undefined, "judged");
 });
+
+Deno.test("a sparse case whose H is not Hermitian is refused, naming where (as for dense operators)", () => {
+  const text = chain(9, 1, {}).replace(
+    'coef = "cos(0.7*t)"',
+    'coef = "cos(0.7*t)"\n[[perturbation.terms]]\nop = "0.01*S+_q3"',
+  )
+    .replace('[perturbation]\nop = "eps', '[[perturbation.terms]]\nop = "eps')
+    .replace('coef = "cos(0.7*t)"\n[[perturbation.terms]]', 'coef = "cos(0.7*t)"\n[[perturbation.terms]]');
+  let message = "";
+  try {
+    buildCase(parseCase(text, "chain.toml"));
+  } catch (e) {
+    message = (e as Error).message;
+  }
+  assert(message.includes("not Hermitian"), `refused: ${message}`);
+});
