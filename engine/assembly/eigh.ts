@@ -56,13 +56,14 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
     }
   }
   if (n > 0) store<f64>(e + (<usize>(n - 1) << 3), 0.0);
-  // A is free now: it holds Qᵀ, the QL rotations' real orthogonal matrix, by rows.
-  const qt = a;
-  memory.fill(qt, 0, <usize>n * n << 3);
-  for (let i = 0; i < n; i++) store<f64>(qt + ((<usize>i * n + i) << 3), 1.0);
-  if (tql(w, e, n, qt) != 0) return 1;
-  sortAscending(w, qt, n);
-  multiplyByRotations(z, qt, n, v);
+  // A is free now: it holds Q, the QL rotations' real orthogonal matrix (row-major); v's room holds one sweep's
+  // rotations (cosines, then sines) until the product at the end needs it.
+  const q = a;
+  memory.fill(q, 0, <usize>n * n << 3);
+  for (let i = 0; i < n; i++) store<f64>(q + ((<usize>i * n + i) << 3), 1.0);
+  if (tql(w, e, n, q, v, v + (<usize>n << 3)) != 0) return 1;
+  sortAscending(w, q, n);
+  multiplyByRotations(z, q, n, v);
   return 0;
 }
 
@@ -177,22 +178,24 @@ function accumulateReflectors(a: usize, n: i32, z: usize, p: usize, taus: usize)
   }
 }
 
-/** Z ← Z·Q with Q real orthogonal, given by its rows of Qᵀ (row by row of Z, through the n-complex buffer row). */
-function multiplyByRotations(z: usize, qt: usize, n: i32, row: usize): void {
+/** Z ← Z·Q with Q real orthogonal (row-major), row by row of Z through the n-complex buffer row. */
+function multiplyByRotations(z: usize, q: usize, n: i32, row: usize): void {
   for (let r = 0; r < n; r++) {
     const zr = z + (<usize>r * n << 4);
-    for (let c = 0; c < n; c++) {
-      const q = qt + (<usize>c * n << 3);
-      let acc0 = f64x2.splat(0), acc1 = f64x2.splat(0);
-      let k = 0;
-      for (; k + 1 < n; k += 2) {
-        acc0 = madd(v128.load(zr + (<usize>k << 4)), v128.load64_splat(q + (<usize>k << 3)), acc0);
-        acc1 = madd(v128.load(zr + (<usize>k << 4), 16), v128.load64_splat(q + (<usize>k << 3), 8), acc1);
+    memory.fill(row, 0, <usize>n << 4);
+    for (let k = 0; k < n; k++) {
+      const zk = v128.load(zr + (<usize>k << 4));
+      const qk = q + (<usize>k * n << 3);
+      let c = 0;
+      for (; c + 1 < n; c += 2) {
+        const o = row + (<usize>c << 4);
+        v128.store(o, madd(zk, v128.load64_splat(qk + (<usize>c << 3)), v128.load(o)));
+        v128.store(o, madd(zk, v128.load64_splat(qk + (<usize>c << 3), 8), v128.load(o, 16)), 16);
       }
-      if (k < n) {
-        acc0 = madd(v128.load(zr + (<usize>k << 4)), v128.load64_splat(q + (<usize>k << 3)), acc0);
+      if (c < n) {
+        const o = row + (<usize>c << 4);
+        v128.store(o, madd(zk, v128.load64_splat(qk + (<usize>c << 3)), v128.load(o)));
       }
-      v128.store(row + (<usize>c << 4), f64x2.add(acc0, acc1));
     }
     memory.copy(zr, row, <usize>n << 4);
   }
@@ -201,28 +204,48 @@ function multiplyByRotations(z: usize, qt: usize, n: i32, row: usize): void {
 @inline function dget(x: usize, i: i32): f64 { return load<f64>(x + (<usize>i << 3)); }
 @inline function dset(x: usize, i: i32, val: f64): void { store<f64>(x + (<usize>i << 3), val); }
 
-// Rows i and i+1 of Qᵀ (columns of Q) turned by the rotation (c, s).
-@inline function rotateRows(qt: usize, n: i32, i: i32, c: f64, s: f64): void {
-  const q0 = qt + (<usize>i * n << 3), q1 = q0 + (<usize>n << 3);
-  const cc = f64x2.splat(c), ss = f64x2.splat(s);
+// One QL sweep's rotations (c_i, s_i) for i = m−1 down to lo, applied to columns i, i+1 of Q row by row: each
+// entry is read and written once per sweep (the rotated value carried along the row), four rows at a time.
+// see: Golub & Van Loan, Matrix Computations, §5.1 (applying a sequence of Givens rotations).
+function applySweep(q: usize, n: i32, lo: i32, m: i32, cs: usize, sn: usize): void {
+  if (lo >= m) return;
+  const stride = <usize>n << 3;
   let k = 0;
-  for (; k + 1 < n; k += 2) {
-    const o = <usize>k << 3;
-    const x = v128.load(q0 + o), y = v128.load(q1 + o);
-    v128.store(q1 + o, f64x2.add(f64x2.mul(ss, x), f64x2.mul(cc, y)));
-    v128.store(q0 + o, f64x2.sub(f64x2.mul(cc, x), f64x2.mul(ss, y)));
+  for (; k + 4 <= n; k += 4) {
+    const r0 = q + <usize>k * stride, r1 = r0 + stride, r2 = r1 + stride, r3 = r2 + stride;
+    let y0 = dget(r0, m), y1 = dget(r1, m), y2 = dget(r2, m), y3 = dget(r3, m);
+    for (let i = m - 1; i >= lo; i--) {
+      const c = dget(cs, i), s = dget(sn, i);
+      const x0 = dget(r0, i), x1 = dget(r1, i), x2 = dget(r2, i), x3 = dget(r3, i);
+      dset(r0, i + 1, s * x0 + c * y0);
+      dset(r1, i + 1, s * x1 + c * y1);
+      dset(r2, i + 1, s * x2 + c * y2);
+      dset(r3, i + 1, s * x3 + c * y3);
+      y0 = c * x0 - s * y0;
+      y1 = c * x1 - s * y1;
+      y2 = c * x2 - s * y2;
+      y3 = c * x3 - s * y3;
+    }
+    dset(r0, lo, y0);
+    dset(r1, lo, y1);
+    dset(r2, lo, y2);
+    dset(r3, lo, y3);
   }
-  if (k < n) {
-    const o = <usize>k << 3;
-    const x = load<f64>(q0 + o), y = load<f64>(q1 + o);
-    store<f64>(q1 + o, s * x + c * y);
-    store<f64>(q0 + o, c * x - s * y);
+  for (; k < n; k++) {
+    const r0 = q + <usize>k * stride;
+    let y = dget(r0, m);
+    for (let i = m - 1; i >= lo; i--) {
+      const c = dget(cs, i), s = dget(sn, i), x = dget(r0, i);
+      dset(r0, i + 1, s * x + c * y);
+      y = c * x - s * y;
+    }
+    dset(r0, lo, y);
   }
 }
 
 // Implicit QL with Wilkinson-type shifts on the real symmetric tridiagonal
-// (d, e), e[i] coupling i and i+1; rotations are applied to the rows of Qᵀ.
-function tql(d: usize, e: usize, n: i32, qt: usize): i32 {
+// (d, e), e[i] coupling i and i+1; each sweep's rotations are kept in (cs, sn) and applied to Q at its end.
+function tql(d: usize, e: usize, n: i32, q: usize, cs: usize, sn: usize): i32 {
   for (let l = 0; l < n; l++) {
     let iter = 0;
     let m = l;
@@ -254,8 +277,10 @@ function tql(d: usize, e: usize, n: i32, qt: usize): i32 {
           p = s * r;
           dset(d, i + 1, g + p);
           g = c * r - b;
-          rotateRows(qt, n, i, c, s);
+          dset(cs, i, c);
+          dset(sn, i, s);
         }
+        applySweep(q, n, i + 1, m, cs, sn); // the rotations i+1 … m−1 this sweep made
         if (r == 0.0 && i >= l) continue;
         dset(d, l, dget(d, l) - p);
         dset(e, l, g);
@@ -266,8 +291,8 @@ function tql(d: usize, e: usize, n: i32, qt: usize): i32 {
   return 0;
 }
 
-// Eigenvalues ascending, the rows of Qᵀ (columns of Q) with them.
-function sortAscending(w: usize, qt: usize, n: i32): void {
+// Eigenvalues ascending, the columns of Q with them.
+function sortAscending(w: usize, q: usize, n: i32): void {
   for (let i = 0; i < n - 1; i++) {
     let k = i;
     for (let j = i + 1; j < n; j++) if (dget(w, j) < dget(w, k)) k = j;
@@ -275,12 +300,11 @@ function sortAscending(w: usize, qt: usize, n: i32): void {
       const t = dget(w, i);
       dset(w, i, dget(w, k));
       dset(w, k, t);
-      const a = qt + (<usize>i * n << 3), b = qt + (<usize>k * n << 3);
       for (let r = 0; r < n; r++) {
-        const o = <usize>r << 3;
-        const x = load<f64>(a + o);
-        store<f64>(a + o, load<f64>(b + o));
-        store<f64>(b + o, x);
+        const a = q + ((<usize>r * n + i) << 3), b = q + ((<usize>r * n + k) << 3);
+        const x = load<f64>(a);
+        store<f64>(a, load<f64>(b));
+        store<f64>(b, x);
       }
     }
   }
