@@ -12,7 +12,7 @@ import { type Complex, ComplexMatrix, type Operator } from "./complex_matrix.ts"
 import type { SparseMatrix as Csr } from "../../engine/model.ts";
 
 /** The most non-zeros one assembled operator may hold (a few hundred MB of entries while it is being built). */
-export const MAX_NON_ZEROS = 2e7;
+export const MAX_NON_ZEROS = 1e7;
 
 /** Thrown when a product would hold more than {@link MAX_NON_ZEROS} entries. */
 export class TooDenseError extends Error {}
