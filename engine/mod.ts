@@ -41,6 +41,19 @@ import {
 
 export * from "./model.ts";
 
+/** A sparse micro-kernel: Y[v] += α·A·X[v] for r vectors, A in compressed rows (addresses in wasm memory). */
+type SparseKernel = (
+  rowStart: number,
+  column: number,
+  values: number,
+  d: number,
+  x: number,
+  y: number,
+  r: number,
+  ar: number,
+  ai: number,
+) => void;
+
 /** A micro-kernel: Y[v] += α·A·X[v] for r vectors (addresses in wasm memory). */
 export type Kernel = (a: number, d: number, x: number, y: number, r: number, ar: number, ai: number) => void;
 
@@ -77,28 +90,8 @@ interface Exports {
   sparseRowStart(k: number): number;
   sparseColumn(k: number): number;
   sparseValues(k: number): number;
-  zcsrmvRef(
-    rowStart: number,
-    column: number,
-    values: number,
-    d: number,
-    x: number,
-    y: number,
-    r: number,
-    ar: number,
-    ai: number,
-  ): void;
-  zcsrmvSimd(
-    rowStart: number,
-    column: number,
-    values: number,
-    d: number,
-    x: number,
-    y: number,
-    r: number,
-    ar: number,
-    ai: number,
-  ): void;
+  zcsrmvRef: SparseKernel;
+  zcsrmvSimd: SparseKernel;
   prepare(scheme: number, strength: number, haveEigen: number): number;
   bufEnergies(): number;
   bufBasis(): number;

@@ -32,6 +32,19 @@ export interface Operator {
   maxAbs(): number;
 }
 
+/**
+ * m·m·…·m (n ≥ 0 factors of a square matrix) by repeated squaring, starting from `identity` (of m's kind):
+ * about 2·log₂ n products.
+ */
+export function powerBySquaring<M extends { mul(other: M): M }>(m: M, identity: M, n: number): M {
+  let out = identity, square = m;
+  for (let k = n; k > 0; k = Math.floor(k / 2)) {
+    if (k % 2 === 1) out = out.mul(square);
+    if (k > 1) square = square.mul(square);
+  }
+  return out;
+}
+
 /** A dense complex matrix, row-major, interleaved (re, im). */
 export class ComplexMatrix {
   readonly data: Float64Array;
@@ -154,15 +167,9 @@ export class ComplexMatrix {
     return out;
   }
 
-  /** this·this·…·this (n ≥ 0 factors; square matrices only), by repeated squaring: about 2·log₂ n products. */
+  /** this·this·…·this (n ≥ 0 factors; square matrices only), by repeated squaring. */
   power(n: number): ComplexMatrix {
-    let out = ComplexMatrix.identity(this.rows);
-    let square = this.clone();
-    for (let k = n; k > 0; k = Math.floor(k / 2)) {
-      if (k % 2 === 1) out = out.mul(square);
-      if (k > 1) square = square.mul(square);
-    }
-    return out;
+    return powerBySquaring<ComplexMatrix>(this, ComplexMatrix.identity(this.rows), n);
   }
 
   /** Largest |A_ij − conj(A_ji)| and where it occurs (square matrices). */

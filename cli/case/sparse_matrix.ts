@@ -8,7 +8,7 @@
  * @module
  */
 
-import { type Complex, ComplexMatrix, type Operator } from "./complex_matrix.ts";
+import { type Complex, ComplexMatrix, type Operator, powerBySquaring } from "./complex_matrix.ts";
 import type { SparseMatrix as Csr } from "../../engine/model.ts";
 
 /** The most non-zeros one assembled operator may hold (a few hundred MB of entries while it is being built). */
@@ -297,13 +297,7 @@ export class SparseComplexMatrix {
 
   /** this·this·…·this (n ≥ 0 factors; square matrices only), by repeated squaring. */
   power(n: number): SparseComplexMatrix {
-    let out = SparseComplexMatrix.identity(this.rows);
-    let square = new SparseComplexMatrix(this.rows, this.cols, this.store);
-    for (let k = n; k > 0; k = Math.floor(k / 2)) {
-      if (k % 2 === 1) out = out.mul(square);
-      if (k > 1) square = square.mul(square);
-    }
-    return out;
+    return powerBySquaring<SparseComplexMatrix>(this, SparseComplexMatrix.identity(this.rows), n);
   }
 
   /** Largest |A_ij − conj(A_ji)| and where it occurs (square matrices). */
