@@ -89,6 +89,19 @@ export type Scheme =
   | "sparse-schrodinger"
   | "sparse-interaction";
 
+/** The non-zeros a model's sparse terms hold in all (0 for dense terms). */
+export function nonZerosOf(
+  model: {
+    unperturbed: ({ sparse?: SparseMatrix } | undefined)[];
+    perturbation: ({ sparse?: SparseMatrix } | undefined)[];
+  },
+): number {
+  return [...model.unperturbed, ...model.perturbation].reduce(
+    (s, t) => s + (t?.sparse?.column.length ?? 0),
+    0,
+  );
+}
+
 /** Whether a model's operators are sparse (then every term is). */
 export function isSparse(model: Pick<Model, "unperturbed" | "perturbation">): boolean {
   return model.unperturbed.some((t) => t.sparse !== undefined) ||
@@ -223,7 +236,7 @@ export function estimateMemory(
   // sparse terms: no d×d matrix at all, their CSR arrays instead (16 bytes a value, 4 a column, 4 a row)
   const all = [...model.unperturbed, ...model.perturbation];
   const sparse = model.sparse === true || all.some((t) => t?.sparse !== undefined);
-  const nonZeros = all.reduce((s, t) => s + (t?.sparse?.column.length ?? 0), 0);
+  const nonZeros = nonZerosOf(model);
   const matrices = sparse ? 0 : terms + 10;
   const vectors = 4 * (r + 2) + (r + 1) + 2 * Math.max(r, 2) + 17 * (r + 1) + Math.max(16, r + 3) + 10;
   const parts: [string, number, "wasm" | "record"][] = [

@@ -24,7 +24,7 @@
 import { ComplexMatrix } from "../case/complex_matrix.ts";
 import { WHOLE_PROPAGATOR_MAX_DIM } from "../case/start.ts";
 import type { BuiltCase } from "../case/build.ts";
-import { columnOf, eigh, type Engine, type Model, type Result } from "../../engine/mod.ts";
+import { eigh, type Engine, type Model, type Result } from "../../engine/mod.ts";
 
 /** The largest space whose whole propagator a gate run follows (for the Magnus terms). */
 export const MAGNUS_MAX_DIM = WHOLE_PROPAGATOR_MAX_DIM;
@@ -84,39 +84,28 @@ export function withColumns(model: Model, columns: Columns): Model {
   return { ...model, initial, columns: count };
 }
 
-/** The d×c matrix whose columns are the final states of the given run columns: exact, or a partial sum. */
-function block(result: Result, d: number, runColumns: number[], upTo?: number): ComplexMatrix {
+/**
+ * The d×c matrix whose columns are the given run columns of `states` (the exact states, or one Dyson term's) at
+ * the final time, read in place from the run's column-interleaved layout.
+ */
+function finalBlock(result: Result, d: number, runColumns: number[], states: Float64Array): ComplexMatrix {
   const out = new ComplexMatrix(d, runColumns.length);
-  const last = result.times.length - 1;
+  const last = result.times.length - 1, m = result.columns;
   runColumns.forEach((c, j) => {
-    const column = columnOf(result, d, c);
-    const at = 2 * d * last;
-    for (let i = 0; i < d; i++) {
-      let re = 0, im = 0;
-      if (upTo === undefined) {
-        re = column.exact[at + 2 * i]!;
-        im = column.exact[at + 2 * i + 1]!;
-      } else {
-        for (let n = 0; n <= upTo; n++) {
-          re += column.terms[n]![at + 2 * i]!;
-          im += column.terms[n]![at + 2 * i + 1]!;
-        }
-      }
-      out.set(i, j, re, im);
-    }
+    const at = 2 * d * (last * m + c);
+    for (let i = 0; i < d; i++) out.set(i, j, states[at + 2 * i]!, states[at + 2 * i + 1]!);
   });
   return out;
 }
 
-/** One Dyson term's final columns (d×c). */
-function termBlock(result: Result, d: number, runColumns: number[], n: number): ComplexMatrix {
-  const out = new ComplexMatrix(d, runColumns.length);
-  const last = result.times.length - 1;
-  runColumns.forEach((c, j) => {
-    const term = columnOf(result, d, c).terms[n]!;
-    for (let i = 0; i < d; i++) out.set(i, j, term[2 * (d * last + i)]!, term[2 * (d * last + i) + 1]!);
+/** The partial sums S_0 … S_N of the run columns at the final time. */
+function partialBlocks(result: Result, d: number, runColumns: number[]): ComplexMatrix[] {
+  const sums: ComplexMatrix[] = [];
+  result.terms.forEach((term, n) => {
+    const block = finalBlock(result, d, runColumns, term);
+    sums.push(n === 0 ? block : sums[n - 1]!.add(block));
   });
-  return out;
+  return sums;
 }
 
 const trace = (m: ComplexMatrix) => {
@@ -242,10 +231,9 @@ export function gateOf(
 ): Gate {
   const d = built.model.dim, sub = built.subspace!;
   const runColumns = sub.indices.map((level) => 1 + columns.levels.indexOf(level));
-  const exact = block(result, d, runColumns);
+  const exact = finalBlock(result, d, runColumns, result.exact);
   const inside = new Set(sub.indices), m = sub.indices.length;
-  const orders = result.terms.map((_, n) => n);
-  const partial = orders.map((n) => block(result, d, runColumns, n));
+  const partial = partialBlocks(result, d, runColumns);
   const gate: Gate = {
     labels: sub.labels,
     time: result.times[result.times.length - 1]!,
@@ -266,8 +254,8 @@ export function gateOf(
   eigen.values.forEach((e, a) => phases.set(a, a, Math.cos(e * tau), Math.sin(e * tau)));
   const rotate = z.mul(phases).mul(z.dagger());
   const all = Array.from({ length: d }, (_, k) => 1 + k);
-  const terms = orders.map((n) => rotate.mul(termBlock(result, d, all, n)));
-  const exactI = rotate.mul(block(result, d, all));
+  const terms = result.terms.map((term) => rotate.mul(finalBlock(result, d, all, term)));
+  const exactI = rotate.mul(finalBlock(result, d, all, result.exact));
   const omega = magnusTerms(terms.slice(1));
   const pick = (a: ComplexMatrix) => {
     const out = new ComplexMatrix(a.rows, m);

@@ -87,11 +87,9 @@ function sparseFacts(built: BuiltCase, h0Terms: AssembledTerm[], vTerms: Assembl
   const { model, space } = built;
   const h0TimeDependent = h0Terms.some((t) => t.coef?.usesTime);
   const at = (t: number) => assembleAt(h0Terms, model.dim, t) as SparseComplexMatrix;
-  const spectra = (h0TimeDependent ? [model.tStart, model.tEnd] : [model.tStart]).map((t) => ({
-    at: t,
-    ...sparseSpectrum(at(t), space.labels),
-  }));
   const first = at(model.tStart);
+  const spectra = [{ at: model.tStart, ...sparseSpectrum(first, space.labels) }];
+  if (h0TimeDependent) spectra.push({ at: model.tEnd, ...sparseSpectrum(at(model.tEnd), space.labels) });
   const diagonal = Float64Array.from({ length: model.dim }, (_, k) => first.get(k, k).re);
   let { bohr, omegaMax } = sparseBohrFrequencies(spectra[0]!, diagonal, vTerms, space.labels);
   // a constant diagonal H0: the coupled pairs' Bohr frequencies are the fastest phases; otherwise the widths

@@ -5,7 +5,7 @@
  */
 
 import type { RunOutcome } from "./outcome.ts";
-import { populationsAt } from "../../engine/mod.ts";
+import { nonZerosOf, populationsAt } from "../../engine/mod.ts";
 import { VERSION } from "../base/version.ts";
 import type { Gate } from "./gate.ts";
 
@@ -66,12 +66,7 @@ export function runJson(outcome: RunOutcome): unknown {
       scheme: result.scheme,
       stepping: result.method ?? null,
       operators: built.space.storage ?? "dense",
-      non_zeros: built.space.storage === "sparse"
-        ? [...built.model.unperturbed, ...built.model.perturbation].reduce(
-          (s, t) => s + (t.sparse?.column.length ?? 0),
-          0,
-        )
-        : null,
+      non_zeros: built.space.storage === "sparse" ? nonZerosOf(built.model) : null,
       steps: result.steps,
       step_size: result.stepSize,
       accuracy: built.model.accuracy ?? null,

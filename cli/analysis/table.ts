@@ -8,7 +8,7 @@
 import type { RunOutcome } from "./outcome.ts";
 import { normIntegralAt } from "./norms.ts";
 import { VERSION } from "../base/version.ts";
-import { METHOD_NAMES } from "../../engine/mod.ts";
+import { METHOD_NAMES, nonZerosOf } from "../../engine/mod.ts";
 
 function sci(x: number, digits = 4): string {
   if (Number.isNaN(x)) return "—";
@@ -160,10 +160,7 @@ function header({ built, info, result, analysis }: RunOutcome): string[] {
     ...(built.space.storage === "sparse"
       ? [
         `operators sparse: ${
-          [...built.model.unperturbed, ...built.model.perturbation].reduce(
-            (s, t) => s + (t.sparse?.column.length ?? 0),
-            0,
-          )
+          nonZerosOf(built.model)
         } non-zeros (no ${built.model.dim}×${built.model.dim} matrix is formed)`,
       ]
       : []),

@@ -167,7 +167,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   // Refuse before allocating: the term counts are known from the case; a gate's columns ride along (at most
   // all d of them, for the Magnus terms of a small space)
   const gateLevels = options.subspace ?? spec.start.subspace;
-  checkMemory({
+  const memoryShape = () => ({
     dim: space.dim,
     columns: gateLevels ? gateRunColumns(space.dim, gateLevels.length) : 1,
     sparse: space.storage === "sparse",
@@ -176,6 +176,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
     unperturbed: termCount("unperturbed", spec.unperturbed),
     perturbation: termCount("perturbation", spec.perturbation),
   });
+  checkMemory(memoryShape());
 
   const sections = ["unperturbed", "perturbation"] as const;
   let terms = sections.flatMap((name) => assembleSection(name, spec[name], space, params, units, relocate));
@@ -184,14 +185,7 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
   ) {
     // chosen sparse for the size, but the operators fill their matrices: dense is the better form
     space.storage = "dense";
-    checkMemory({
-      dim: space.dim,
-      columns: gateLevels ? gateRunColumns(space.dim, gateLevels.length) : 1,
-      order: settings.order,
-      samples: settings.samples,
-      unperturbed: termCount("unperturbed", spec.unperturbed),
-      perturbation: termCount("perturbation", spec.perturbation),
-    });
+    checkMemory(memoryShape());
     terms = terms.map((t) => ({ ...t, matrix: toDense(t.matrix) }));
   }
   if (space.storage === "sparse") refuseDenseOnlyViews(options, spec);
@@ -234,7 +228,8 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
     order: settings.order,
     ...(settings.accuracy !== undefined ? { accuracy: settings.accuracy } : {}),
   };
-  if (space.storage === "sparse") checkMemory({ ...settingsShape(settings, space, gateLevels), model });
+  // sparse terms: the engine's memory with their actual non-zeros, before it allocates anything
+  if (space.storage === "sparse") checkMemory({ ...memoryShape(), model });
   return {
     source,
     title: spec.title ?? source.file,
@@ -257,22 +252,6 @@ function build(source: CaseSource, options: BuildOptions): BuiltCase {
 /** More than a quarter of its entries are non-zero: stored sparse it would cost more than dense. */
 function tooDenseForSparse(term: AssembledTerm, dim: number): boolean {
   return term.matrix instanceof SparseComplexMatrix && term.matrix.nonZeros > 0.25 * dim * dim;
-}
-
-/** The memory check's shape from the settings (for the check with the assembled sparse terms). */
-function settingsShape(
-  settings: { order: number; samples: number },
-  space: Space,
-  gateLevels: string[] | undefined,
-) {
-  return {
-    dim: space.dim,
-    columns: gateLevels ? gateRunColumns(space.dim, gateLevels.length) : 1,
-    order: settings.order,
-    samples: settings.samples,
-    unperturbed: 0,
-    perturbation: 0,
-  };
 }
 
 /** What needs H0's eigenvectors (dense, d×d) is refused for sparse operators, saying why. */

@@ -18,7 +18,7 @@ import {
 } from "../analysis/inspection.ts";
 import { DEFAULT_ACCURACY } from "../case/grid.ts";
 import { driveSpectra, type DriveSpectrum, driveWarning } from "../analysis/drive_spectrum.ts";
-import { type Engine, loadEngine, METHOD_NAMES, methodFor, solve } from "../../engine/mod.ts";
+import { type Engine, loadEngine, METHOD_NAMES, methodFor, nonZerosOf, solve } from "../../engine/mod.ts";
 import { buildOptions, oneCase, parseOrFail } from "./_args.ts";
 
 /**
@@ -177,10 +177,7 @@ function describeDrives(built: BuiltCase, drives: DriveSpectrum[]): string[] {
 function describeOperators(built: BuiltCase): string {
   const sparse = built.space.storage === "sparse";
   if (!sparse) return `  operators  dense (d×d matrices)`;
-  const nonZeros = [...built.model.unperturbed, ...built.model.perturbation].reduce(
-    (s, t) => s + (t.sparse?.column.length ?? 0),
-    0,
-  );
+  const nonZeros = nonZerosOf(built.model);
   const terms = built.model.unperturbed.length + built.model.perturbation.length;
   return `  operators  sparse (compressed rows): ${nonZeros} non-zeros in ${terms} terms, ` +
     `${(nonZeros / terms / built.model.dim).toPrecision(3)} a row on average; no d×d matrix is formed ` +

@@ -893,9 +893,7 @@ function interactionRate(buf: usize, node: i32, tau: f64, z: usize, kout: usize)
   }
   const coefs = buf + ((<usize>node * <usize>(k0 + kv) + <usize>k0) << 4);
   let op = vTerms, fr = 1.0, fi = 0.0;
-  if (sparse) {
-    op = 0;
-  } else if (kv == 1) {
+  if (kv == 1) {
     fr = cre(coefs);
     fi = cim(coefs);
   } else {
@@ -913,18 +911,8 @@ function interactionRate(buf: usize, node: i32, tau: f64, z: usize, kout: usize)
     }
   }
   memory.fill(rkP, 0, <usize>r * vec);
-  if (sparse) {
-    // Σ_k f_k W_k, term by term (W_k = V_k: H0 is diagonal, its eigenbasis is the case's own)
-    for (let k = 0; k < kv; k++) {
-      const c = coefs + (<usize>k << 4), t = k0 + k;
-      if (cre(c) == 0 && cim(c) == 0) continue;
-      zcsrmv(sparseRowStart(t), sparseColumn(t), sparseValues(t), d, rkU, rkP, r * m, cre(c), cim(c));
-      kernelFlops += 8.0 * <f64>load<u64>(csrField(t, 3)) * <f64>(r * m);
-    }
-  } else {
-    zgemv(op, d, rkU, rkP, r * m, fr, fi);
-    kernelFlops += 8.0 * <f64>d * <f64>d * <f64>(r * m);
-  }
+  zgemv(op, d, rkU, rkP, r * m, fr, fi);
+  kernelFlops += 8.0 * <f64>d * <f64>d * <f64>(r * m);
   memory.fill(kout, 0, vec);
   for (let v = 0; v < r; v++) {
     const src = rkP + <usize>v * vec;
