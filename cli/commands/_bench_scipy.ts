@@ -18,6 +18,8 @@ import { buildCase } from "../case/build.ts";
 const SCRIPT = new URL("../../bench/scipy_dyson.py", import.meta.url).pathname;
 const TARGET = 1e-8;
 const REPEATS = 5;
+/** The settings tried, loosest first: ordo's accuracies, and ten times them for SciPy's rtol. */
+const LADDER = [1e-4, 3e-5, 1e-5, 3e-6, 1e-6, 3e-7, 1e-7, 3e-8, 1e-8, 3e-9, 1e-9, 3e-10, 1e-10];
 
 interface Answer {
   seconds: number;
@@ -76,6 +78,19 @@ function distance(a: Answer, b: Answer): number {
 const minimum = (xs: number[]) => Math.min(...xs);
 const median = (xs: number[]) => xs.slice().sort((a, b) => a - b)[Math.floor(xs.length / 2)]!;
 
+/** A table row: the measurement, both tools' min (median) times, their ratio, the target. */
+function comparisonRow(label: string, mine: number[], theirs: number[], target: string): string[] {
+  return [
+    label,
+    `${minimum(mine).toPrecision(3)} ms (median ${median(mine).toPrecision(3)})`,
+    `${minimum(theirs).toPrecision(3)} ms (median ${median(theirs).toPrecision(3)})`,
+    `${(minimum(mine) / minimum(theirs)).toPrecision(2)}× (median ${
+      (median(mine) / median(theirs)).toPrecision(2)
+    }×)`,
+    target,
+  ];
+}
+
 function jobOf(model: BaselineModel, kind: "driven" | "constant"): Record<string, unknown> {
   return { kind, d: model.dim, order: model.order, t_end: model.tEnd, h0: model.h0, v: model.v };
 }
@@ -93,9 +108,8 @@ async function drivenRow(
   log(`vs SciPy, dense d=${d}: tight reference (DOP853, rtol 1e-12)`);
   const reference = await python({ ...job, rtol: 1e-12, atol: 1e-14 });
   const ordoModel = (accuracy: number) => ({ ...drivenModel(model, 1), samples: 2, accuracy });
-  const ladder = [1e-4, 3e-5, 1e-5, 3e-6, 1e-6, 3e-7, 1e-7, 3e-8, 1e-8, 3e-9, 1e-9, 3e-10, 1e-10];
   let accuracy: number | undefined, ordoError = NaN;
-  for (const a of ladder) {
+  for (const a of LADDER) {
     ordoError = distance(finalOf(solve(engine, ordoModel(a)), d), reference);
     if (ordoError <= TARGET) {
       accuracy = a;
@@ -103,7 +117,7 @@ async function drivenRow(
     }
   }
   let rtol: number | undefined, scipyError = NaN;
-  for (const r of ladder.map((x) => x * 10)) {
+  for (const r of LADDER.map((x) => x * 10)) {
     scipyError = distance(await python({ ...job, rtol: r, atol: r * 1e-2 }), reference);
     if (scipyError <= TARGET) {
       rtol = r;
@@ -126,15 +140,12 @@ async function drivenRow(
     mine.push(performance.now() - started);
     theirs.push(1000 * (await python({ ...job, rtol, atol: rtol * 1e-2 })).seconds);
   }
-  return [
+  return comparisonRow(
     `vs SciPy DOP853, dense d=${d}, N=6, true error ≤ 1e-8 (ordo accuracy ${accuracy}, SciPy rtol ${rtol})`,
-    `${minimum(mine).toPrecision(3)} ms (median ${median(mine).toPrecision(3)})`,
-    `${minimum(theirs).toPrecision(3)} ms (median ${median(theirs).toPrecision(3)})`,
-    `${(minimum(mine) / minimum(theirs)).toPrecision(2)}× (median ${
-      (median(mine) / median(theirs)).toPrecision(2)
-    }×)`,
+    mine,
+    theirs,
     target,
-  ];
+  );
 }
 
 /** A case file of the dense driven model, for `ordo run` as a user runs it. */
@@ -207,15 +218,12 @@ async function wholeProcessRow(
     );
     theirs.push(await timed("python3", [SCRIPT], job));
   }
-  return [
+  return comparisonRow(
     `whole process, dense d=${d}, N=6 (ordo run, accuracy ${setting.accuracy}; python3 script, rtol ${setting.rtol})`,
-    `${minimum(mine).toPrecision(3)} ms (median ${median(mine).toPrecision(3)})`,
-    `${minimum(theirs).toPrecision(3)} ms (median ${median(theirs).toPrecision(3)})`,
-    `${(minimum(mine) / minimum(theirs)).toPrecision(2)}× (median ${
-      (median(mine) / median(theirs)).toPrecision(2)
-    }×)`,
+    mine,
+    theirs,
     "≤ 0.6×",
-  ];
+  );
 }
 
 /** The demo case as a sweep: its pulse area and anharmonicity over a 4 × 3 grid (12 points). */
@@ -261,10 +269,9 @@ async function demoSweepRow(engine: Engine, log: (s: string) => void): Promise<s
   const ordoRun = (accuracy: number) =>
     DEMO_GRID.map((set) => finalOf(solve(engine, build(set, accuracy).model), d));
   const worst = (answers: Answer[]) => Math.max(...answers.map((a, k) => distance(a, reference[k]!)));
-  const ladder = [1e-4, 3e-5, 1e-5, 3e-6, 1e-6, 3e-7, 1e-7, 3e-8, 1e-8, 3e-9, 1e-9, 3e-10, 1e-10];
-  const accuracy = ladder.find((a) => worst(ordoRun(a)) <= TARGET);
+  const accuracy = LADDER.find((a) => worst(ordoRun(a)) <= TARGET);
   let rtol: number | undefined;
-  for (const r of ladder.map((x) => x * 10)) {
+  for (const r of LADDER.map((x) => x * 10)) {
     const answers =
       (await python({ ...job, rtol: r, atol: r * 1e-2 }) as unknown as { points: Answer[] }).points;
     if (worst(answers) <= TARGET) {
@@ -282,15 +289,12 @@ async function demoSweepRow(engine: Engine, log: (s: string) => void): Promise<s
     mine.push(performance.now() - started);
     theirs.push(1000 * (await python({ ...job, rtol, atol: rtol * 1e-2 })).seconds);
   }
-  return [
+  return comparisonRow(
     `vs SciPy DOP853, the demo sweep: leaky transmon, 12 points, one core, true error ≤ 1e-8 (ordo accuracy ${accuracy}, SciPy rtol ${rtol})`,
-    `${minimum(mine).toPrecision(3)} ms (median ${median(mine).toPrecision(3)})`,
-    `${minimum(theirs).toPrecision(3)} ms (median ${median(theirs).toPrecision(3)})`,
-    `${(minimum(mine) / minimum(theirs)).toPrecision(2)}× (median ${
-      (median(mine) / median(theirs)).toPrecision(2)
-    }×)`,
+    mine,
+    theirs,
     "—",
-  ];
+  );
 }
 
 /** The time-independent comparison: exact methods on both sides, certified against each other. */
@@ -337,17 +341,14 @@ async function constantRow(engine: Engine, log: (s: string) => void): Promise<st
     theirs.push(1000 * answer.seconds);
     agreement = distance(finalOf(result, d), answer);
   }
-  return [
+  return comparisonRow(
     `vs SciPy eigh + expm_multiply, time-independent d=300, N=4, final time (agree to ${
       agreement.toExponential(1)
     })`,
-    `${minimum(mine).toPrecision(3)} ms (median ${median(mine).toPrecision(3)})`,
-    `${minimum(theirs).toPrecision(3)} ms (median ${median(theirs).toPrecision(3)})`,
-    `${(minimum(mine) / minimum(theirs)).toPrecision(2)}× (median ${
-      (median(mine) / median(theirs)).toPrecision(2)
-    }×)`,
+    mine,
+    theirs,
     "≤ 0.7×",
-  ];
+  );
 }
 
 /**
