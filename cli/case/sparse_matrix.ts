@@ -374,11 +374,10 @@ export function forEachEntry(m: Operator, visit: (i: number, j: number, z: Compl
     for (let i = 0; i < m.rows; i++) m.forEachInRow(i, (j, re, im) => visit(i, j, { re, im }));
     return;
   }
-  for (let i = 0; i < m.rows; i++) {
-    for (let j = 0; j < m.cols; j++) {
-      const z = m.get(i, j);
-      if (z.re !== 0 || z.im !== 0) visit(i, j, z);
-    }
+  const data = (m as ComplexMatrix).data;
+  for (let k = 0; k < data.length; k += 2) {
+    const re = data[k]!, im = data[k + 1]!;
+    if (re !== 0 || im !== 0) visit(Math.floor(k / 2 / m.cols), (k / 2) % m.cols, { re, im });
   }
 }
 
