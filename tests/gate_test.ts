@@ -254,3 +254,17 @@ Deno.test("a sweep with a subspace writes fidelity per order and the leakage per
   assertEqual(resumed.code, 0, new TextDecoder().decode(resumed.stderr));
   assertEqual(Deno.readTextFileSync(`${dir}/points.csv`).trim().split("\n").length, 5);
 });
+
+// The Magnus series converges for ∫‖V_I‖dt < π (Blanes, Casas, Oteo & Ros, Phys. Rep. 470 (2009) 151); here the
+// integral is 100. The run must not fail or print an overflowed number: the Magnus comparison is left out, saying
+// why, and the Dyson numbers stay finite.
+Deno.test("a divergent Magnus series is left out, saying so, and the gate's Dyson numbers stay finite", async () => {
+  const engine = await testEngine();
+  const text = twoLevelGate(40, 20, 5);
+  const gate = runCase(engine, buildCase(parseCase(text, "gate.toml"))).gate!;
+  assertEqual(gate.magnus, undefined);
+  assert(gate.magnusSkipped?.includes("diverges") === true, `${gate.magnusSkipped}`);
+  for (const x of [...gate.fidelity, ...gate.normError, ...gate.leakage.series]) {
+    assert(Number.isFinite(x), `${x}`);
+  }
+});

@@ -49,7 +49,7 @@ export interface Gate {
     effective: ComplexMatrix;
     unit: string;
   };
-  /** Why the Magnus terms are absent, when they are. */
+  /** Why the Magnus terms are absent, when they are (H0(t), a large space, or a divergent series). */
   magnusSkipped?: string;
 }
 
@@ -237,7 +237,8 @@ export function gateOf(
   const gate: Gate = {
     labels: sub.labels,
     time: result.times[result.times.length - 1]!,
-    fidelity: partial.map((s) => averageFidelity(exact, s) / (frobenius2(s) / m)),
+    // a partial sum that vanishes on the subspace reproduces nothing of the gate: fidelity 0, not 0/0
+    fidelity: partial.map((s) => frobenius2(s) > 0 ? averageFidelity(exact, s) / (frobenius2(s) / m) : 0),
     normError: partial.map((s) => spectralNorm(engine, exact.sub(s))),
     leakage: { exact: outside(exact, inside) / m, series: partial.map((s) => outside(s, inside) / m) },
   };
@@ -266,9 +267,15 @@ export function gateOf(
   };
   let sum = new ComplexMatrix(d, d);
   const error = [spectralNorm(engine, pick(ComplexMatrix.identity(d).sub(exactI)))];
-  for (const o of omega) {
+  for (const [k, o] of omega.entries()) {
     sum = sum.add(o);
-    error.push(spectralNorm(engine, pick(expm(sum).sub(exactI))));
+    const propagator = expm(sum);
+    if (!propagator.data.every(Number.isFinite)) {
+      // past its radius of convergence the Magnus series grows without bound: no number to report
+      gate.magnusSkipped = `the Magnus series diverges here: exp(Ω1+…+Ω${k + 1}) overflows`;
+      return gate;
+    }
+    error.push(spectralNorm(engine, pick(propagator.sub(exactI))));
   }
   // iΩ/τ in rad per time unit, then in the case's energy unit
   const factor = built.units.energyFactor;
