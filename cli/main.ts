@@ -53,7 +53,9 @@ const USAGE: Record<string, string> = {
   check: `  check CASE      the case's [[approx]] formulas against exact propagation: PASS/FAIL
                   --vary, --workers, --set, --order, --accuracy, --steps, --quiet as for sweep`,
   inspect: `  inspect CASE    parse and validate: dimension, spectrum, Bohr frequencies, steps, memory
-                  --set name=value    override a param (repeatable)`,
+                  --set name=value    override a param (repeatable)
+                  --operators sparse  how operators are stored: auto, dense, sparse
+                  --subspace a,b      the gate's columns and their memory`,
   init: `  init NAME       write a starter case NAME.toml
                   --example NAME      one of: ${Object.keys(EXAMPLES).join(", ")}
                   --force             overwrite an existing file`,

@@ -6,7 +6,7 @@
 import { all, type Complex as MathComplex, create, type Matrix } from "mathjs";
 import { assert, assertEqual } from "./assert.ts";
 import { assertClose, seeded, tempCase, testEngine } from "./helpers.ts";
-import { parseCase } from "../cli/case/parse.ts";
+import { parseCase, readCase } from "../cli/case/parse.ts";
 import { buildCase } from "../cli/case/build.ts";
 import { runCase } from "../cli/analysis/outcome.ts";
 import { averageFidelity, expm, magnusTerms } from "../cli/analysis/gate.ts";
@@ -267,4 +267,16 @@ Deno.test("a divergent Magnus series is left out, saying so, and the gate's Dyso
   for (const x of [...gate.fidelity, ...gate.normError, ...gate.leakage.series]) {
     assert(Number.isFinite(x), `${x}`);
   }
+});
+
+Deno.test("a gate with sparse operators: the same fidelities as with dense ones, and the Magnus terms left out, saying why", async () => {
+  const engine = await testEngine();
+  const file = new URL("../cases/gate_on_mode.toml", import.meta.url).pathname;
+  const dense = runCase(engine, buildCase(readCase(file))).gate!;
+  const sparse = runCase(engine, buildCase(readCase(file), { operators: "sparse" })).gate!;
+  assert(sparse.magnusSkipped?.includes("sparse") === true, `${sparse.magnusSkipped}`);
+  sparse.fidelity.forEach((f, n) =>
+    assertClose(f, dense.fidelity[n]!, { abs: 1e-8 }, `fidelity, order ${n}`)
+  );
+  assertClose(sparse.leakage.exact, dense.leakage.exact, { abs: 1e-10 }, "leakage");
 });

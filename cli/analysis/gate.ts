@@ -24,7 +24,7 @@
 import { ComplexMatrix } from "../case/complex_matrix.ts";
 import { WHOLE_PROPAGATOR_MAX_DIM } from "../case/start.ts";
 import type { BuiltCase } from "../case/build.ts";
-import { eigh, type Engine, type Model, type Result } from "../../engine/mod.ts";
+import { eigh, type Engine, type Model, type Result, type Scheme } from "../../engine/mod.ts";
 
 /** The largest space whose whole propagator a gate run follows (for the Magnus terms). */
 export const MAGNUS_MAX_DIM = WHOLE_PROPAGATOR_MAX_DIM;
@@ -60,11 +60,20 @@ export interface Columns {
   whole: boolean;
 }
 
+/** Why a case's gate cannot have the Magnus terms (undefined when it can). */
+export function magnusBlocker(built: BuiltCase, scheme: Scheme): string | undefined {
+  if (scheme === "time-dependent-h0") return "H0 depends on t, so there is no interaction picture";
+  if (built.space.storage === "sparse") return "sparse operators never diagonalise H0";
+  if (built.model.dim > MAGNUS_MAX_DIM) {
+    return `they need the whole propagator, followed only for d ≤ ${MAGNUS_MAX_DIM}`;
+  }
+  return undefined;
+}
+
 /** The columns a case's gate needs: all levels when the Magnus terms can be had, else the subspace's. */
-export function gateColumns(built: BuiltCase, constantH0: boolean): Columns {
-  const d = built.model.dim;
-  if (constantH0 && d <= MAGNUS_MAX_DIM) {
-    return { levels: Array.from({ length: d }, (_, k) => k), whole: true };
+export function gateColumns(built: BuiltCase, scheme: Scheme): Columns {
+  if (magnusBlocker(built, scheme) === undefined) {
+    return { levels: Array.from({ length: built.model.dim }, (_, k) => k), whole: true };
   }
   return { levels: built.subspace!.indices, whole: false };
 }
@@ -242,10 +251,9 @@ export function gateOf(
     normError: partial.map((s) => spectralNorm(engine, exact.sub(s))),
     leakage: { exact: outside(exact, inside) / m, series: partial.map((s) => outside(s, inside) / m) },
   };
-  if (!columns.whole || !eigen) {
-    gate.magnusSkipped = !eigen
-      ? "the Magnus terms need a constant H0 (the interaction picture)"
-      : `the Magnus terms need the whole propagator: followed for d ≤ ${MAGNUS_MAX_DIM}`;
+  const blocker = magnusBlocker(built, result.scheme);
+  if (!columns.whole || !eigen || blocker) {
+    gate.magnusSkipped = blocker ?? `they need the whole propagator, followed only for d ≤ ${MAGNUS_MAX_DIM}`;
     return gate;
   }
   // the interaction picture: U_I,n = e^{iH0τ}·U_n, with e^{iH0τ} = Z e^{iEτ} Z†

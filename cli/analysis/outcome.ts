@@ -11,7 +11,7 @@ import { inChosenBasis, interactionPicture } from "./eigenbasis.ts";
 import { type Expectation, expectations } from "./expectations.ts";
 import type { BuiltCase } from "../case/build.ts";
 import { engineModel, inspectCase, type Inspection, normIntegralAt, turningFrom } from "./inspection.ts";
-import { columnOf, type Engine, type Result, solve } from "../../engine/mod.ts";
+import { columnOf, type Engine, type Result, schemeFor, solve } from "../../engine/mod.ts";
 import { type Gate, gateColumns, gateOf, withColumns } from "./gate.ts";
 
 /** A finished run with its analysis. */
@@ -49,7 +49,7 @@ export function runCase(
   const turning = turningFrom(info);
   const model = engineModel(built, turning);
   // with a subspace, its propagator columns ride along with the start state in the same run
-  const columns = built.subspace ? gateColumns(built, info.scheme !== "time-dependent-h0") : undefined;
+  const columns = built.subspace ? gateColumns(built, schemeFor(built.model)) : undefined;
   const run = solve(engine, columns ? withColumns(model, columns) : model, onProgress);
   const gate = columns ? gateOf(engine, built, run, columns, turning.eigen) : undefined;
   const solved = columnOf(run, built.model.dim, 0);

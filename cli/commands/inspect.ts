@@ -5,7 +5,7 @@
  * @module
  */
 
-import { WHOLE_PROPAGATOR_MAX_DIM } from "../case/start.ts";
+import { magnusBlocker } from "../analysis/gate.ts";
 import { buildCase, type BuiltCase } from "../case/build.ts";
 import { readCase } from "../case/parse.ts";
 import {
@@ -18,11 +18,19 @@ import {
 } from "../analysis/inspection.ts";
 import { DEFAULT_ACCURACY } from "../case/grid.ts";
 import { driveSpectra, type DriveSpectrum, driveWarning } from "../analysis/drive_spectrum.ts";
-import { type Engine, loadEngine, METHOD_NAMES, methodFor, nonZerosOf, solve } from "../../engine/mod.ts";
+import {
+  type Engine,
+  loadEngine,
+  METHOD_NAMES,
+  methodFor,
+  nonZerosOf,
+  schemeFor,
+  solve,
+} from "../../engine/mod.ts";
 import { buildOptions, oneCase, parseOrFail } from "./_args.ts";
 
 /**
- * `ordo inspect CASE [--set name=value]`.
+ * `ordo inspect CASE [--set name=value] [--operators auto|dense|sparse] [--subspace a,b]`.
  *
  * @param args the arguments after `inspect`
  * @returns the exit code
@@ -30,6 +38,8 @@ import { buildOptions, oneCase, parseOrFail } from "./_args.ts";
 export async function inspectCommand(args: string[]): Promise<number> {
   const { values, positionals } = parseOrFail(args, {
     set: { type: "string", multiple: true },
+    operators: { type: "string" },
+    subspace: { type: "string" },
   });
   const built = buildCase(readCase(oneCase(positionals, "inspect")), buildOptions(values));
   const engine = await loadEngine();
@@ -78,7 +88,7 @@ export function formatInspection(
     }${freq}; the n-th Dyson term is at most xⁿ/n!)`,
     ...describeDrives(built, drives),
     ...describeSteps(built, info, controller),
-    ...describeGate(built, info),
+    ...describeGate(built),
     describeOperators(built),
     `  memory     about ${bytes(info.memoryBytes)} (largest part: ${info.memoryLargest})`,
   ];
@@ -185,16 +195,14 @@ function describeOperators(built: BuiltCase): string {
 }
 
 /** The line about a gate's subspace (propagator mode), if the case has one. */
-function describeGate(built: BuiltCase, info: Inspection): string[] {
+function describeGate(built: BuiltCase): string[] {
   if (!built.subspace) return [];
-  const d = built.model.dim, whole = info.scheme !== "time-dependent-h0" && d <= WHOLE_PROPAGATOR_MAX_DIM;
+  const blocker = magnusBlocker(built, schemeFor(built.model));
   return [
     `  gate       subspace {${built.subspace.labels.join(", ")}}: ${
-      whole
-        ? `all ${d} propagator columns run with the start state (Magnus terms included)`
-        : `its ${built.subspace.labels.length} propagator columns run with the start state (no Magnus terms: ${
-          info.scheme === "time-dependent-h0" ? "H0 depends on t" : `d > ${WHOLE_PROPAGATOR_MAX_DIM}`
-        })`
+      blocker === undefined
+        ? `all ${built.model.dim} propagator columns run with the start state (Magnus terms included)`
+        : `its ${built.subspace.labels.length} propagator columns run with the start state (no Magnus terms: ${blocker})`
     }`,
   ];
 }
