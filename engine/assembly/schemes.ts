@@ -902,28 +902,41 @@ function interactionRate(buf: usize, node: i32, tau: f64, z: usize, kout: usize)
   }
   phases(ph1, tau); // e^{iEτ}
   // u_v = e^{−iEτ}∘z_v for v = 0…N−1, and u_N = e^{−iEτ}∘z_exact
-  for (let v = 0; v < r; v++) {
-    const src = v < r - 1 ? z + <usize>v * vec : z + <usize>r * vec, dst = rkU + <usize>v * vec;
-    for (let e = 0; e < dm; e++) {
-      const p = src + (<usize>e << 4), q = ph1 + (<usize>(e % d) << 4);
-      const xr = cre(p), xi = cim(p), pr = cre(q), pi = cim(q);
-      cset(dst + (<usize>e << 4), pr * xr + pi * xi, pr * xi - pi * xr);
-    }
-  }
+  toInteraction(rkU, z, (r - 1) * m);
+  toInteraction(rkU + <usize>(r - 1) * vec, z + <usize>r * vec, m);
   memory.fill(rkP, 0, <usize>r * vec);
   zgemv(op, d, rkU, rkP, r * m, fr, fi);
   kernelFlops += 8.0 * <f64>d * <f64>d * <f64>(r * m);
   memory.fill(kout, 0, vec);
-  for (let v = 0; v < r; v++) {
-    const src = rkP + <usize>v * vec;
-    const dst = v < r - 1 ? kout + <usize>(v + 1) * vec : kout + <usize>r * vec;
-    const scale = v < r - 1 ? 1.0 : lambda;
-    for (let e = 0; e < dm; e++) {
-      const p = src + (<usize>e << 4), q = ph1 + (<usize>(e % d) << 4);
-      const xr = cre(p), xi = cim(p), pr = cre(q), pi = cim(q);
-      // −i·scale·(e^{iEτ}∘P)
-      const yr = pr * xr - pi * xi, yi = pr * xi + pi * xr;
-      cset(dst + (<usize>e << 4), scale * yi, -scale * yr);
+  // −i·(e^{iEτ}∘P): P_v feeds order v+1, the last one the exact state (times λ)
+  toRate(kout + vec, rkP, (r - 1) * m, 1.0);
+  toRate(kout + <usize>r * vec, rkP + <usize>(r - 1) * vec, m, lambda);
+}
+
+/** dst = e^{−iEτ}∘src for `blocks` d-vectors one after another, with ph1 = e^{iEτ}: conj(p)·x. */
+function toInteraction(dst: usize, src: usize, blocks: i32): void {
+  const flip = f64x2(1.0, -1.0);
+  for (let b = 0; b < blocks; b++) {
+    const from = src + ((<usize>b * <usize>d) << 4), to = dst + ((<usize>b * <usize>d) << 4);
+    for (let a = 0; a < d; a++) {
+      const o = <usize>a << 4, x = v128.load(from + o), q = v128.load(ph1 + o);
+      // (pr·xr + pi·xi, pr·xi − pi·xr) = pr·(xr, xi) + (pi, −pi)·(xi, xr)
+      const pr = v128.shuffle<f64>(q, q, 0, 0), pi = f64x2.mul(v128.shuffle<f64>(q, q, 1, 1), flip);
+      v128.store(to + o, f64x2.add(f64x2.mul(pr, x), f64x2.mul(pi, v128.shuffle<f64>(x, x, 1, 0))));
+    }
+  }
+}
+
+/** dst = −i·scale·(e^{iEτ}∘src) for `blocks` d-vectors one after another, with ph1 = e^{iEτ}. */
+function toRate(dst: usize, src: usize, blocks: i32, scale: f64): void {
+  const flip = f64x2(scale, -scale), s = f64x2.splat(scale);
+  for (let b = 0; b < blocks; b++) {
+    const from = src + ((<usize>b * <usize>d) << 4), to = dst + ((<usize>b * <usize>d) << 4);
+    for (let a = 0; a < d; a++) {
+      const o = <usize>a << 4, x = v128.load(from + o), q = v128.load(ph1 + o);
+      // −i·(pr·xr − pi·xi, pr·xi + pi·xr) = (pr·xi + pi·xr, −pr·xr + pi·xi) = (pr, −pr)·(xi, xr) + pi·(xr, xi)
+      const pr = f64x2.mul(v128.shuffle<f64>(q, q, 0, 0), flip), pi = f64x2.mul(v128.shuffle<f64>(q, q, 1, 1), s);
+      v128.store(to + o, f64x2.add(f64x2.mul(pr, v128.shuffle<f64>(x, x, 1, 0)), f64x2.mul(pi, x)));
     }
   }
 }
@@ -936,13 +949,8 @@ function interactionRate(buf: usize, node: i32, tau: f64, z: usize, kout: usize)
  */
 function interactionRateSparse(buf: usize, node: i32, tau: f64, z: usize, kout: usize): void {
   const nodeCoefs = buf + ((<usize>node * <usize>(k0 + kv)) << 4);
-  const all = <usize>(r + 1) * <usize>dm;
   phases(ph1, tau); // e^{iEτ}
-  for (let e: usize = 0; e < all; e++) {
-    const p = z + (e << 4), q = ph1 + ((e % <usize>d) << 4);
-    const xr = cre(p), xi = cim(p), pr = cre(q), pi = cim(q);
-    cset(rkU + (e << 4), pr * xr + pi * xi, pr * xi - pi * xr);
-  }
+  toInteraction(rkU, z, (r + 1) * m);
   memory.fill(rkP, 0, <usize>(r + 1) * vec);
   for (let k = 0; k < kv; k++) {
     const c = nodeCoefs + (<usize>(k0 + k) << 4), t = k0 + k;
@@ -963,25 +971,23 @@ function interactionRateSparse(buf: usize, node: i32, tau: f64, z: usize, kout: 
       kernelFlops += 8.0 * <f64>load<u64>(csrField(k, 3)) * <f64>((r + 1) * m);
     }
     // less the diagonal, which the phases carry
-    for (let e: usize = 0; e < all; e++) {
-      const p = rkU + (e << 4), o = rkP + (e << 4), w = load<f64>(energies + ((e % <usize>d) << 3));
-      cset(o, cre(o) - w * cre(p), cim(o) - w * cim(p));
+    for (let b = 0; b < (r + 1) * m; b++) {
+      const block = (<usize>b * <usize>d) << 4;
+      for (let a = 0; a < d; a++) {
+        const p = rkU + block + (<usize>a << 4), o = rkP + block + (<usize>a << 4);
+        const w = load<f64>(energies + (<usize>a << 3));
+        cset(o, cre(o) - w * cre(p), cim(o) - w * cim(p));
+      }
     }
   }
-  for (let e: usize = 0; e < all; e++) {
-    const p = rkP + (e << 4), q = ph1 + ((e % <usize>d) << 4);
-    const xr = cre(p), xi = cim(p), pr = cre(q), pi = cim(q);
-    // −i·(e^{iEτ}∘P)
-    const yr = pr * xr - pi * xi, yi = pr * xi + pi * xr;
-    cset(kout + (e << 4), yi, -yr);
-  }
+  toRate(kout, rkP, (r + 1) * m, 1.0);
 }
 
-/** dst (n complex entries) += w·src. */
+/** dst (n complex entries) += w·src, one complex entry (an f64x2) at a time. */
 @inline function axpy(dst: usize, w: f64, src: usize, n: usize): void {
-  for (let e: usize = 0; e < n << 1; e++) {
-    const o = dst + (e << 3);
-    store<f64>(o, load<f64>(o) + w * load<f64>(src + (e << 3)));
+  const ww = f64x2.splat(w), end = n << 4;
+  for (let e: usize = 0; e < end; e += 16) {
+    v128.store(dst + e, f64x2.add(v128.load(dst + e), f64x2.mul(ww, v128.load(src + e))));
   }
 }
 
