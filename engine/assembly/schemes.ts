@@ -318,14 +318,16 @@ function applyGenerator(
   }
   if (mode != MODE_NONE) {
     // the diagonal part: −μ (dense) or E_a − μ (diag), times α
-    const count = <usize>(rr - low) * dm;
-    const base = <usize>low * vec;
-    for (let e: usize = 0; e < count; e++) {
-      const p = inp + base + (e << 4), o = out + base + (e << 4);
-      let g = -mu;
-      if (mode == MODE_DIAG) g += dScale * load<f64>(dOp + ((e % <usize>d) << 3));
-      const xr = cre(p), xi = cim(p);
-      cset(o, cre(o) + g * (ar * xr - ai * xi), cim(o) + g * (ar * xi + ai * xr));
+    const blocks = (rr - low) * m;
+    for (let b = 0; b < blocks; b++) {
+      const base = <usize>low * vec + ((<usize>b * <usize>d) << 4);
+      for (let a = 0; a < d; a++) {
+        const p = inp + base + (<usize>a << 4), o = out + base + (<usize>a << 4);
+        let g = -mu;
+        if (mode == MODE_DIAG) g += dScale * load<f64>(dOp + (<usize>a << 3));
+        const xr = cre(p), xi = cim(p);
+        cset(o, cre(o) + g * (ar * xr - ai * xi), cim(o) + g * (ar * xi + ai * xr));
+      }
     }
   }
   if (bOp != 0 && rr - 1 > low) {
