@@ -75,6 +75,9 @@ interface Exports {
     scratch: number,
   ): void;
   packedScratchBytes(d: number, r: number): number;
+  useHelper(on: number): void;
+  helperJobs(): number;
+  stopHelper(): void;
   peakLoop(iterations: number, x0: number, dy: number): number;
   eigh(a: number, n: number, w: number, z: number, work: number): number;
   init(
@@ -119,6 +122,8 @@ interface Exports {
 export interface Engine {
   /** The raw WebAssembly exports, for benchmarks and tests of the kernels. */
   readonly exports: Exports;
+  /** Stops the helper thread, if any (the engine still works, alone). */
+  close(): void;
 }
 
 /** The engine failed: out of memory, no convergence, a result that is not finite. */
@@ -165,23 +170,70 @@ function check(code: number): void {
   }
 }
 
+/** Options of {@link loadEngine}. */
+export interface EngineOptions {
+  /**
+   * Start a helper thread (a worker with a second instance on the same memory) that takes half of each large
+   * matrix product. Deno only; call {@link Engine.close} when done. Default: no helper.
+   */
+  helper?: boolean;
+}
+
+/** WebAssembly pages (64 KiB) the engine's memory may grow to: all of wasm32's 4 GiB. */
+const MAX_PAGES = 65536;
+
 /**
  * Instantiates the engine.
  *
  * @param wasm the module bytes; default: `ordo.wasm` beside this file
+ * @param options see {@link EngineOptions}
  * @returns an engine ready for {@link solve}
  */
-export async function loadEngine(wasm?: BufferSource): Promise<Engine> {
+export async function loadEngine(wasm?: BufferSource, options: EngineOptions = {}): Promise<Engine> {
   const bytes = wasm ?? await readWasm();
   const module = await WebAssembly.compile(bytes);
+  // Shared memory, so that a helper thread can work on the same arrays.
+  const memory = new WebAssembly.Memory({ initial: 2, maximum: MAX_PAGES, shared: true });
   const instance = await WebAssembly.instantiate(module, {
     env: {
+      memory,
       abort(_msg: number, _file: number, line: number, column: number) {
         throw new EngineError(`engine aborted at ${line}:${column}`);
       },
     },
   });
-  return { exports: instance.exports as unknown as Exports };
+  const exports = instance.exports as unknown as Exports;
+  // deno-lint-ignore no-explicit-any
+  const helper = options.helper && (globalThis as any).Deno ? await startHelper(module, memory) : undefined;
+  if (helper) exports.useHelper(1);
+  return {
+    exports,
+    close() {
+      if (!helper) return;
+      exports.useHelper(0);
+      exports.stopHelper();
+      helper.terminate();
+    },
+  };
+}
+
+/** The helper thread: a worker running the module's job loop on the shared memory. */
+async function startHelper(
+  module: WebAssembly.Module,
+  memory: WebAssembly.Memory,
+): Promise<Worker | undefined> {
+  const worker = new Worker(new URL("./helper_worker.ts", import.meta.url), { type: "module" });
+  const ready = new Promise<boolean>((resolve) => {
+    worker.onmessage = () => resolve(true);
+    worker.onerror = (event) => {
+      event.preventDefault();
+      resolve(false);
+    };
+  });
+  worker.postMessage({ module, memory });
+  if (await ready) return worker;
+  worker.terminate();
+  return undefined;
 }
 
 async function readWasm(): Promise<Uint8Array<ArrayBuffer>> {

@@ -108,6 +108,20 @@ export function isSparse(model: Pick<Model, "unperturbed" | "perturbation">): bo
     model.perturbation.some((t) => t.sparse !== undefined);
 }
 
+/** The smallest dimension whose dense products are worth sharing with a helper thread (engine `SHARE_FROM`). */
+export const HELPER_FROM_DIM = 96;
+
+/**
+ * Whether a helper thread would pay for itself on this model: dense operators of dimension
+ * {@link HELPER_FROM_DIM} or more (sparse products and small ones are not shared).
+ *
+ * @param model the model to be solved
+ * @returns true when {@link loadEngine}'s `helper` option is worth its start-up (~15 ms)
+ */
+export function wantsHelper(model: Pick<Model, "dim" | "unperturbed" | "perturbation">): boolean {
+  return model.dim >= HELPER_FROM_DIM && !isSparse(model);
+}
+
 /**
  * Picks the scheme: sparse operators (the Schrödinger picture, whatever depends on t), no t anywhere, constant
  * H0 with V(t), or H0(t).

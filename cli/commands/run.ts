@@ -14,7 +14,7 @@ import { runJson } from "../analysis/result_json.ts";
 import { progressBar } from "../report/progress.ts";
 import { ensureOutputDir, isSystemError } from "../report/output_dir.ts";
 import { OutputError } from "../case/errors.ts";
-import { loadEngine } from "../../engine/mod.ts";
+import { loadEngine, wantsHelper } from "../../engine/mod.ts";
 import { buildOptions, CASE_FLAGS, oneCase, parseOrFail, usage } from "./_args.ts";
 
 /** `--show population` (the default) or `--show amplitude`. */
@@ -45,13 +45,15 @@ export async function runCommand(args: string[]): Promise<number> {
     usage(`--at takes a time, got "${values.at}"`);
   }
   if (values.out !== undefined) ensureOutputDir(String(values.out), "--out");
-  const engine = await loadEngine();
+  // a large dense case shares its matrix products with a second thread
+  const engine = await loadEngine(undefined, { helper: wantsHelper(built.model) });
   const progress = values.quiet ? undefined : await progressBar("propagating");
   let outcome: RunOutcome;
   try {
     outcome = runCase(engine, built, at, progress?.update);
   } finally {
     progress?.stop();
+    engine.close();
   }
   if (values.json) console.log(JSON.stringify(runJson(outcome)));
   else console.log(formatRun(outcome, showOf(values.show)));

@@ -2,7 +2,11 @@
 // the TypeScript face.
 export { arenaAlloc, arenaReset } from "./arena";
 export {
+  helperJobs,
+  helperLoop,
   packedScratchBytes,
+  stopHelper,
+  useHelper,
   peakLoop,
   setKernelScratch,
   useSimd,

@@ -1,0 +1,81 @@
+// The helper thread: large dense products split between two threads on one shared memory. Checked against
+// mathjs (a general-purpose reference library) for the product itself, and for a whole run against the same
+// run on one thread: splitting rows between threads must not change a single bit (each row is computed by the
+// same code in the same order either way).
+import { all, type Complex as MathComplex, create } from "mathjs";
+import { assert } from "./assert.ts";
+import { randomHermitian, seeded } from "./helpers.ts";
+import { loadEngine, multiply, type Result, solve, wantsHelper } from "../engine/mod.ts";
+import { dense, drivenModel } from "../cli/commands/_bench_cases.ts";
+
+const math = create(all!);
+
+function toMath(m: Float64Array, d: number) {
+  return math.matrix(
+    Array.from(
+      { length: d },
+      (_, i) =>
+        Array.from({ length: d }, (_, j) => math.complex(m[2 * (i * d + j)]!, m[2 * (i * d + j) + 1]!)),
+    ),
+  );
+}
+
+Deno.test("a product shared with the helper thread (d = 160) matches mathjs multiply to 1e-12", async () => {
+  const engine = await loadEngine(undefined, { helper: true });
+  try {
+    const random = seeded(11), d = 160;
+    const a = randomHermitian(d, random, 1), b = randomHermitian(d, random, 1);
+    // The caller takes back a job the helper has not claimed by the time its own half is done (as it may on
+    // a busy machine), so repeat until the helper has taken part at least once.
+    let mine = multiply(engine, a, b, d);
+    for (let k = 0; k < 200 && engine.exports.helperJobs() === 0; k++) mine = multiply(engine, a, b, d);
+    assert(engine.exports.helperJobs() > 0, "the helper took no part in 200 products");
+    const reference = math.multiply(toMath(a, d), toMath(b, d));
+    let worst = 0;
+    for (let i = 0; i < d; i++) {
+      for (let j = 0; j < d; j++) {
+        const z = math.complex(reference.get([i, j]) as MathComplex);
+        worst = Math.max(
+          worst,
+          Math.abs(mine[2 * (i * d + j)]! - z.re),
+          Math.abs(mine[2 * (i * d + j) + 1]! - z.im),
+        );
+      }
+    }
+    assert(worst < 1e-12, `largest difference from mathjs ${worst}`);
+  } finally {
+    engine.close();
+  }
+});
+
+function same(a: Result, b: Result): boolean {
+  return a.steps === b.steps && a.exact.every((x, k) => x === b.exact[k]) &&
+    a.terms.every((term, n) => term.every((x, k) => x === b.terms[n]![k]));
+}
+
+Deno.test("a driven d = 128 run with the helper thread is bit-for-bit the run on one thread; so is a run after close()", async () => {
+  const model = { ...drivenModel(dense(128), 1), accuracy: 1e-6, samples: 3 };
+  assert(wantsHelper(model), "d = 128 dense is worth a helper");
+  const alone = await loadEngine();
+  const shared = await loadEngine(undefined, { helper: true });
+  try {
+    const one = solve(alone, model);
+    const before = shared.exports.helperJobs();
+    for (let k = 0; k < 20 && shared.exports.helperJobs() === before; k++) {
+      assert(same(solve(shared, model), one), "the helper changed the result");
+    }
+    assert(shared.exports.helperJobs() > before, "the helper took no part in 20 runs");
+    shared.close();
+    assert(same(solve(shared, model), one), "the engine after close() changed the result");
+  } finally {
+    alone.close();
+    shared.close();
+  }
+});
+
+Deno.test("products posted with no helper to take them are done by the caller (no hang, same numbers)", async () => {
+  const model = { ...drivenModel(dense(128), 1), accuracy: 1e-6, samples: 3 };
+  const alone = await loadEngine(), orphan = await loadEngine();
+  orphan.exports.useHelper(1); // posts jobs that nobody claims
+  assert(same(solve(orphan, model), solve(alone, model)), "the unclaimed jobs changed the result");
+});
