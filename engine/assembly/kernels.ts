@@ -307,7 +307,7 @@ const control = memory.data(80, 64);
 /** Products of at least this many complex multiply-adds (d²·r) are shared. */
 const SHARE_FROM: i64 = 96 * 96 * 4;
 /** Polls of a flag before a thread sleeps on it. */
-const SPINS = 20000;
+const SPINS = 2000000;
 let helperReady = false;
 
 /** Whether products are shared with the helper (on once it runs, off to work alone). */
