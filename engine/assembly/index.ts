@@ -2,11 +2,7 @@
 // the TypeScript face.
 export { arenaAlloc, arenaReset } from "./arena";
 export {
-  helperJobs,
-  helperLoop,
   packedScratchBytes,
-  stopHelper,
-  useHelper,
   peakLoop,
   setKernelScratch,
   useSimd,
@@ -46,3 +42,16 @@ export {
   takeKernelFlops,
   stepError,
 } from "./schemes";
+
+// ------------------------------------------------------------------ the helper thread's loop
+import { awaitJob, finishJob } from "./share";
+import { JOB_PACKED_ROWS, packedRowsJob } from "./kernels";
+export { helperJobs, stopHelper, useHelper } from "./share";
+
+/** The helper thread's loop (called once, in the worker): claims and does jobs until told to stop. */
+export function helperLoop(): void {
+  for (let kind = awaitJob(); kind != 0; kind = awaitJob()) {
+    if (kind == JOB_PACKED_ROWS) packedRowsJob();
+    finishJob();
+  }
+}

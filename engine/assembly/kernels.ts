@@ -1,3 +1,5 @@
+import { arg, argF, join, post, setArg, setArgF, sharing } from "./share";
+
 // Complex matrix–multi-vector micro-kernels.
 // Contract: Y[v] := Y[v] + α·A·X[v] for v < r, where A is d×d complex
 // (row-major, interleaved re/im) and X[v], Y[v] are complex d-vectors laid
@@ -271,12 +273,20 @@ export function zgemvPacked(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f6
       store<f64>(row + half + (<usize>v << 3), im);
     }
   }
-  if (helperReady && <i64>d * <i64>d * <i64>r >= SHARE_FROM) {
+  if (sharing() && <i64>d * <i64>d * <i64>r >= SHARE_FROM) {
     // rows split at the middle: the helper takes the lower half while this thread does the upper
     const mid = d >> 1;
-    share(a, d, scratch, y, r, ar, ai, mid, d);
+    setArg(0, <u64>a);
+    setArg(1, <u64>d);
+    setArg(2, <u64>scratch);
+    setArg(3, <u64>y);
+    setArg(4, <u64>r);
+    setArgF(5, ar);
+    setArgF(6, ai);
+    setArg(7, <u64>mid);
+    post(JOB_PACKED_ROWS);
     packedRows(a, d, scratch, y, r, ar, ai, 0, mid);
-    join(a, d, scratch, y, r, ar, ai, mid, d);
+    if (!join()) packedRows(a, d, scratch, y, r, ar, ai, mid, d);
     return;
   }
   packedRows(a, d, scratch, y, r, ar, ai, 0, d);
@@ -295,91 +305,15 @@ function packedRows(a: usize, d: i32, xp: usize, y: usize, r: i32, ar: f64, ai: 
   if (p < pairs) pairs1(a, d, xp, per, half, p, y, r, ar, ai, i0, i1);
 }
 
-// ------------------------------------------------------------------ a second thread
-// A helper (a second instance of this module on the same shared memory, in a worker) may take part of a large
-// product: the caller posts a job in the control block, does its own part, then joins. A job the helper has
-// not claimed by then is done by the caller itself, so a missing or stopped helper costs nothing but time.
-// Control block (i32 words): 0 the posted job's number, 1 the last claimed, 2 the last done, 3 stop, 4 jobs the
-// helper has done;
-// then the job: a, xp, y (u64 at bytes 24, 32, 40), d, r, i0, i1 (i32 at 48…60), α (f64 at 64, 72).
-
-const control = memory.data(80, 64);
-/** Products of at least this many complex multiply-adds (d²·r) are shared. */
+/** Products of at least this many complex multiply-adds (d²·r) are shared with the helper thread. */
 const SHARE_FROM: i64 = 96 * 96 * 4;
-/** Polls of a flag before a thread sleeps on it. */
-const SPINS = 2000000;
-let helperReady = false;
+export const JOB_PACKED_ROWS = 1;
 
-/** Whether products are shared with the helper (on once it runs, off to work alone). */
-export function useHelper(on: bool): void {
-  helperReady = on;
-}
-
-@inline function word(k: i32): usize { return control + (<usize>k << 2); }
-
-function share(a: usize, d: i32, xp: usize, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32): void {
-  store<u64>(control + 24, <u64>a);
-  store<u64>(control + 32, <u64>xp);
-  store<u64>(control + 40, <u64>y);
-  store<i32>(control + 48, d);
-  store<i32>(control + 52, r);
-  store<i32>(control + 56, i0);
-  store<i32>(control + 60, i1);
-  store<f64>(control + 64, ar);
-  store<f64>(control + 72, ai);
-  const job = atomic.load<i32>(word(0)) + 1;
-  atomic.store<i32>(word(0), job);
-  atomic.notify(word(0), 1);
-}
-
-function join(a: usize, d: i32, xp: usize, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32): void {
-  const job = atomic.load<i32>(word(0));
-  if (atomic.cmpxchg<i32>(word(1), job - 1, job) == job - 1) {
-    // not claimed: do it here
-    packedRows(a, d, xp, y, r, ar, ai, i0, i1);
-    atomic.store<i32>(word(2), job);
-    return;
-  }
-  let spins = 0;
-  while (atomic.load<i32>(word(2)) != job) {
-    if (++spins > SPINS) atomic.wait<i32>(word(2), job - 1, 1000000);
-  }
-}
-
-/**
- * The helper's loop (called once, in the worker): waits for jobs, claims and does them, until told to stop.
- */
-export function helperLoop(): void {
-  let seen = atomic.load<i32>(word(0));
-  while (atomic.load<i32>(word(3)) == 0) {
-    let spins = 0;
-    while (atomic.load<i32>(word(0)) == seen && atomic.load<i32>(word(3)) == 0) {
-      if (++spins > SPINS) atomic.wait<i32>(word(0), seen, 100000000);
-    }
-    const job = atomic.load<i32>(word(0));
-    if (job == seen) continue;
-    seen = job;
-    if (atomic.cmpxchg<i32>(word(1), job - 1, job) != job - 1) continue; // the caller took it back
-    packedRows(
-      <usize>load<u64>(control + 24), load<i32>(control + 48), <usize>load<u64>(control + 32),
-      <usize>load<u64>(control + 40), load<i32>(control + 52), load<f64>(control + 64), load<f64>(control + 72),
-      load<i32>(control + 56), load<i32>(control + 60),
-    );
-    atomic.add<i32>(word(4), 1);
-    atomic.store<i32>(word(2), job);
-    atomic.notify(word(2), 1);
-  }
-}
-
-/** Jobs the helper has done since the module was loaded (for tests). */
-export function helperJobs(): i32 {
-  return atomic.load<i32>(word(4));
-}
-
-/** Tells the helper to leave its loop. */
-export function stopHelper(): void {
-  atomic.store<i32>(word(3), 1);
-  atomic.notify(word(0), 1);
+/** The helper's part of a shared packed product (arguments as {@link zgemvPacked} posts them). */
+export function packedRowsJob(): void {
+  packedRows(
+    <usize>arg(0), <i32>arg(1), <usize>arg(2), <usize>arg(3), <i32>arg(4), argF(5), argF(6), <i32>arg(7), <i32>arg(1),
+  );
 }
 
 // ------------------------------------------------------------------ sparse (CSR) kernels
