@@ -370,3 +370,41 @@ Deno.test("multiply() of two complex 7×7 matrices equals mathjs multiply to 1e-
     }
   }
 });
+
+Deno.test("eigh of a rank-8 Hermitian matrix (d = 128, a 120-fold eigenvalue 0) converges: rank–nullity, residuals, Σλ = tr A", async () => {
+  // facts of linear algebra: A = Σ_k u_k u_k† has rank 8, so 120 eigenvalues are 0 (to ε‖A‖) and 8 are positive
+  const engine = await testEngine();
+  const d = 128, rank = 8, random = seeded(21);
+  const a = new Float64Array(2 * d * d);
+  for (let k = 0; k < rank; k++) {
+    const u = Array.from({ length: d }, () => [random() - 0.5, random() - 0.5] as const);
+    for (let i = 0; i < d; i++) {
+      for (let j = 0; j < d; j++) {
+        const [ar, ai] = u[i]!, [br, bi] = u[j]!;
+        a[2 * (i * d + j)]! += ar * br + ai * bi; // u_i·conj(u_j)
+        a[2 * (i * d + j) + 1]! += ai * br - ar * bi;
+      }
+    }
+  }
+  const { values, vectors } = eigh(engine, a, d);
+  let trace = 0, norm = 0;
+  for (let i = 0; i < d; i++) trace += a[2 * (i * d + i)]!;
+  values.forEach((x) => (norm = Math.max(norm, Math.abs(x))));
+  const zeros = values.filter((x) => Math.abs(x) < 1e-12 * norm).length;
+  assertClose(zeros, d - rank, { abs: 0 }, "eigenvalues at 0");
+  assertClose(values.reduce((s, x) => s + x, 0), trace, { abs: 1e-11 * norm }, "Σλ = tr A");
+  let residual = 0;
+  for (let k = 0; k < d; k += 9) {
+    for (let i = 0; i < d; i++) {
+      let sr = -values[k]! * vectors[2 * (i * d + k)]!, si = -values[k]! * vectors[2 * (i * d + k) + 1]!;
+      for (let j = 0; j < d; j++) {
+        const ar = a[2 * (i * d + j)]!, ai = a[2 * (i * d + j) + 1]!;
+        const zr = vectors[2 * (j * d + k)]!, zi = vectors[2 * (j * d + k) + 1]!;
+        sr += ar * zr - ai * zi;
+        si += ar * zi + ai * zr;
+      }
+      residual = Math.max(residual, Math.hypot(sr, si));
+    }
+  }
+  assertClose(residual, 0, { abs: 1e-12 * norm }, "‖Az − λz‖");
+});

@@ -5,7 +5,7 @@
 import { all, type Complex as MathComplex, create } from "mathjs";
 import { assert } from "./assert.ts";
 import { randomHermitian, seeded } from "./helpers.ts";
-import { loadEngine, multiply, type Result, solve, wantsHelper } from "../engine/mod.ts";
+import { eigh, loadEngine, multiply, type Result, solve, wantsHelper } from "../engine/mod.ts";
 import { dense, drivenModel } from "../cli/commands/_bench_cases.ts";
 
 const math = create(all!);
@@ -78,4 +78,51 @@ Deno.test("products posted with no helper to take them are done by the caller (n
   const alone = await loadEngine(), orphan = await loadEngine();
   orphan.exports.useHelper(1); // posts jobs that nobody claims
   assert(same(solve(orphan, model), solve(alone, model)), "the unclaimed jobs changed the result");
+});
+
+Deno.test("the eigensolver with the helper thread (d = 200): bit-for-bit the one-thread result; residuals, orthonormality, trace identities", async () => {
+  const d = 200, a = randomHermitian(d, seeded(5), 1);
+  const alone = await loadEngine(), shared = await loadEngine(undefined, { helper: true });
+  try {
+    const one = eigh(alone, a, d);
+    const before = shared.exports.helperJobs();
+    const two = eigh(shared, a, d);
+    assert(shared.exports.helperJobs() > before, "the helper took no part");
+    assert(one.values.every((x, k) => x === two.values[k]), "eigenvalues differ");
+    assert(one.vectors.every((x, k) => x === two.vectors[k]), "eigenvectors differ");
+    // facts of linear algebra: A z_k = λ_k z_k, Z†Z = I, Σλ = tr A, Σλ² = ‖A‖_F²
+    const z = two.vectors, w = two.values;
+    let residual = 0, overlap = 0, trace = 0, frobenius = 0;
+    for (let i = 0; i < d; i++) trace += a[2 * (i * d + i)]!;
+    for (let k = 0; k < 2 * d * d; k++) frobenius += a[k]! ** 2;
+    for (let k = 0; k < d; k += 7) {
+      for (let i = 0; i < d; i++) {
+        let sr = -w[k]! * z[2 * (i * d + k)]!, si = -w[k]! * z[2 * (i * d + k) + 1]!;
+        for (let j = 0; j < d; j++) {
+          const ar = a[2 * (i * d + j)]!, ai = a[2 * (i * d + j) + 1]!;
+          const zr = z[2 * (j * d + k)]!, zi = z[2 * (j * d + k) + 1]!;
+          sr += ar * zr - ai * zi;
+          si += ar * zi + ai * zr;
+        }
+        residual = Math.max(residual, Math.hypot(sr, si));
+      }
+      for (let l = 0; l < d; l += 5) {
+        let sr = 0, si = 0;
+        for (let i = 0; i < d; i++) {
+          const xr = z[2 * (i * d + k)]!, xi = z[2 * (i * d + k) + 1]!;
+          const yr = z[2 * (i * d + l)]!, yi = z[2 * (i * d + l) + 1]!;
+          sr += xr * yr + xi * yi;
+          si += xr * yi - xi * yr;
+        }
+        overlap = Math.max(overlap, Math.hypot(sr - (k === l ? 1 : 0), si));
+      }
+    }
+    assert(residual < 1e-12 * Math.sqrt(frobenius), `residual ${residual}`);
+    assert(overlap < 1e-13, `orthonormality ${overlap}`);
+    assert(Math.abs(w.reduce((s, x) => s + x, 0) - trace) < 1e-11, "Σλ ≠ tr A");
+    assert(Math.abs(w.reduce((s, x) => s + x * x, 0) - frobenius) < 1e-10 * frobenius, "Σλ² ≠ ‖A‖_F²");
+  } finally {
+    alone.close();
+    shared.close();
+  }
 });

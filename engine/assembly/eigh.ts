@@ -8,6 +8,7 @@
 // and ch. 8; the QL iteration is the classic tql2/tqli form.
 
 import { madd, nmadd } from "./kernels";
+import { arg, argF, join, post, setArg, setArgF, sharing } from "./share";
 
 @inline function re(p: usize): f64 { return load<f64>(p); }
 @inline function im(p: usize): f64 { return load<f64>(p, 8); }
@@ -56,16 +57,24 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
     }
   }
   if (n > 0) store<f64>(e + (<usize>(n - 1) << 3), 0.0);
-  // A is free now: it holds Q, the QL rotations' real orthogonal matrix (row-major); v's room holds one sweep's
-  // rotations (cosines, then sines) until the product at the end needs it.
+  // A is free now: its first half holds Q, the QL rotations' real orthogonal matrix (row-major), its second half
+  // the log of the sweeps' rotations not yet applied to Q.
   const q = a;
   memory.fill(q, 0, <usize>n * n << 3);
   for (let i = 0; i < n; i++) store<f64>(q + ((<usize>i * n + i) << 3), 1.0);
-  if (tql(w, e, n, q, v, v + (<usize>n << 3)) != 0) return 1;
+  if (tql(w, e, n, q, a + (<usize>n * n << 3), n * n) != 0) return 1;
   sortAscending(w, q, n);
-  multiplyByRotations(z, q, n, v);
+  multiplyByRotations(z, q, n, v, p);
   return 0;
 }
+
+/** Below this dimension the eigensolver works alone (a shared part would cost more than it saves). */
+const EIGH_SHARE_FROM = 96;
+export const JOB_REFLECT_COLUMNS = 2;
+export const JOB_ROTATE_ROWS = 3;
+export const JOB_LOG_ROWS = 4;
+export const JOB_MATVEC_ROWS = 5;
+export const JOB_UPDATE_ROWS = 6;
 
 /** Step k of the reduction: the reflector I − τvv† that zeroes column k below the subdiagonal, kept in A's column k. */
 function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, taus: usize): void {
@@ -95,22 +104,26 @@ function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, 
   store<f64>(v0, re(v0) - alr);
   store<f64>(v0, im(v0) - ali, 8);
   const tau = 2.0 / (2.0 * xnorm * (xnorm + ax0));
-  // p = τ·A22·v, β = (τ/2)·v†p
+  // p = τ·A22·v, then β = (τ/2)·v†p
+  const shared = sharing() && n - k - 1 >= EIGH_SHARE_FROM, mid = (k + 1 + n) >> 1;
+  if (shared) {
+    setArg(0, <u64>a);
+    setArg(1, <u64>n);
+    setArg(2, <u64>k);
+    setArg(3, <u64>v);
+    setArg(4, <u64>p);
+    setArgF(5, tau);
+    setArg(6, <u64>mid);
+    post(JOB_MATVEC_ROWS);
+    matvecRows(a, n, k, v, p, tau, k + 1, mid);
+    if (!join()) matvecRows(a, n, k, v, p, tau, mid, n);
+  } else {
+    matvecRows(a, n, k, v, p, tau, k + 1, n);
+  }
   let beta = 0.0;
   for (let i = k + 1; i < n; i++) {
-    // (A22·v)_i two lanes at a time: Σ a·vr + swap(a)·vi, then (re − im', im + re') from the two sums
-    let accA = f64x2.splat(0), accB = f64x2.splat(0);
-    for (let j = k + 1; j < n; j++) {
-      const m = v128.load(at(a, n, i, j)), o = v + (<usize>j << 4);
-      accA = madd(m, v128.load64_splat(o), accA);
-      accB = madd(v128.shuffle<f64>(m, m, 1, 0), v128.load64_splat(o, 8), accB);
-    }
-    const sum = f64x2.add(accA, f64x2.mul(accB, f64x2(-1.0, 1.0)));
-    const sr = f64x2.extract_lane(sum, 0), si = f64x2.extract_lane(sum, 1);
     const o = p + (<usize>i << 4), vi = v + (<usize>i << 4);
-    store<f64>(o, tau * sr);
-    store<f64>(o, tau * si, 8);
-    beta += re(vi) * tau * sr + im(vi) * tau * si;
+    beta += re(vi) * re(o) + im(vi) * im(o);
   }
   beta *= 0.5 * tau;
   // w = p − β v (in p)
@@ -120,8 +133,45 @@ function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, 
     store<f64>(o, im(o) - beta * im(vi), 8);
   }
   // A22 −= v w† + w v†
-  // v_i·conj(w_j) = (vr, −vr)⊙w_j + (vi, vi)⊙swap(w_j), and likewise w_i·conj(v_j)
+  if (shared) {
+    post(JOB_UPDATE_ROWS); // the same arguments
+    updateRows(a, n, k, v, p, k + 1, mid);
+    if (!join()) updateRows(a, n, k, v, p, mid, n);
+  } else {
+    updateRows(a, n, k, v, p, k + 1, n);
+  }
+  store<f64>(sub + (<usize>k << 4), alr);
+  store<f64>(sub + (<usize>k << 4), ali, 8);
+  store<f64>(taus + (<usize>k << 3), tau);
+  // the reflector's vector replaces column k below the diagonal (no later step reads it)
   for (let i = k + 1; i < n; i++) {
+    const q = at(a, n, i, k), o = v + (<usize>i << 4);
+    store<f64>(q, re(o));
+    store<f64>(q, im(o), 8);
+  }
+}
+
+/** Rows i0…i1−1 of p = τ·A22·v (the trailing block below and right of k). */
+function matvecRows(a: usize, n: i32, k: i32, v: usize, p: usize, tau: f64, i0: i32, i1: i32): void {
+  for (let i = i0; i < i1; i++) {
+    // (A22·v)_i two lanes at a time: Σ a·vr + swap(a)·vi, then (re − im', im + re') from the two sums
+    let accA = f64x2.splat(0), accB = f64x2.splat(0);
+    for (let j = k + 1; j < n; j++) {
+      const m = v128.load(at(a, n, i, j)), o = v + (<usize>j << 4);
+      accA = madd(m, v128.load64_splat(o), accA);
+      accB = madd(v128.shuffle<f64>(m, m, 1, 0), v128.load64_splat(o, 8), accB);
+    }
+    const sum = f64x2.add(accA, f64x2.mul(accB, f64x2(-1.0, 1.0)));
+    const o = p + (<usize>i << 4);
+    store<f64>(o, tau * f64x2.extract_lane(sum, 0));
+    store<f64>(o, tau * f64x2.extract_lane(sum, 1), 8);
+  }
+}
+
+/** Rows i0…i1−1 of A22 −= v w† + w v† (w in p). */
+function updateRows(a: usize, n: i32, k: i32, v: usize, p: usize, i0: i32, i1: i32): void {
+  // v_i·conj(w_j) = (vr, −vr)⊙w_j + (vi, vi)⊙swap(w_j), and likewise w_i·conj(v_j)
+  for (let i = i0; i < i1; i++) {
     const vi = v + (<usize>i << 4), wi = p + (<usize>i << 4);
     const c1 = f64x2(re(vi), -re(vi)), c2 = f64x2.splat(im(vi));
     const d1 = f64x2(re(wi), -re(wi)), d2 = f64x2.splat(im(wi));
@@ -135,15 +185,14 @@ function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, 
       v128.store(q, x);
     }
   }
-  store<f64>(sub + (<usize>k << 4), alr);
-  store<f64>(sub + (<usize>k << 4), ali, 8);
-  store<f64>(taus + (<usize>k << 3), tau);
-  // the reflector's vector replaces column k below the diagonal (no later step reads it)
-  for (let i = k + 1; i < n; i++) {
-    const q = at(a, n, i, k), o = v + (<usize>i << 4);
-    store<f64>(q, re(o));
-    store<f64>(q, im(o), 8);
-  }
+}
+
+/** The helper's parts of a reduction step (arguments as {@link reduceColumn} posts them). */
+export function matvecRowsJob(): void {
+  matvecRows(<usize>arg(0), <i32>arg(1), <i32>arg(2), <usize>arg(3), <usize>arg(4), argF(5), <i32>arg(6), <i32>arg(1));
+}
+export function updateRowsJob(): void {
+  updateRows(<usize>arg(0), <i32>arg(1), <i32>arg(2), <usize>arg(3), <usize>arg(4), <i32>arg(6), <i32>arg(1));
 }
 
 /** Z = H_0·H_1⋯H_{n−3}, accumulated backwards: Z ← H_k·Z touches only the trailing block k+1.. (uses p). */
@@ -153,34 +202,81 @@ function accumulateReflectors(a: usize, n: i32, z: usize, p: usize, taus: usize)
   for (let k = n - 3; k >= 0; k--) {
     const tau = load<f64>(taus + (<usize>k << 3));
     if (tau == 0.0) continue;
-    // p_j = Σ_i conj(v_i)·Z_ij over the trailing block
-    memory.fill(p, 0, <usize>n << 4);
-    // conj(v_i)·z = vr·z + (vi, −vi)⊙swap(z)
-    for (let i = k + 1; i < n; i++) {
-      const vi = at(a, n, i, k);
-      const c1 = f64x2.splat(re(vi)), c2 = f64x2(im(vi), -im(vi));
-      for (let j = k + 1; j < n; j++) {
-        const zq = v128.load(at(z, n, i, j)), o = p + (<usize>j << 4);
-        const x = madd(c1, zq, v128.load(o));
-        v128.store(o, madd(c2, v128.shuffle<f64>(zq, zq, 1, 0), x));
-      }
-    }
-    // Z_ij −= τ·v_i·p_j, with τv_i·p = a·p + (−b, b)⊙swap(p) for τv_i = a + ib
-    for (let i = k + 1; i < n; i++) {
-      const vi = at(a, n, i, k);
-      const c1 = f64x2.splat(tau * re(vi)), c2 = f64x2(-tau * im(vi), tau * im(vi));
-      for (let j = k + 1; j < n; j++) {
-        const q = at(z, n, i, j), pj = v128.load(p + (<usize>j << 4));
-        const x = nmadd(c1, pj, v128.load(q));
-        v128.store(q, nmadd(c2, v128.shuffle<f64>(pj, pj, 1, 0), x));
-      }
+    // the trailing block's columns are independent: the helper may take the right half of them
+    if (sharing() && n - k - 1 >= EIGH_SHARE_FROM) {
+      const mid = (k + 1 + n) >> 1;
+      setArg(0, <u64>a);
+      setArg(1, <u64>n);
+      setArg(2, <u64>z);
+      setArg(3, <u64>p);
+      setArg(4, <u64>k);
+      setArgF(5, tau);
+      setArg(6, <u64>mid);
+      post(JOB_REFLECT_COLUMNS);
+      reflectColumns(a, n, z, p, k, tau, k + 1, mid);
+      if (!join()) reflectColumns(a, n, z, p, k, tau, mid, n);
+    } else {
+      reflectColumns(a, n, z, p, k, tau, k + 1, n);
     }
   }
 }
 
-/** Z ← Z·Q with Q real orthogonal (row-major), row by row of Z through the n-complex buffer row. */
-function multiplyByRotations(z: usize, q: usize, n: i32, row: usize): void {
-  for (let r = 0; r < n; r++) {
+/** The helper's part of {@link accumulateReflectors}. */
+export function reflectColumnsJob(): void {
+  reflectColumns(<usize>arg(0), <i32>arg(1), <usize>arg(2), <usize>arg(3), <i32>arg(4), argF(5), <i32>arg(6), <i32>arg(1));
+}
+
+/** Columns j0…j1−1 of Z ← H_k·Z over the trailing block (p_j for those columns). */
+function reflectColumns(a: usize, n: i32, z: usize, p: usize, k: i32, tau: f64, j0: i32, j1: i32): void {
+  // p_j = Σ_i conj(v_i)·Z_ij over the trailing block
+  memory.fill(p + (<usize>j0 << 4), 0, <usize>(j1 - j0) << 4);
+  // conj(v_i)·z = vr·z + (vi, −vi)⊙swap(z)
+  for (let i = k + 1; i < n; i++) {
+    const vi = at(a, n, i, k);
+    const c1 = f64x2.splat(re(vi)), c2 = f64x2(im(vi), -im(vi));
+    for (let j = j0; j < j1; j++) {
+      const zq = v128.load(at(z, n, i, j)), o = p + (<usize>j << 4);
+      const x = madd(c1, zq, v128.load(o));
+      v128.store(o, madd(c2, v128.shuffle<f64>(zq, zq, 1, 0), x));
+    }
+  }
+  // Z_ij −= τ·v_i·p_j, with τv_i·p = a·p + (−b, b)⊙swap(p) for τv_i = a + ib
+  for (let i = k + 1; i < n; i++) {
+    const vi = at(a, n, i, k);
+    const c1 = f64x2.splat(tau * re(vi)), c2 = f64x2(-tau * im(vi), tau * im(vi));
+    for (let j = j0; j < j1; j++) {
+      const q = at(z, n, i, j), pj = v128.load(p + (<usize>j << 4));
+      const x = nmadd(c1, pj, v128.load(q));
+      v128.store(q, nmadd(c2, v128.shuffle<f64>(pj, pj, 1, 0), x));
+    }
+  }
+}
+
+/** Z ← Z·Q with Q real orthogonal (row-major), row by row of Z through an n-complex buffer (row, or row2 for the
+ * helper's half). */
+function multiplyByRotations(z: usize, q: usize, n: i32, row: usize, row2: usize): void {
+  if (sharing() && n >= EIGH_SHARE_FROM) {
+    const mid = n >> 1;
+    setArg(0, <u64>z);
+    setArg(1, <u64>q);
+    setArg(2, <u64>n);
+    setArg(3, <u64>row2);
+    setArg(4, <u64>mid);
+    post(JOB_ROTATE_ROWS);
+    rotateRows(z, q, n, row, 0, mid);
+    if (!join()) rotateRows(z, q, n, row2, mid, n);
+    return;
+  }
+  rotateRows(z, q, n, row, 0, n);
+}
+
+/** The helper's part of {@link multiplyByRotations}. */
+export function rotateRowsJob(): void {
+  rotateRows(<usize>arg(0), <usize>arg(1), <i32>arg(2), <usize>arg(3), <i32>arg(4), <i32>arg(2));
+}
+
+function rotateRows(z: usize, q: usize, n: i32, row: usize, r0: i32, r1: i32): void {
+  for (let r = r0; r < r1; r++) {
     const zr = z + (<usize>r * n << 4);
     memory.fill(row, 0, <usize>n << 4);
     for (let k = 0; k < n; k++) {
@@ -204,55 +300,99 @@ function multiplyByRotations(z: usize, q: usize, n: i32, row: usize): void {
 @inline function dget(x: usize, i: i32): f64 { return load<f64>(x + (<usize>i << 3)); }
 @inline function dset(x: usize, i: i32, val: f64): void { store<f64>(x + (<usize>i << 3), val); }
 
-// One QL sweep's rotations (c_i, s_i) for i = m−1 down to lo, applied to columns i, i+1 of Q row by row: each
-// entry is read and written once per sweep (the rotated value carried along the row), four rows at a time.
+// The QL sweeps' rotations are logged (each sweep: lo, m, then (c_i, s_i) for i = m−1 down to lo) and applied to
+// Q when the log is full and at the end: rows of Q are independent, so each block of four rows takes every logged
+// sweep in turn while it sits in cache (each entry read and written once per sweep, the rotated value carried
+// along the row), and the helper may take half of the rows.
 // see: Golub & Van Loan, Matrix Computations, §5.1 (applying a sequence of Givens rotations).
-function applySweep(q: usize, n: i32, lo: i32, m: i32, cs: usize, sn: usize): void {
-  if (lo >= m) return;
-  const stride = <usize>n << 3;
-  let k = 0;
-  for (; k + 4 <= n; k += 4) {
-    const r0 = q + <usize>k * stride, r1 = r0 + stride, r2 = r1 + stride, r3 = r2 + stride;
-    let y0 = dget(r0, m), y1 = dget(r1, m), y2 = dget(r2, m), y3 = dget(r3, m);
-    for (let i = m - 1; i >= lo; i--) {
-      const c = dget(cs, i), s = dget(sn, i);
-      const x0 = dget(r0, i), x1 = dget(r1, i), x2 = dget(r2, i), x3 = dget(r3, i);
-      dset(r0, i + 1, s * x0 + c * y0);
-      dset(r1, i + 1, s * x1 + c * y1);
-      dset(r2, i + 1, s * x2 + c * y2);
-      dset(r3, i + 1, s * x3 + c * y3);
-      y0 = c * x0 - s * y0;
-      y1 = c * x1 - s * y1;
-      y2 = c * x2 - s * y2;
-      y3 = c * x3 - s * y3;
-    }
-    dset(r0, lo, y0);
-    dset(r1, lo, y1);
-    dset(r2, lo, y2);
-    dset(r3, lo, y3);
+
+/** Applies the first `used` f64 of the log to Q (n×n, row-major). */
+function applyLog(q: usize, n: i32, log: usize, used: i32): void {
+  if (used == 0) return;
+  if (sharing() && n >= EIGH_SHARE_FROM) {
+    const mid = (n >> 3) << 2; // a multiple of four rows
+    setArg(0, <u64>q);
+    setArg(1, <u64>n);
+    setArg(2, <u64>log);
+    setArg(3, <u64>used);
+    setArg(4, <u64>mid);
+    post(JOB_LOG_ROWS);
+    logRows(q, n, log, used, 0, mid);
+    if (!join()) logRows(q, n, log, used, mid, n);
+    return;
   }
-  for (; k < n; k++) {
-    const r0 = q + <usize>k * stride;
-    let y = dget(r0, m);
-    for (let i = m - 1; i >= lo; i--) {
-      const c = dget(cs, i), s = dget(sn, i), x = dget(r0, i);
-      dset(r0, i + 1, s * x + c * y);
-      y = c * x - s * y;
+  logRows(q, n, log, used, 0, n);
+}
+
+/** The helper's part of {@link applyLog}. */
+export function logRowsJob(): void {
+  logRows(<usize>arg(0), <i32>arg(1), <usize>arg(2), <i32>arg(3), <i32>arg(4), <i32>arg(1));
+}
+
+function logRows(q: usize, n: i32, log: usize, used: i32, k0: i32, k1: i32): void {
+  const stride = <usize>n << 3;
+  let k = k0;
+  for (; k + 4 <= k1; k += 4) {
+    const r0 = q + <usize>k * stride, r1 = r0 + stride, r2 = r1 + stride, r3 = r2 + stride;
+    for (let at = 0; at < used;) {
+      const lo = <i32>dget(log, at), m = <i32>dget(log, at + 1);
+      let cs = log + (<usize>(at + 2) << 3);
+      let y0 = dget(r0, m), y1 = dget(r1, m), y2 = dget(r2, m), y3 = dget(r3, m);
+      for (let i = m - 1; i >= lo; i--) {
+        const c = load<f64>(cs), s = load<f64>(cs, 8);
+        cs += 16;
+        const x0 = dget(r0, i), x1 = dget(r1, i), x2 = dget(r2, i), x3 = dget(r3, i);
+        dset(r0, i + 1, s * x0 + c * y0);
+        dset(r1, i + 1, s * x1 + c * y1);
+        dset(r2, i + 1, s * x2 + c * y2);
+        dset(r3, i + 1, s * x3 + c * y3);
+        y0 = c * x0 - s * y0;
+        y1 = c * x1 - s * y1;
+        y2 = c * x2 - s * y2;
+        y3 = c * x3 - s * y3;
+      }
+      dset(r0, lo, y0);
+      dset(r1, lo, y1);
+      dset(r2, lo, y2);
+      dset(r3, lo, y3);
+      at += 2 + 2 * (m - lo);
     }
-    dset(r0, lo, y);
+  }
+  for (; k < k1; k++) {
+    const r0 = q + <usize>k * stride;
+    for (let at = 0; at < used;) {
+      const lo = <i32>dget(log, at), m = <i32>dget(log, at + 1);
+      let cs = log + (<usize>(at + 2) << 3);
+      let y = dget(r0, m);
+      for (let i = m - 1; i >= lo; i--) {
+        const c = load<f64>(cs), s = load<f64>(cs, 8), x = dget(r0, i);
+        cs += 16;
+        dset(r0, i + 1, s * x + c * y);
+        y = c * x - s * y;
+      }
+      dset(r0, lo, y);
+      at += 2 + 2 * (m - lo);
+    }
   }
 }
 
 // Implicit QL with Wilkinson-type shifts on the real symmetric tridiagonal
-// (d, e), e[i] coupling i and i+1; each sweep's rotations are kept in (cs, sn) and applied to Q at its end.
-function tql(d: usize, e: usize, n: i32, q: usize, cs: usize, sn: usize): i32 {
+// (d, e), e[i] coupling i and i+1; each sweep's rotations go to the log (room for `capacity` f64), applied to Q
+// when it is full and at the end.
+function tql(d: usize, e: usize, n: i32, q: usize, log: usize, capacity: i32): i32 {
+  let used = 0;
+  // A coupling is negligible against its two diagonal entries, or against the tridiagonal's scale max |d_i| + |e_i|
+  // (a change of ε‖T‖, within the solver's backward error): without the second test, a cluster of eigenvalues
+  // near zero (an operator with a large kernel) keeps rounding-level couplings that never pass the first.
+  let scale = 0.0;
+  for (let i = 0; i < n; i++) scale = max(scale, Math.abs(dget(d, i)) + Math.abs(dget(e, i)));
   for (let l = 0; l < n; l++) {
     let iter = 0;
     let m = l;
     do {
       for (m = l; m < n - 1; m++) {
-        const dd = Math.abs(dget(d, m)) + Math.abs(dget(d, m + 1));
-        if (Math.abs(dget(e, m)) <= f64.EPSILON * dd) break;
+        const dd = Math.abs(dget(d, m)) + Math.abs(dget(d, m + 1)), em = Math.abs(dget(e, m));
+        if (em <= f64.EPSILON * dd || em <= 0.5 * f64.EPSILON * scale) break;
       }
       if (m != l) {
         if (iter++ == 60) return 1;
@@ -260,6 +400,11 @@ function tql(d: usize, e: usize, n: i32, q: usize, cs: usize, sn: usize): i32 {
         let r = Math.hypot(g, 1.0);
         g = dget(d, m) - dget(d, l) + dget(e, l) / (g + (g >= 0 ? Math.abs(r) : -Math.abs(r)));
         let s = 1.0, c = 1.0, p = 0.0;
+        if (used + 2 + 2 * (m - l) > capacity) {
+          applyLog(q, n, log, used);
+          used = 0;
+        }
+        let pair = log + (<usize>(used + 2) << 3);
         let i = m - 1;
         for (; i >= l; i--) {
           const f = s * dget(e, i), b = c * dget(e, i);
@@ -277,10 +422,14 @@ function tql(d: usize, e: usize, n: i32, q: usize, cs: usize, sn: usize): i32 {
           p = s * r;
           dset(d, i + 1, g + p);
           g = c * r - b;
-          dset(cs, i, c);
-          dset(sn, i, s);
+          store<f64>(pair, c);
+          store<f64>(pair, s, 8);
+          pair += 16;
         }
-        applySweep(q, n, i + 1, m, cs, sn); // the rotations i+1 … m−1 this sweep made
+        // the rotations i+1 … m−1 this sweep made
+        dset(log, used, <f64>(i + 1));
+        dset(log, used + 1, <f64>m);
+        used += 2 + 2 * (m - i - 1);
         if (r == 0.0 && i >= l) continue;
         dset(d, l, dget(d, l) - p);
         dset(e, l, g);
@@ -288,6 +437,7 @@ function tql(d: usize, e: usize, n: i32, q: usize, cs: usize, sn: usize): i32 {
       }
     } while (m != l);
   }
+  applyLog(q, n, log, used);
   return 0;
 }
 
