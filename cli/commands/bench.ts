@@ -16,6 +16,7 @@ import { eigh, type Engine, type Kernel, loadEngine, solve } from "../../engine/
 import { mathjsScheme } from "./_mathjs_scheme.ts";
 import { dense, drivenModel, timeIndependent, twoLevel } from "./_bench_cases.ts";
 import { scipyRows } from "./_bench_scipy.ts";
+import { startupRows } from "./_bench_startup.ts";
 import { compileExpression } from "../case/expression.ts";
 import { seeded } from "../base/seeded.ts";
 
@@ -88,7 +89,8 @@ export async function benchCommand(): Promise<number> {
     ...propagatorRows(engine),
     ...(await sparseRows()),
     await memoryRow(),
-    ...await scipyRows(engine, log),
+    ...await startupRows(log),
+    ...await scipyRows(log),
   ];
   console.log(table(rows));
   console.log(
