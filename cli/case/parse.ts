@@ -117,9 +117,15 @@ function readBounded(file: string, limit: number): string {
     if (handle.statSync().isDirectory) {
       throw new CaseError("is a folder, not a case file", [], "give the path of a .toml or .json case file");
     }
-    const buffer = new Uint8Array(limit + 1);
+    // a buffer that grows with what is read (a case is small: no 16 MiB up front)
+    let buffer = new Uint8Array(64 * 1024);
     let size = 0;
-    while (size < buffer.length) {
+    while (size <= limit) {
+      if (size === buffer.length) {
+        const larger = new Uint8Array(Math.min(2 * buffer.length, limit + 1));
+        larger.set(buffer);
+        buffer = larger;
+      }
       const n = handle.readSync(buffer.subarray(size));
       if (n === null || n === 0) break;
       size += n;

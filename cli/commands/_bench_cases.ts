@@ -167,3 +167,24 @@ export function sparseModel(
     accuracy,
   };
 }
+
+/** A case file of the dense driven model, for `ordo run` as a user runs it. */
+export function caseText(model: BaselineModel, accuracy: number): string {
+  const matrix = (m: number[][][]) =>
+    "[\n" + m.map((row) => `  [${row.map(([re, im]) => `[${re}, ${im}]`).join(", ")}]`).join(",\n") + "\n]";
+  return `title = "bench: driven dense d=${model.dim}"
+[unperturbed]
+matrix = ${matrix(model.h0)}
+[perturbation]
+matrix = ${matrix(model.v)}
+coef = "exp(-0.5*((t - 10)/3)^2)*cos(1.1*t)"
+[start]
+state = "0"
+[grid]
+t_end = ${model.tEnd}
+accuracy = ${accuracy}
+samples = 2
+[series]
+order = ${model.order}
+`;
+}

@@ -12,8 +12,9 @@
 
 import { type Engine, loadEngine, populationsAt, type Result, solve } from "../../engine/mod.ts";
 import type { BaselineModel } from "./_mathjs_scheme.ts";
-import { dense, drivenModel, timeIndependent } from "./_bench_cases.ts";
+import { caseText, dense, drivenModel, timeIndependent } from "./_bench_cases.ts";
 import { readCase } from "../case/parse.ts";
+import { ORDO_RUN } from "./_bench_startup.ts";
 import { buildCase } from "../case/build.ts";
 
 const SCRIPT = new URL("../../bench/scipy_dyson.py", import.meta.url).pathname;
@@ -183,27 +184,6 @@ async function drivenRow(
   );
 }
 
-/** A case file of the dense driven model, for `ordo run` as a user runs it. */
-export function caseText(model: BaselineModel, accuracy: number): string {
-  const matrix = (m: number[][][]) =>
-    "[\n" + m.map((row) => `  [${row.map(([re, im]) => `[${re}, ${im}]`).join(", ")}]`).join(",\n") + "\n]";
-  return `title = "bench: driven dense d=${model.dim}"
-[unperturbed]
-matrix = ${matrix(model.h0)}
-[perturbation]
-matrix = ${matrix(model.v)}
-coef = "exp(-0.5*((t - 10)/3)^2)*cos(1.1*t)"
-[start]
-state = "0"
-[grid]
-t_end = ${model.tEnd}
-accuracy = ${accuracy}
-samples = 2
-[series]
-order = ${model.order}
-`;
-}
-
 /** Whole processes: `ordo run CASE` (deno run, as the task runs it) against `python3 bench/scipy_dyson.py`. */
 async function wholeProcessRow(
   d: number,
@@ -247,10 +227,7 @@ async function wholeProcessRow(
   for (let k = 0; k < REPEATS; k++) {
     mine.push(
       await timed(Deno.execPath(), [
-        "run",
-        "--allow-read",
-        "--allow-write",
-        "--allow-sys=hostname",
+        ...ORDO_RUN,
         main,
         "run",
         file,

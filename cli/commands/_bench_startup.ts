@@ -6,18 +6,20 @@
  * @module
  */
 
-import { caseText } from "./_bench_scipy.ts";
-import { dense } from "./_bench_cases.ts";
+import { caseText, dense } from "./_bench_cases.ts";
 
 const ROOT = new URL("../../", import.meta.url).pathname;
-const ORDO = [
+/** `deno run` as the `ordo` task runs it (deno.json): its permissions and its V8 flag. */
+export const ORDO_RUN = [
   "run",
   "--allow-read",
   "--allow-write",
   "--allow-sys=hostname",
   "--allow-env=INIT_CWD",
-  ROOT + "cli/main.ts",
+  // a young generation of at most 1 MB: a short run never grows it to 16 MB (the peak memory row)
+  "--v8-flags=--max-semi-space-size=1",
 ];
+const ORDO = [...ORDO_RUN, ROOT + "cli/main.ts"];
 const REPEATS = 5;
 
 /** Wall time of one `ordo ARGS` in ms, and its peak resident memory in KiB when /usr/bin/time can tell. */
