@@ -173,8 +173,9 @@ function check(code: number): void {
 /** Options of {@link loadEngine}. */
 export interface EngineOptions {
   /**
-   * Start a helper thread (a worker with a second instance on the same memory) that takes half of each large
-   * matrix product. Deno only; call {@link Engine.close} when done. Default: no helper.
+   * Start a helper thread (a worker with a second instance of the shared build on the same memory) that takes
+   * half of each large matrix product. Deno only (elsewhere the plain build runs alone); call
+   * {@link Engine.close} when done. Default: no helper.
    */
   helper?: boolean;
 }
@@ -185,26 +186,28 @@ const MAX_PAGES = 65536;
 /**
  * Instantiates the engine.
  *
- * @param wasm the module bytes; default: `ordo.wasm` beside this file
+ * @param wasm the module bytes; default: `ordo.wasm` beside this file (`ordo_shared.wasm` with a helper)
  * @param options see {@link EngineOptions}
  * @returns an engine ready for {@link solve}
  */
 export async function loadEngine(wasm?: BufferSource, options: EngineOptions = {}): Promise<Engine> {
-  const bytes = wasm ?? await readWasm();
+  // deno-lint-ignore no-explicit-any
+  const deno = (globalThis as any).Deno !== undefined;
+  const bytes = wasm ?? await readWasm(options.helper && deno ? "ordo_shared.wasm" : "ordo.wasm");
   const module = await WebAssembly.compile(bytes);
-  // Shared memory, so that a helper thread can work on the same arrays.
-  const memory = new WebAssembly.Memory({ initial: 2, maximum: MAX_PAGES, shared: true });
+  // The shared build imports its memory (shared, so that a helper thread can work on the same arrays).
+  const shared = WebAssembly.Module.imports(module).some((i) => i.kind === "memory");
+  const memory = shared ? new WebAssembly.Memory({ initial: 2, maximum: MAX_PAGES, shared: true }) : undefined;
   const instance = await WebAssembly.instantiate(module, {
     env: {
-      memory,
+      ...(memory ? { memory } : {}),
       abort(_msg: number, _file: number, line: number, column: number) {
         throw new EngineError(`engine aborted at ${line}:${column}`);
       },
     },
   });
   const exports = instance.exports as unknown as Exports;
-  // deno-lint-ignore no-explicit-any
-  const helper = options.helper && (globalThis as any).Deno ? await startHelper(module, memory) : undefined;
+  const helper = options.helper && deno && memory ? await startHelper(module, memory) : undefined;
   if (helper) exports.useHelper(1);
   return {
     exports,
@@ -236,8 +239,8 @@ async function startHelper(
   return undefined;
 }
 
-async function readWasm(): Promise<Uint8Array<ArrayBuffer>> {
-  const url = new URL("./ordo.wasm", import.meta.url);
+async function readWasm(name: string): Promise<Uint8Array<ArrayBuffer>> {
+  const url = new URL(`./${name}`, import.meta.url);
   try {
     // deno-lint-ignore no-explicit-any
     const deno = (globalThis as any).Deno;

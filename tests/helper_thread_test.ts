@@ -126,3 +126,20 @@ Deno.test("the eigensolver with the helper thread (d = 200): bit-for-bit the one
     shared.close();
   }
 });
+
+Deno.test("the plain build owns its memory (no shared memory needed: Node, browsers); the shared build imports one", async () => {
+  const imports = async (name: string) =>
+    WebAssembly.Module.imports(
+      await WebAssembly.compile(await Deno.readFile(new URL(`../engine/${name}`, import.meta.url))),
+    );
+  assert(!(await imports("ordo.wasm")).some((i) => i.kind === "memory"), "ordo.wasm imports a memory");
+  assert(
+    (await imports("ordo_shared.wasm")).some((i) => i.kind === "memory"),
+    "ordo_shared.wasm owns its memory",
+  );
+  const plain = await loadEngine();
+  assert(
+    !(plain.exports.memory.buffer instanceof SharedArrayBuffer),
+    "the default engine runs on shared memory",
+  );
+});
