@@ -80,6 +80,7 @@ interface Exports {
   stopHelper(): void;
   peakLoop(iterations: number, x0: number, dy: number): number;
   eigh(a: number, n: number, w: number, z: number, work: number): number;
+  eigvalsh(a: number, n: number, w: number, work: number): number;
   init(
     dim: number,
     order: number,
@@ -197,7 +198,9 @@ export async function loadEngine(wasm?: BufferSource, options: EngineOptions = {
   const module = await WebAssembly.compile(bytes);
   // The shared build imports its memory (shared, so that a helper thread can work on the same arrays).
   const shared = WebAssembly.Module.imports(module).some((i) => i.kind === "memory");
-  const memory = shared ? new WebAssembly.Memory({ initial: 2, maximum: MAX_PAGES, shared: true }) : undefined;
+  const memory = shared
+    ? new WebAssembly.Memory({ initial: 2, maximum: MAX_PAGES, shared: true })
+    : undefined;
   const instance = await WebAssembly.instantiate(module, {
     env: {
       ...(memory ? { memory } : {}),
@@ -552,6 +555,24 @@ function sumTerms(terms: OperatorTerm[], d: number): OperatorTerm {
     }
   }
   return { matrix: m, coefficient: { kind: "constant", re: 1, im: 0 } };
+}
+
+/**
+ * Eigenvalues of a Hermitian matrix with the engine's solver (no eigenvectors: a fraction of {@link eigh}'s work).
+ *
+ * @param engine a loaded engine
+ * @param matrix d×d, row-major, interleaved (re, im)
+ * @param d the dimension
+ * @returns the eigenvalues, ascending
+ */
+export function eigenvalues(engine: Engine, matrix: Float64Array, d: number): Float64Array {
+  const e = engine.exports;
+  e.arenaReset();
+  const a = e.arenaAlloc(16 * d * d), w = e.arenaAlloc(8 * d), work = e.arenaAlloc(64 * d);
+  if (!a || !w || !work) check(1);
+  new Float64Array(e.memory.buffer, a, 2 * d * d).set(matrix);
+  check(e.eigvalsh(a, d, w, work) === 0 ? 0 : 2);
+  return new Float64Array(e.memory.buffer, w, d).slice();
 }
 
 /**

@@ -4,7 +4,7 @@
 import { all, type Complex as MathComplex, create, type Matrix } from "mathjs";
 import { assert } from "./assert.ts";
 import { assertClose, randomHermitian, seeded, testEngine } from "./helpers.ts";
-import { eigh, multiply, solve } from "../engine/mod.ts";
+import { eigenvalues, eigh, multiply, solve } from "../engine/mod.ts";
 import { constantModel } from "./engine_helpers.ts";
 
 const math = create(all!);
@@ -407,4 +407,28 @@ Deno.test("eigh of a rank-8 Hermitian matrix (d = 128, a 120-fold eigenvalue 0) 
     }
   }
   assertClose(residual, 0, { abs: 1e-12 * norm }, "‖Az − λz‖");
+});
+
+Deno.test("eigenvalues() (no eigenvectors) of complex Hermitian matrices agree with mathjs eigs on their real 2d×2d form", async () => {
+  // A fact of linear algebra: A = X + iY Hermitian ⇔ [[X, −Y], [Y, X]] real symmetric, with every eigenvalue
+  // of A twice.
+  const engine = await testEngine();
+  const random = seeded(31);
+  for (const d of [1, 2, 5, 12, 30]) {
+    const a = randomHermitian(d, random, 1);
+    const mine = eigenvalues(engine, a, d);
+    const real = Array.from(
+      { length: 2 * d },
+      (_, i) =>
+        Array.from({ length: 2 * d }, (_, j) => {
+          const [r, c] = [i % d, j % d], x = a[2 * (r * d + c)]!, y = a[2 * (r * d + c) + 1]!;
+          return i < d === j < d ? x : i < d ? -y : y;
+        }),
+    );
+    const theirs = (math.eigs(real).values as number[]).slice().sort((p, q) => p - q);
+    mine.forEach((x, k) => {
+      assertClose(x, theirs[2 * k]!, { abs: 1e-11 * d }, `d=${d} eigenvalue ${k}`);
+      assertClose(x, theirs[2 * k + 1]!, { abs: 1e-11 * d }, `d=${d} eigenvalue ${k} (its twin)`);
+    });
+  }
 });

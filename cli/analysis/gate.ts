@@ -24,7 +24,7 @@
 import { ComplexMatrix } from "../case/complex_matrix.ts";
 import { WHOLE_PROPAGATOR_MAX_DIM } from "../case/start.ts";
 import type { BuiltCase } from "../case/build.ts";
-import { eigh, type Engine, type Model, type Result, type Scheme } from "../../engine/mod.ts";
+import { eigenvalues, type Engine, type Model, type Result, type Scheme } from "../../engine/mod.ts";
 
 /** The largest space whose whole propagator a gate run follows (for the Magnus terms). */
 export const MAGNUS_MAX_DIM = WHOLE_PROPAGATOR_MAX_DIM;
@@ -152,7 +152,7 @@ export function averageFidelity(x: ComplexMatrix, y: ComplexMatrix): number {
  */
 export function spectralNorm(engine: Engine, a: ComplexMatrix): number {
   const gram = a.dagger().mul(a);
-  const { values } = eigh(engine, gram.data, gram.rows);
+  const values = eigenvalues(engine, gram.data, gram.rows);
   return Math.sqrt(Math.max(0, values[values.length - 1]!));
 }
 

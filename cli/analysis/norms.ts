@@ -9,7 +9,7 @@
 import { type AssembledTerm, coefAt } from "../case/terms.ts";
 import { ComplexMatrix, type Operator } from "../case/complex_matrix.ts";
 import { SparseComplexMatrix } from "../case/sparse_matrix.ts";
-import { eigh, type Engine, multiply } from "../../engine/mod.ts";
+import { eigenvalues, type Engine, multiply } from "../../engine/mod.ts";
 import type { Model } from "../../engine/model.ts";
 
 /** The running norm integral and the coefficient rates over a window. */
@@ -105,21 +105,43 @@ function boundParts(engine: Engine, vTerms: AssembledTerm[], d: number): BoundPa
   return parts;
 }
 
-/** ‖H‖₂ = max |eigenvalue| of a Hermitian matrix; for a sparse one the bound ‖H‖∞ (no eigensolver on O(d²)). */
+/**
+ * ‖H‖₂ = max |eigenvalue| of a Hermitian matrix (the eigenvalues alone: exact, where a few power iterations
+ * would only approach it from below, and a bound must not be too small); for a sparse one the bound ‖H‖∞ (no
+ * eigensolver on O(d²)).
+ */
 function hermitianNorm(engine: Engine, h: Operator): number {
   if (h instanceof SparseComplexMatrix) return h.normInf();
   const dense = h as ComplexMatrix;
-  const values = eigh(engine, dense.data, dense.rows).values;
+  const values = eigenvalues(engine, dense.data, dense.rows);
   return Math.max(Math.abs(values[0]!), Math.abs(values[values.length - 1]!));
 }
 
-/** ‖M‖₂ = √(largest eigenvalue of M†M); for a sparse M the bound √(‖M‖₁‖M‖∞). */
+/** ‖M‖₂: as {@link hermitianNorm} when M is Hermitian, else √(largest eigenvalue of M†M); for a sparse M the
+ * bound √(‖M‖₁‖M‖∞). */
 function operatorNorm(engine: Engine, m: Operator): number {
   if (m instanceof SparseComplexMatrix) return Math.sqrt(m.normInf() * m.dagger().normInf());
   const dense = m as ComplexMatrix;
-  const values =
-    eigh(engine, multiply(engine, dense.dagger().data, dense.data, dense.rows), dense.rows).values;
+  if (isHermitian(dense)) return hermitianNorm(engine, dense);
+  const values = eigenvalues(
+    engine,
+    multiply(engine, dense.dagger().data, dense.data, dense.rows),
+    dense.rows,
+  );
   return Math.sqrt(Math.max(0, values[values.length - 1]!));
+}
+
+/** Whether a dense matrix equals its adjoint exactly (as written Hermitian matrices do). */
+function isHermitian(m: ComplexMatrix): boolean {
+  const d = m.rows, a = m.data;
+  for (let i = 0; i < d; i++) {
+    for (let j = i; j < d; j++) {
+      if (a[2 * (i * d + j)] !== a[2 * (j * d + i)] || a[2 * (i * d + j) + 1] !== -a[2 * (j * d + i) + 1]!) {
+        return false;
+      }
+    }
+  }
+  return true;
 }
 
 /**

@@ -68,6 +68,37 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
   return 0;
 }
 
+/**
+ * Eigenvalues only (ascending, into w) of a Hermitian n×n matrix: the same reduction and QL, without
+ * eigenvectors (no reflector accumulation, no rotations kept). A is destroyed; work: at least 8n f64. Returns 0,
+ * or 1 when the QL iteration did not converge.
+ */
+export function eigvalsh(a: usize, n: i32, w: usize, work: usize): i32 {
+  const v = work, p = work + (<usize>n << 4), e = work + (<usize>n << 5);
+  const sub = e + (<usize>n << 3), taus = sub + (<usize>n << 4);
+  for (let k = 0; k < n - 2; k++) reduceColumn(a, n, k, v, p, sub, taus);
+  if (n >= 2) {
+    const q = at(a, n, n - 1, n - 2), o = sub + (<usize>(n - 2) << 4);
+    store<f64>(o, re(q));
+    store<f64>(o, im(q), 8);
+  }
+  // the subdiagonal's moduli (a diagonal phase change makes it real; it changes no eigenvalue)
+  for (let i = 0; i < n; i++) {
+    store<f64>(w + (<usize>i << 3), re(at(a, n, i, i)));
+    const o = sub + (<usize>i << 4);
+    store<f64>(e + (<usize>i << 3), i < n - 1 ? Math.hypot(re(o), im(o)) : 0.0);
+  }
+  if (tql(w, e, n, 0, 0, 0) != 0) return 1;
+  // insertion sort (n values)
+  for (let i = 1; i < n; i++) {
+    const x = dget(w, i);
+    let j = i - 1;
+    for (; j >= 0 && dget(w, j) > x; j--) dset(w, j + 1, dget(w, j));
+    dset(w, j + 1, x);
+  }
+  return 0;
+}
+
 /** Below this dimension the eigensolver works alone (a shared part would cost more than it saves). */
 const EIGH_SHARE_FROM = 96;
 export const JOB_REFLECT_COLUMNS = 2;
@@ -378,7 +409,7 @@ function logRows(q: usize, n: i32, log: usize, used: i32, k0: i32, k1: i32): voi
 
 // Implicit QL with Wilkinson-type shifts on the real symmetric tridiagonal
 // (d, e), e[i] coupling i and i+1; each sweep's rotations go to the log (room for `capacity` f64), applied to Q
-// when it is full and at the end.
+// when it is full and at the end. With q = 0, eigenvalues only (no log, no Q).
 function tql(d: usize, e: usize, n: i32, q: usize, log: usize, capacity: i32): i32 {
   let used = 0;
   // A coupling is negligible against its two diagonal entries, or against the tridiagonal's scale max |d_i| + |e_i|
@@ -400,7 +431,7 @@ function tql(d: usize, e: usize, n: i32, q: usize, log: usize, capacity: i32): i
         let r = Math.hypot(g, 1.0);
         g = dget(d, m) - dget(d, l) + dget(e, l) / (g + (g >= 0 ? Math.abs(r) : -Math.abs(r)));
         let s = 1.0, c = 1.0, p = 0.0;
-        if (used + 2 + 2 * (m - l) > capacity) {
+        if (q != 0 && used + 2 + 2 * (m - l) > capacity) {
           applyLog(q, n, log, used);
           used = 0;
         }
@@ -422,13 +453,17 @@ function tql(d: usize, e: usize, n: i32, q: usize, log: usize, capacity: i32): i
           p = s * r;
           dset(d, i + 1, g + p);
           g = c * r - b;
-          store<f64>(pair, c);
-          store<f64>(pair, s, 8);
-          pair += 16;
+          if (q != 0) {
+            store<f64>(pair, c);
+            store<f64>(pair, s, 8);
+            pair += 16;
+          }
         }
         // the rotations i+1 … m−1 this sweep made
-        dset(log, used, <f64>(i + 1));
-        dset(log, used + 1, <f64>m);
+        if (q != 0) {
+          dset(log, used, <f64>(i + 1));
+          dset(log, used + 1, <f64>m);
+        }
         used += 2 + 2 * (m - i - 1);
         if (r == 0.0 && i >= l) continue;
         dset(d, l, dget(d, l) - p);
@@ -437,7 +472,7 @@ function tql(d: usize, e: usize, n: i32, q: usize, log: usize, capacity: i32): i
       }
     } while (m != l);
   }
-  applyLog(q, n, log, used);
+  if (q != 0) applyLog(q, n, log, used);
   return 0;
 }
 

@@ -13,7 +13,7 @@ export {
   zgemvRef,
   zgemvSimd,
 } from "./kernels";
-export { eigh } from "./eigh";
+export { eigh, eigvalsh } from "./eigh";
 export {
   advance,
   advanceExact,
