@@ -11,6 +11,11 @@ self.onmessage = async (event: MessageEvent<{ module: WebAssembly.Module; memory
   const { module, memory } = event.data;
   const instance = await WebAssembly.instantiate(module, { env: { memory, abort() {} } });
   self.postMessage("ready");
-  (instance.exports.helperLoop as () => void)();
+  try {
+    (instance.exports.helperLoop as () => void)();
+  } catch {
+    // a trap in a block: tell the caller (it must not wait for the block forever), and stop
+    (instance.exports.helperFailed as () => void)();
+  }
   self.close();
 };

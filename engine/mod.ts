@@ -76,6 +76,7 @@ interface Exports {
   ): void;
   packedScratchBytes(d: number, r: number): number;
   useHelper(on: number): void;
+  helperFailed(): void;
   helperJobs(): number;
   stopHelper(): void;
   peakLoop(iterations: number, x0: number, dy: number): number;
@@ -201,15 +202,19 @@ export async function loadEngine(wasm?: BufferSource, options: EngineOptions = {
   const memory = shared
     ? new WebAssembly.Memory({ initial: 2, maximum: MAX_PAGES, shared: true })
     : undefined;
+  let own: WebAssembly.Memory | undefined; // the plain build's memory, once instantiated
   const instance = await WebAssembly.instantiate(module, {
     env: {
       ...(memory ? { memory } : {}),
-      abort(_msg: number, _file: number, line: number, column: number) {
-        throw new EngineError(`engine aborted at ${line}:${column}`);
+      abort(message: number, _file: number, line: number, column: number) {
+        const from = memory ?? own;
+        const text = message && from ? readString(from, message) : "";
+        throw new EngineError(`engine aborted at ${line}:${column}${text ? `: ${text}` : ""}`);
       },
     },
   });
   const exports = instance.exports as unknown as Exports;
+  own = exports.memory;
   const helper = options.helper && deno && memory ? await startHelper(module, memory) : undefined;
   if (helper) exports.useHelper(1);
   return {
@@ -221,6 +226,12 @@ export async function loadEngine(wasm?: BufferSource, options: EngineOptions = {
       helper.terminate();
     },
   };
+}
+
+/** An AssemblyScript string (UTF-16, its byte length in the 4 bytes before it) out of the engine's memory. */
+function readString(memory: WebAssembly.Memory, pointer: number): string {
+  const bytes = new Uint32Array(memory.buffer, pointer - 4, 1)[0]!;
+  return String.fromCharCode(...new Uint16Array(memory.buffer.slice(pointer, pointer + bytes)));
 }
 
 /** The helper thread: a worker running the module's job loop on the shared memory. */

@@ -3,7 +3,7 @@
 // run on one thread: splitting rows between threads must not change a single bit (each row is computed by the
 // same code in the same order either way).
 import { all, type Complex as MathComplex, create } from "mathjs";
-import { assert } from "./assert.ts";
+import { assert, assertEqual } from "./assert.ts";
 import { randomHermitian, seeded } from "./helpers.ts";
 import { eigh, loadEngine, multiply, type Result, solve, wantsHelper } from "../engine/mod.ts";
 import { dense, drivenModel } from "../cli/commands/_bench_cases.ts";
@@ -142,4 +142,18 @@ Deno.test("the plain build owns its memory (no shared memory needed: Node, brows
     !(plain.exports.memory.buffer instanceof SharedArrayBuffer),
     "the default engine runs on shared memory",
   );
+});
+
+Deno.test("after the helper has failed, runs work alone (same numbers, no hang)", async () => {
+  const model = { ...drivenModel(dense(128), 1), accuracy: 1e-6, samples: 3 };
+  const alone = await loadEngine(), shared = await loadEngine(undefined, { helper: true });
+  try {
+    shared.exports.helperFailed(); // as its worker reports a trap in a block
+    const before = shared.exports.helperJobs();
+    assert(same(solve(shared, model), solve(alone, model)), "the result changed");
+    assertEqual(shared.exports.helperJobs(), before, "blocks the failed helper took");
+  } finally {
+    alone.close();
+    shared.close();
+  }
 });

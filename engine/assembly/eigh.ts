@@ -8,7 +8,7 @@
 // and ch. 8; the QL iteration is the classic tql2/tqli form.
 
 import { madd, nmadd } from "./kernels";
-import { arg, argF, join, post, setArg, setArgF, sharing } from "./share";
+import { arg, argF, blockDone, blockEnd, blockSize, claim, post, setArg, setArgF, sharing, waitAll } from "./share";
 
 @inline function re(p: usize): f64 { return load<f64>(p); }
 @inline function im(p: usize): f64 { return load<f64>(p, 8); }
@@ -136,7 +136,7 @@ function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, 
   store<f64>(v0, im(v0) - ali, 8);
   const tau = 2.0 / (2.0 * xnorm * (xnorm + ax0));
   // p = τ·A22·v, then β = (τ/2)·v†p
-  const shared = sharing() && n - k - 1 >= EIGH_SHARE_FROM, mid = (k + 1 + n) >> 1;
+  const shared = sharing() && n - k - 1 >= EIGH_SHARE_FROM, block = blockSize(n - k - 1, 16, 4);
   if (shared) {
     setArg(0, <u64>a);
     setArg(1, <u64>n);
@@ -144,10 +144,12 @@ function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, 
     setArg(3, <u64>v);
     setArg(4, <u64>p);
     setArgF(5, tau);
-    setArg(6, <u64>mid);
-    post(JOB_MATVEC_ROWS);
-    matvecRows(a, n, k, v, p, tau, k + 1, mid);
-    if (!join()) matvecRows(a, n, k, v, p, tau, mid, n);
+    const job = post(JOB_MATVEC_ROWS, k + 1, n, block);
+    for (let s = claim(job); s >= 0; s = claim(job)) {
+      matvecRows(a, n, k, v, p, tau, s, blockEnd(s));
+      blockDone();
+    }
+    waitAll(job);
   } else {
     matvecRows(a, n, k, v, p, tau, k + 1, n);
   }
@@ -165,9 +167,12 @@ function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, 
   }
   // A22 −= v w† + w v†
   if (shared) {
-    post(JOB_UPDATE_ROWS); // the same arguments
-    updateRows(a, n, k, v, p, k + 1, mid);
-    if (!join()) updateRows(a, n, k, v, p, mid, n);
+    const job = post(JOB_UPDATE_ROWS, k + 1, n, block); // the same arguments
+    for (let s = claim(job); s >= 0; s = claim(job)) {
+      updateRows(a, n, k, v, p, s, blockEnd(s));
+      blockDone();
+    }
+    waitAll(job);
   } else {
     updateRows(a, n, k, v, p, k + 1, n);
   }
@@ -218,12 +223,12 @@ function updateRows(a: usize, n: i32, k: i32, v: usize, p: usize, i0: i32, i1: i
   }
 }
 
-/** The helper's parts of a reduction step (arguments as {@link reduceColumn} posts them). */
-export function matvecRowsJob(): void {
-  matvecRows(<usize>arg(0), <i32>arg(1), <i32>arg(2), <usize>arg(3), <usize>arg(4), argF(5), <i32>arg(6), <i32>arg(1));
+/** The helper's blocks of a reduction step (arguments as {@link reduceColumn} posts them). */
+export function matvecRowsJob(i0: i32, i1: i32): void {
+  matvecRows(<usize>arg(0), <i32>arg(1), <i32>arg(2), <usize>arg(3), <usize>arg(4), argF(5), i0, i1);
 }
-export function updateRowsJob(): void {
-  updateRows(<usize>arg(0), <i32>arg(1), <i32>arg(2), <usize>arg(3), <usize>arg(4), <i32>arg(6), <i32>arg(1));
+export function updateRowsJob(i0: i32, i1: i32): void {
+  updateRows(<usize>arg(0), <i32>arg(1), <i32>arg(2), <usize>arg(3), <usize>arg(4), i0, i1);
 }
 
 /** Z = H_0·H_1⋯H_{n−3}, accumulated backwards: Z ← H_k·Z touches only the trailing block k+1.. (uses p). */
@@ -233,28 +238,29 @@ function accumulateReflectors(a: usize, n: i32, z: usize, p: usize, taus: usize)
   for (let k = n - 3; k >= 0; k--) {
     const tau = load<f64>(taus + (<usize>k << 3));
     if (tau == 0.0) continue;
-    // the trailing block's columns are independent: the helper may take the right half of them
+    // the trailing block's columns are independent: the helper may take some of them
     if (sharing() && n - k - 1 >= EIGH_SHARE_FROM) {
-      const mid = (k + 1 + n) >> 1;
       setArg(0, <u64>a);
       setArg(1, <u64>n);
       setArg(2, <u64>z);
       setArg(3, <u64>p);
       setArg(4, <u64>k);
       setArgF(5, tau);
-      setArg(6, <u64>mid);
-      post(JOB_REFLECT_COLUMNS);
-      reflectColumns(a, n, z, p, k, tau, k + 1, mid);
-      if (!join()) reflectColumns(a, n, z, p, k, tau, mid, n);
+      const job = post(JOB_REFLECT_COLUMNS, k + 1, n, blockSize(n - k - 1, 16, 4));
+      for (let s = claim(job); s >= 0; s = claim(job)) {
+        reflectColumns(a, n, z, p, k, tau, s, blockEnd(s));
+        blockDone();
+      }
+      waitAll(job);
     } else {
       reflectColumns(a, n, z, p, k, tau, k + 1, n);
     }
   }
 }
 
-/** The helper's part of {@link accumulateReflectors}. */
-export function reflectColumnsJob(): void {
-  reflectColumns(<usize>arg(0), <i32>arg(1), <usize>arg(2), <usize>arg(3), <i32>arg(4), argF(5), <i32>arg(6), <i32>arg(1));
+/** The helper's blocks of {@link accumulateReflectors}. */
+export function reflectColumnsJob(j0: i32, j1: i32): void {
+  reflectColumns(<usize>arg(0), <i32>arg(1), <usize>arg(2), <usize>arg(3), <i32>arg(4), argF(5), j0, j1);
 }
 
 /** Columns j0…j1−1 of Z ← H_k·Z over the trailing block (p_j for those columns). */
@@ -287,23 +293,24 @@ function reflectColumns(a: usize, n: i32, z: usize, p: usize, k: i32, tau: f64, 
  * helper's half). */
 function multiplyByRotations(z: usize, q: usize, n: i32, row: usize, row2: usize): void {
   if (sharing() && n >= EIGH_SHARE_FROM) {
-    const mid = n >> 1;
     setArg(0, <u64>z);
     setArg(1, <u64>q);
     setArg(2, <u64>n);
     setArg(3, <u64>row2);
-    setArg(4, <u64>mid);
-    post(JOB_ROTATE_ROWS);
-    rotateRows(z, q, n, row, 0, mid);
-    if (!join()) rotateRows(z, q, n, row2, mid, n);
+    const job = post(JOB_ROTATE_ROWS, 0, n, blockSize(n, 16, 1));
+    for (let s = claim(job); s >= 0; s = claim(job)) {
+      rotateRows(z, q, n, row, s, blockEnd(s));
+      blockDone();
+    }
+    waitAll(job);
     return;
   }
   rotateRows(z, q, n, row, 0, n);
 }
 
-/** The helper's part of {@link multiplyByRotations}. */
-export function rotateRowsJob(): void {
-  rotateRows(<usize>arg(0), <usize>arg(1), <i32>arg(2), <usize>arg(3), <i32>arg(4), <i32>arg(2));
+/** The helper's blocks of {@link multiplyByRotations} (through its own row buffer). */
+export function rotateRowsJob(r0: i32, r1: i32): void {
+  rotateRows(<usize>arg(0), <usize>arg(1), <i32>arg(2), <usize>arg(3), r0, r1);
 }
 
 function rotateRows(z: usize, q: usize, n: i32, row: usize, r0: i32, r1: i32): void {
@@ -341,23 +348,24 @@ function rotateRows(z: usize, q: usize, n: i32, row: usize, r0: i32, r1: i32): v
 function applyLog(q: usize, n: i32, log: usize, used: i32): void {
   if (used == 0) return;
   if (sharing() && n >= EIGH_SHARE_FROM) {
-    const mid = (n >> 3) << 2; // a multiple of four rows
     setArg(0, <u64>q);
     setArg(1, <u64>n);
     setArg(2, <u64>log);
     setArg(3, <u64>used);
-    setArg(4, <u64>mid);
-    post(JOB_LOG_ROWS);
-    logRows(q, n, log, used, 0, mid);
-    if (!join()) logRows(q, n, log, used, mid, n);
+    const job = post(JOB_LOG_ROWS, 0, n, blockSize(n, 16, 4)); // blocks of whole fours of rows
+    for (let s = claim(job); s >= 0; s = claim(job)) {
+      logRows(q, n, log, used, s, blockEnd(s));
+      blockDone();
+    }
+    waitAll(job);
     return;
   }
   logRows(q, n, log, used, 0, n);
 }
 
-/** The helper's part of {@link applyLog}. */
-export function logRowsJob(): void {
-  logRows(<usize>arg(0), <i32>arg(1), <usize>arg(2), <i32>arg(3), <i32>arg(4), <i32>arg(1));
+/** The helper's blocks of {@link applyLog}. */
+export function logRowsJob(k0: i32, k1: i32): void {
+  logRows(<usize>arg(0), <i32>arg(1), <usize>arg(2), <i32>arg(3), k0, k1);
 }
 
 function logRows(q: usize, n: i32, log: usize, used: i32, k0: i32, k1: i32): void {

@@ -44,7 +44,7 @@ export {
 } from "./schemes";
 
 // ------------------------------------------------------------------ the helper thread's loop
-import { awaitJob, finishJob } from "./share";
+import { awaitJob, blockDone, blockEnd, claim, countHelperBlock, currentJob, jobKind } from "./share";
 import { JOB_PACKED_ROWS, packedRowsJob } from "./kernels";
 import {
   JOB_LOG_ROWS,
@@ -58,17 +58,21 @@ import {
   rotateRowsJob,
   updateRowsJob,
 } from "./eigh";
-export { helperJobs, stopHelper, useHelper } from "./share";
+export { helperFailed, helperJobs, stopHelper, useHelper } from "./share";
 
-/** The helper thread's loop (called once, in the worker): claims and does jobs until told to stop. */
+/** The helper thread's loop (called once, in the worker): takes blocks of each job posted, until told to stop. */
 export function helperLoop(): void {
-  for (let kind = awaitJob(); kind != 0; kind = awaitJob()) {
-    if (kind == JOB_PACKED_ROWS) packedRowsJob();
-    else if (kind == JOB_REFLECT_COLUMNS) reflectColumnsJob();
-    else if (kind == JOB_ROTATE_ROWS) rotateRowsJob();
-    else if (kind == JOB_LOG_ROWS) logRowsJob();
-    else if (kind == JOB_MATVEC_ROWS) matvecRowsJob();
-    else if (kind == JOB_UPDATE_ROWS) updateRowsJob();
-    finishJob();
+  for (let job = awaitJob(currentJob()); job != 0; job = awaitJob(job)) {
+    for (let s = claim(job); s >= 0; s = claim(job)) {
+      const kind = jobKind(), e = blockEnd(s);
+      if (kind == JOB_PACKED_ROWS) packedRowsJob(s, e);
+      else if (kind == JOB_REFLECT_COLUMNS) reflectColumnsJob(s, e);
+      else if (kind == JOB_ROTATE_ROWS) rotateRowsJob(s, e);
+      else if (kind == JOB_LOG_ROWS) logRowsJob(s, e);
+      else if (kind == JOB_MATVEC_ROWS) matvecRowsJob(s, e);
+      else if (kind == JOB_UPDATE_ROWS) updateRowsJob(s, e);
+      countHelperBlock();
+      blockDone(); // last: the caller may post the next job once every block is done
+    }
   }
 }

@@ -1,4 +1,4 @@
-import { arg, argF, join, post, setArg, setArgF, sharing } from "./share";
+import { arg, argF, blockDone, blockEnd, blockSize, claim, post, setArg, setArgF, sharing, waitAll } from "./share";
 
 // Complex matrix–multi-vector micro-kernels.
 // Contract: Y[v] := Y[v] + α·A·X[v] for v < r, where A is d×d complex
@@ -274,8 +274,7 @@ export function zgemvPacked(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f6
     }
   }
   if (sharing() && <i64>d * <i64>d * <i64>r >= SHARE_FROM) {
-    // rows split at the middle: the helper takes the lower half while this thread does the upper
-    const mid = d >> 1;
+    // rows in blocks, claimed by this thread and the helper
     setArg(0, <u64>a);
     setArg(1, <u64>d);
     setArg(2, <u64>scratch);
@@ -283,10 +282,12 @@ export function zgemvPacked(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f6
     setArg(4, <u64>r);
     setArgF(5, ar);
     setArgF(6, ai);
-    setArg(7, <u64>mid);
-    post(JOB_PACKED_ROWS);
-    packedRows(a, d, scratch, y, r, ar, ai, 0, mid);
-    if (!join()) packedRows(a, d, scratch, y, r, ar, ai, mid, d);
+    const job = post(JOB_PACKED_ROWS, 0, d, blockSize(d, 16, 4));
+    for (let s = claim(job); s >= 0; s = claim(job)) {
+      packedRows(a, d, scratch, y, r, ar, ai, s, blockEnd(s));
+      blockDone();
+    }
+    waitAll(job);
     return;
   }
   packedRows(a, d, scratch, y, r, ar, ai, 0, d);
@@ -309,11 +310,9 @@ function packedRows(a: usize, d: i32, xp: usize, y: usize, r: i32, ar: f64, ai: 
 const SHARE_FROM: i64 = 96 * 96 * 4;
 export const JOB_PACKED_ROWS = 1;
 
-/** The helper's part of a shared packed product (arguments as {@link zgemvPacked} posts them). */
-export function packedRowsJob(): void {
-  packedRows(
-    <usize>arg(0), <i32>arg(1), <usize>arg(2), <usize>arg(3), <i32>arg(4), argF(5), argF(6), <i32>arg(7), <i32>arg(1),
-  );
+/** The helper's block of a shared packed product (arguments as {@link zgemvPacked} posts them). */
+export function packedRowsJob(i0: i32, i1: i32): void {
+  packedRows(<usize>arg(0), <i32>arg(1), <usize>arg(2), <usize>arg(3), <i32>arg(4), argF(5), argF(6), i0, i1);
 }
 
 // ------------------------------------------------------------------ sparse (CSR) kernels
