@@ -136,7 +136,7 @@ function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, 
   store<f64>(v0, im(v0) - ali, 8);
   const tau = 2.0 / (2.0 * xnorm * (xnorm + ax0));
   // p = τ·A22·v, then β = (τ/2)·v†p
-  const shared = sharing() && n - k - 1 >= EIGH_SHARE_FROM, block = blockSize(n - k - 1, 16, 4);
+  const shared = sharing() && n - k - 1 >= EIGH_SHARE_FROM, block = blockSize(n - k - 1, 4, 4);
   if (shared) {
     setArg(0, <u64>a);
     setArg(1, <u64>n);
@@ -246,7 +246,7 @@ function accumulateReflectors(a: usize, n: i32, z: usize, p: usize, taus: usize)
       setArg(3, <u64>p);
       setArg(4, <u64>k);
       setArgF(5, tau);
-      const job = post(JOB_REFLECT_COLUMNS, k + 1, n, blockSize(n - k - 1, 16, 4));
+      const job = post(JOB_REFLECT_COLUMNS, k + 1, n, blockSize(n - k - 1, 4, 4));
       for (let s = claim(job); s >= 0; s = claim(job)) {
         reflectColumns(a, n, z, p, k, tau, s, blockEnd(s));
         blockDone();
@@ -297,7 +297,7 @@ function multiplyByRotations(z: usize, q: usize, n: i32, row: usize, row2: usize
     setArg(1, <u64>q);
     setArg(2, <u64>n);
     setArg(3, <u64>row2);
-    const job = post(JOB_ROTATE_ROWS, 0, n, blockSize(n, 16, 1));
+    const job = post(JOB_ROTATE_ROWS, 0, n, blockSize(n, 8, 1));
     for (let s = claim(job); s >= 0; s = claim(job)) {
       rotateRows(z, q, n, row, s, blockEnd(s));
       blockDone();
@@ -352,7 +352,7 @@ function applyLog(q: usize, n: i32, log: usize, used: i32): void {
     setArg(1, <u64>n);
     setArg(2, <u64>log);
     setArg(3, <u64>used);
-    const job = post(JOB_LOG_ROWS, 0, n, blockSize(n, 16, 4)); // blocks of whole fours of rows
+    const job = post(JOB_LOG_ROWS, 0, n, blockSize(n, 8, 4)); // blocks of whole fours of rows
     for (let s = claim(job); s >= 0; s = claim(job)) {
       logRows(q, n, log, used, s, blockEnd(s));
       blockDone();

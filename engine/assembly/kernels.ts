@@ -282,7 +282,7 @@ export function zgemvPacked(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f6
     setArg(4, <u64>r);
     setArgF(5, ar);
     setArgF(6, ai);
-    const job = post(JOB_PACKED_ROWS, 0, d, blockSize(d, 16, 4));
+    const job = post(JOB_PACKED_ROWS, 0, d, blockSize(d, 8, 4));
     for (let s = claim(job); s >= 0; s = claim(job)) {
       packedRows(a, d, scratch, y, r, ar, ai, s, blockEnd(s));
       blockDone();
