@@ -202,19 +202,19 @@ export async function loadEngine(wasm?: BufferSource, options: EngineOptions = {
   const memory = shared
     ? new WebAssembly.Memory({ initial: 2, maximum: MAX_PAGES, shared: true })
     : undefined;
-  let own: WebAssembly.Memory | undefined; // the plain build's memory, once instantiated
+  // where abort messages are read: the imported memory, or the plain build's own once it is instantiated
+  const messages: { memory?: WebAssembly.Memory } = { memory };
   const instance = await WebAssembly.instantiate(module, {
     env: {
       ...(memory ? { memory } : {}),
       abort(message: number, _file: number, line: number, column: number) {
-        const from = memory ?? own;
-        const text = message && from ? readString(from, message) : "";
+        const text = message && messages.memory ? readString(messages.memory, message) : "";
         throw new EngineError(`engine aborted at ${line}:${column}${text ? `: ${text}` : ""}`);
       },
     },
   });
   const exports = instance.exports as unknown as Exports;
-  own = exports.memory;
+  messages.memory = exports.memory;
   const helper = options.helper && deno && memory ? await startHelper(module, memory) : undefined;
   if (helper) exports.useHelper(1);
   return {
