@@ -4,7 +4,8 @@
 // same code in the same order either way).
 import { all, type Complex as MathComplex, create } from "mathjs";
 import { assert, assertEqual } from "./assert.ts";
-import { eigenResidual, randomHermitian, seeded } from "./helpers.ts";
+import { assertClose, eigenResidual, randomHermitian, runOrdo, seeded, tempCase } from "./helpers.ts";
+import { drivenOscillator, glauberPopulations } from "./engine_helpers.ts";
 import { eigh, loadEngine, multiply, type Result, solve, wantsHelper } from "../engine/mod.ts";
 import { dense, drivenModel } from "../cli/commands/_bench_cases.ts";
 
@@ -175,4 +176,18 @@ Deno.test("many shared jobs back to back (eigensolver and runs, d = 128 and 256)
     alone.close();
     shared.close();
   }
+});
+
+Deno.test("ordo run of a dense d = 120 driven oscillator (with its helper thread) ends in Glauber's coherent state", async () => {
+  // Glauber, Phys. Rev. 131 (1963): from |0⟩ the driven oscillator stays coherent, Poisson populations with
+  // mean |α|² (glauberPopulations). 120 Fock states: dense, so `ordo run` shares its products with a helper.
+  const text = drivenOscillator(1, 0.1, 2, "accuracy = 1e-9")
+    .replace("oscillator = 16", "oscillator = 120")
+    .replace("order = 10", 'order = 10\ntargets = ["0", "1", "2", "3"]');
+  const out = await runOrdo(["run", tempCase(text), "--json"]);
+  assertEqual(out.code, 0, out.stderr);
+  const final = JSON.parse(out.stdout).final.exact as Record<string, number>;
+  glauberPopulations(1, 0.1, 2, 4).forEach((poisson, n) =>
+    assertClose(final[String(n)]!, poisson, { abs: 1e-9 }, `P(${n})`)
+  );
 });
