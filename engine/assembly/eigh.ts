@@ -8,7 +8,7 @@
 // and ch. 8; the QL iteration is the classic tql2/tqli form.
 
 import { madd, nmadd } from "./kernels";
-import { arg, argF, blockDone, blockEnd, blockSize, claim, post, setArg, setArgF, sharing, waitAll } from "./share";
+import { arg, argF, blockSize, runShared, setArg, setArgF, sharing } from "./share";
 
 @inline function re(p: usize): f64 { return load<f64>(p); }
 @inline function im(p: usize): f64 { return load<f64>(p, 8); }
@@ -144,12 +144,7 @@ function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, 
     setArg(3, <u64>v);
     setArg(4, <u64>p);
     setArgF(5, tau);
-    const job = post(JOB_MATVEC_ROWS, k + 1, n, block);
-    for (let s = claim(job); s >= 0; s = claim(job)) {
-      matvecRows(a, n, k, v, p, tau, s, blockEnd(s));
-      blockDone();
-    }
-    waitAll(job);
+    runShared(JOB_MATVEC_ROWS, k + 1, n, block, matvecRowsJob);
   } else {
     matvecRows(a, n, k, v, p, tau, k + 1, n);
   }
@@ -167,12 +162,7 @@ function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, 
   }
   // A22 −= v w† + w v†
   if (shared) {
-    const job = post(JOB_UPDATE_ROWS, k + 1, n, block); // the same arguments
-    for (let s = claim(job); s >= 0; s = claim(job)) {
-      updateRows(a, n, k, v, p, s, blockEnd(s));
-      blockDone();
-    }
-    waitAll(job);
+    runShared(JOB_UPDATE_ROWS, k + 1, n, block, updateRowsJob); // the same arguments
   } else {
     updateRows(a, n, k, v, p, k + 1, n);
   }
@@ -223,7 +213,7 @@ function updateRows(a: usize, n: i32, k: i32, v: usize, p: usize, i0: i32, i1: i
   }
 }
 
-/** The helper's blocks of a reduction step (arguments as {@link reduceColumn} posts them). */
+/** Blocks of a reduction step (arguments as {@link reduceColumn} posts them). */
 export function matvecRowsJob(i0: i32, i1: i32): void {
   matvecRows(<usize>arg(0), <i32>arg(1), <i32>arg(2), <usize>arg(3), <usize>arg(4), argF(5), i0, i1);
 }
@@ -246,19 +236,14 @@ function accumulateReflectors(a: usize, n: i32, z: usize, p: usize, taus: usize)
       setArg(3, <u64>p);
       setArg(4, <u64>k);
       setArgF(5, tau);
-      const job = post(JOB_REFLECT_COLUMNS, k + 1, n, blockSize(n - k - 1, 4, 4));
-      for (let s = claim(job); s >= 0; s = claim(job)) {
-        reflectColumns(a, n, z, p, k, tau, s, blockEnd(s));
-        blockDone();
-      }
-      waitAll(job);
+      runShared(JOB_REFLECT_COLUMNS, k + 1, n, blockSize(n - k - 1, 4, 4), reflectColumnsJob);
     } else {
       reflectColumns(a, n, z, p, k, tau, k + 1, n);
     }
   }
 }
 
-/** The helper's blocks of {@link accumulateReflectors}. */
+/** Blocks of {@link accumulateReflectors}. */
 export function reflectColumnsJob(j0: i32, j1: i32): void {
   reflectColumns(<usize>arg(0), <i32>arg(1), <usize>arg(2), <usize>arg(3), <i32>arg(4), argF(5), j0, j1);
 }
@@ -297,20 +282,21 @@ function multiplyByRotations(z: usize, q: usize, n: i32, row: usize, row2: usize
     setArg(1, <u64>q);
     setArg(2, <u64>n);
     setArg(3, <u64>row2);
-    const job = post(JOB_ROTATE_ROWS, 0, n, blockSize(n, 8, 1));
-    for (let s = claim(job); s >= 0; s = claim(job)) {
-      rotateRows(z, q, n, row, s, blockEnd(s));
-      blockDone();
-    }
-    waitAll(job);
+    setArg(4, <u64>row);
+    runShared(JOB_ROTATE_ROWS, 0, n, blockSize(n, 8, 1), rotateRowsOwn);
     return;
   }
   rotateRows(z, q, n, row, 0, n);
 }
 
-/** The helper's blocks of {@link multiplyByRotations} (through its own row buffer). */
+/** The helper's blocks of {@link multiplyByRotations}, through its own row buffer. */
 export function rotateRowsJob(r0: i32, r1: i32): void {
   rotateRows(<usize>arg(0), <usize>arg(1), <i32>arg(2), <usize>arg(3), r0, r1);
+}
+
+/** The caller's blocks of {@link multiplyByRotations}, through the caller's row buffer. */
+function rotateRowsOwn(r0: i32, r1: i32): void {
+  rotateRows(<usize>arg(0), <usize>arg(1), <i32>arg(2), <usize>arg(4), r0, r1);
 }
 
 function rotateRows(z: usize, q: usize, n: i32, row: usize, r0: i32, r1: i32): void {
@@ -352,18 +338,13 @@ function applyLog(q: usize, n: i32, log: usize, used: i32): void {
     setArg(1, <u64>n);
     setArg(2, <u64>log);
     setArg(3, <u64>used);
-    const job = post(JOB_LOG_ROWS, 0, n, blockSize(n, 8, 4)); // blocks of whole fours of rows
-    for (let s = claim(job); s >= 0; s = claim(job)) {
-      logRows(q, n, log, used, s, blockEnd(s));
-      blockDone();
-    }
-    waitAll(job);
+    runShared(JOB_LOG_ROWS, 0, n, blockSize(n, 8, 4), logRowsJob); // blocks of whole fours of rows
     return;
   }
   logRows(q, n, log, used, 0, n);
 }
 
-/** The helper's blocks of {@link applyLog}. */
+/** Blocks of {@link applyLog}. */
 export function logRowsJob(k0: i32, k1: i32): void {
   logRows(<usize>arg(0), <i32>arg(1), <usize>arg(2), <i32>arg(3), k0, k1);
 }

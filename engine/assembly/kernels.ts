@@ -1,4 +1,4 @@
-import { arg, argF, blockDone, blockEnd, blockSize, claim, post, setArg, setArgF, sharing, waitAll } from "./share";
+import { arg, argF, blockSize, runShared, setArg, setArgF, sharing } from "./share";
 
 // Complex matrix–multi-vector micro-kernels.
 // Contract: Y[v] := Y[v] + α·A·X[v] for v < r, where A is d×d complex
@@ -282,12 +282,7 @@ export function zgemvPacked(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f6
     setArg(4, <u64>r);
     setArgF(5, ar);
     setArgF(6, ai);
-    const job = post(JOB_PACKED_ROWS, 0, d, blockSize(d, 8, 4));
-    for (let s = claim(job); s >= 0; s = claim(job)) {
-      packedRows(a, d, scratch, y, r, ar, ai, s, blockEnd(s));
-      blockDone();
-    }
-    waitAll(job);
+    runShared(JOB_PACKED_ROWS, 0, d, blockSize(d, 8, 4), packedRowsJob);
     return;
   }
   packedRows(a, d, scratch, y, r, ar, ai, 0, d);
@@ -310,7 +305,7 @@ function packedRows(a: usize, d: i32, xp: usize, y: usize, r: i32, ar: f64, ai: 
 const SHARE_FROM: i64 = 96 * 96 * 4;
 export const JOB_PACKED_ROWS = 1;
 
-/** The helper's block of a shared packed product (arguments as {@link zgemvPacked} posts them). */
+/** A block of a shared packed product (arguments as {@link zgemvPacked} posts them). */
 export function packedRowsJob(i0: i32, i1: i32): void {
   packedRows(<usize>arg(0), <i32>arg(1), <usize>arg(2), <usize>arg(3), <i32>arg(4), argF(5), argF(6), i0, i1);
 }

@@ -90,6 +90,20 @@ export function blockDone(): void {
   atomic.add<i32>(word(2), 1);
 }
 
+/**
+ * Posts a job of `kind` over rows lo…hi−1 in blocks of `block` (its arguments set before), does blocks on this
+ * thread with `work` (a function of the block's rows that reads the job's arguments, as the helper's does) until
+ * none is left, and waits for the blocks the helper holds.
+ */
+export function runShared(kind: i32, lo: i32, hi: i32, block: i32, work: (i0: i32, i1: i32) => void): void {
+  const job = post(kind, lo, hi, block);
+  for (let s = claim(job); s >= 0; s = claim(job)) {
+    work(s, blockEnd(s));
+    blockDone();
+  }
+  waitAll(job);
+}
+
 /** The caller's side: waits until every block of `job` is done (those the helper holds). */
 export function waitAll(job: i32): void {
   const all = tag(job) | atomic.load<i32>(word(9));
