@@ -26,12 +26,7 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
   const e = work + (<usize>n << 5);      // n f64 (real subdiagonal)
   const sub = e + (<usize>n << 3);       // n complex (complex subdiagonal)  [uses 2n f64]
   const taus = sub + (<usize>n << 4);    // n f64 (reflector factors)
-  for (let k = 0; k < n - 2; k++) reduceColumn(a, n, k, v, p, sub, taus);
-  if (n >= 2) {
-    const q = at(a, n, n - 1, n - 2), o = sub + (<usize>(n - 2) << 4);
-    store<f64>(o, re(q));
-    store<f64>(o, im(q), 8);
-  }
+  tridiagonalize(a, n, v, p, sub, taus);
   accumulateReflectors(a, n, z, p, taus);
   // Diagonal, and the phase change D that makes the subdiagonal real: Z ← Z·D.
   let dr = 1.0, di = 0.0;
@@ -76,12 +71,7 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
 export function eigvalsh(a: usize, n: i32, w: usize, work: usize): i32 {
   const v = work, p = work + (<usize>n << 4), e = work + (<usize>n << 5);
   const sub = e + (<usize>n << 3), taus = sub + (<usize>n << 4);
-  for (let k = 0; k < n - 2; k++) reduceColumn(a, n, k, v, p, sub, taus);
-  if (n >= 2) {
-    const q = at(a, n, n - 1, n - 2), o = sub + (<usize>(n - 2) << 4);
-    store<f64>(o, re(q));
-    store<f64>(o, im(q), 8);
-  }
+  tridiagonalize(a, n, v, p, sub, taus);
   // the subdiagonal's moduli (a diagonal phase change makes it real; it changes no eigenvalue)
   for (let i = 0; i < n; i++) {
     store<f64>(w + (<usize>i << 3), re(at(a, n, i, i)));
@@ -97,6 +87,17 @@ export function eigvalsh(a: usize, n: i32, w: usize, work: usize): i32 {
     dset(w, j + 1, x);
   }
   return 0;
+}
+
+/** The Householder reduction: A's diagonal and the complex subdiagonal (sub) of the tridiagonal, the reflectors'
+ * vectors in A's columns and their factors in taus (v, p: n complex each, scratch). */
+function tridiagonalize(a: usize, n: i32, v: usize, p: usize, sub: usize, taus: usize): void {
+  for (let k = 0; k < n - 2; k++) reduceColumn(a, n, k, v, p, sub, taus);
+  if (n >= 2) {
+    const q = at(a, n, n - 1, n - 2), o = sub + (<usize>(n - 2) << 4);
+    store<f64>(o, re(q));
+    store<f64>(o, im(q), 8);
+  }
 }
 
 /** Below this dimension the eigensolver works alone (a shared part would cost more than it saves). */

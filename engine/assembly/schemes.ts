@@ -778,14 +778,8 @@ export function record(tau: f64): void {
     memory.copy(tmp + <usize>r * vec, exact, vec);
     memory.copy(tmp + <usize>(r + 1) * vec, check, vec);
     // ψ = U·e^{−iEτ}·c
-    phases(ph1, -tau);
-    for (let v = 0; v < n; v++) {
-      for (let e = 0; e < dm; e++) {
-        const p = tmp + <usize>v * vec + (<usize>e << 4), q = ph1 + (<usize>(e % d) << 4);
-        const xr = cre(p), xi = cim(p), pr = cre(q), pi = cim(q);
-        cset(p, pr * xr - pi * xi, pr * xi + pi * xr);
-      }
-    }
+    phases(ph1, tau);
+    toInteraction(tmp, tmp, n * m);
     if (scheme == SCHEME_SPARSE_INTERACTION) memory.copy(rec, tmp, <usize>n * vec); // the basis is the identity
     else {
       memory.fill(rec, 0, <usize>n * vec);
