@@ -77,7 +77,7 @@ interface Exports {
   packedScratchBytes(d: number, r: number): number;
   useHelper(on: number): void;
   helperFailed(): void;
-  helperJobs(): number;
+  helperBlocks(): number;
   stopHelper(): void;
   peakLoop(iterations: number, x0: number, dy: number): number;
   eigh(a: number, n: number, w: number, z: number, work: number): number;

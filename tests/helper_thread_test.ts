@@ -29,8 +29,8 @@ Deno.test("a product shared with the helper thread (d = 160) matches mathjs mult
     // The caller takes back a job the helper has not claimed by the time its own half is done (as it may on
     // a busy machine), so repeat until the helper has taken part at least once.
     let mine = multiply(engine, a, b, d);
-    for (let k = 0; k < 200 && engine.exports.helperJobs() === 0; k++) mine = multiply(engine, a, b, d);
-    assert(engine.exports.helperJobs() > 0, "the helper took no part in 200 products");
+    for (let k = 0; k < 200 && engine.exports.helperBlocks() === 0; k++) mine = multiply(engine, a, b, d);
+    assert(engine.exports.helperBlocks() > 0, "the helper took no part in 200 products");
     const reference = math.multiply(toMath(a, d), toMath(b, d));
     let worst = 0;
     for (let i = 0; i < d; i++) {
@@ -61,11 +61,11 @@ Deno.test("a driven d = 128 run with the helper thread is bit-for-bit the run on
   const shared = await loadEngine(undefined, { helper: true });
   try {
     const one = solve(alone, model);
-    const before = shared.exports.helperJobs();
-    for (let k = 0; k < 20 && shared.exports.helperJobs() === before; k++) {
+    const before = shared.exports.helperBlocks();
+    for (let k = 0; k < 20 && shared.exports.helperBlocks() === before; k++) {
       assert(same(solve(shared, model), one), "the helper changed the result");
     }
-    assert(shared.exports.helperJobs() > before, "the helper took no part in 20 runs");
+    assert(shared.exports.helperBlocks() > before, "the helper took no part in 20 runs");
     shared.close();
     assert(same(solve(shared, model), one), "the engine after close() changed the result");
   } finally {
@@ -86,9 +86,9 @@ Deno.test("the eigensolver with the helper thread (d = 200): bit-for-bit the one
   const alone = await loadEngine(), shared = await loadEngine(undefined, { helper: true });
   try {
     const one = eigh(alone, a, d);
-    const before = shared.exports.helperJobs();
+    const before = shared.exports.helperBlocks();
     const two = eigh(shared, a, d);
-    assert(shared.exports.helperJobs() > before, "the helper took no part");
+    assert(shared.exports.helperBlocks() > before, "the helper took no part");
     assert(one.values.every((x, k) => x === two.values[k]), "eigenvalues differ");
     assert(one.vectors.every((x, k) => x === two.vectors[k]), "eigenvectors differ");
     // facts of linear algebra: A z_k = λ_k z_k, Z†Z = I, Σλ = tr A, Σλ² = ‖A‖_F²
@@ -141,9 +141,9 @@ Deno.test("after the helper has failed, runs work alone (same numbers, no hang)"
   const alone = await loadEngine(), shared = await loadEngine(undefined, { helper: true });
   try {
     shared.exports.helperFailed(); // as its worker reports a trap in a block
-    const before = shared.exports.helperJobs();
+    const before = shared.exports.helperBlocks();
     assert(same(solve(shared, model), solve(alone, model)), "the result changed");
-    assertEqual(shared.exports.helperJobs(), before, "blocks the failed helper took");
+    assertEqual(shared.exports.helperBlocks(), before, "blocks the failed helper took");
   } finally {
     alone.close();
     shared.close();

@@ -92,11 +92,13 @@ const median = (xs: number[]) => xs.slice().sort((a, b) => a - b)[Math.floor(xs.
 /** SciPy's timings under each thread setting: the faster setting (by median), and what it was. */
 class ScipyTimes {
   readonly times = new Map<Threads, number[]>(THREAD_SETTINGS.map((t) => [t, []]));
-  /** Times one run of the job under each setting (interleaved with the caller's own runs). */
-  async time(job: Record<string, unknown>): Promise<void> {
-    for (const threads of THREAD_SETTINGS) {
-      this.times.get(threads)!.push(1000 * (await python(job, threads)).seconds);
-    }
+  /** Times one run under each setting (interleaved with the caller's own runs), in ms. */
+  async time(measure: (threads: Threads) => Promise<number>): Promise<void> {
+    for (const threads of THREAD_SETTINGS) this.times.get(threads)!.push(await measure(threads));
+  }
+  /** Times one in-process solve of the job (the script's own clock) under each setting. */
+  solve(job: Record<string, unknown>): Promise<void> {
+    return this.time(async (threads) => 1000 * (await python(job, threads)).seconds);
   }
   /** The faster setting's times, and a note naming the setting and the other's median. */
   best(): { times: number[]; note: string } {
@@ -172,7 +174,7 @@ async function drivenRow(
     const started = performance.now();
     solve(engine, ordoModel(accuracy));
     mine.push(performance.now() - started);
-    await theirs.time({ ...job, rtol, atol: rtol * 1e-2 });
+    await theirs.solve({ ...job, rtol, atol: rtol * 1e-2 });
   }
   const { times, note } = theirs.best();
   return comparisonRow(
@@ -223,7 +225,7 @@ async function wholeProcessRow(
     if (!status.success) throw new Error(`${command} ${args.join(" ")} failed`);
     return performance.now() - started;
   };
-  const mine: number[] = [], theirs: number[] = [], theirsOne: number[] = [];
+  const mine: number[] = [], theirs = new ScipyTimes();
   for (let k = 0; k < REPEATS; k++) {
     mine.push(
       await timed(Deno.execPath(), [
@@ -234,18 +236,15 @@ async function wholeProcessRow(
         "--quiet",
       ]),
     );
-    theirs.push(await timed("python3", [SCRIPT], job));
-    theirsOne.push(await timed("python3", [SCRIPT], job, ONE_THREAD));
+    await theirs.time((threads) => timed("python3", [SCRIPT], job, threads === "one" ? ONE_THREAD : {}));
   }
-  const [fast, slow, names] = median(theirs) <= median(theirsOne)
-    ? [theirs, theirsOne, ["default BLAS threads", "1 BLAS thread"]]
-    : [theirsOne, theirs, ["1 BLAS thread", "default BLAS threads"]];
+  const { times, note } = theirs.best();
   return comparisonRow(
     `whole process, dense d=${d}, N=6 (ordo run, accuracy ${setting.accuracy}; python3 script, rtol ${setting.rtol})`,
     mine,
-    fast,
+    times,
     "≤ 0.6×",
-    `${names[0]}; ${names[1]}: median ${median(slow).toPrecision(3)} ms`,
+    note,
   );
 }
 
@@ -310,7 +309,7 @@ async function demoSweepRow(engine: Engine, log: (s: string) => void): Promise<s
     const started = performance.now();
     ordoRun(accuracy);
     mine.push(performance.now() - started);
-    await theirs.time({ ...job, rtol, atol: rtol * 1e-2 });
+    await theirs.solve({ ...job, rtol, atol: rtol * 1e-2 });
   }
   const { times, note } = theirs.best();
   return comparisonRow(
@@ -362,7 +361,7 @@ async function constantRow(engine: Engine, log: (s: string) => void): Promise<st
     const started = performance.now();
     result = solve(engine, model);
     mine.push(performance.now() - started);
-    await theirs.time(job);
+    await theirs.solve(job);
   }
   const agreement = distance(finalOf(result, d), await python(job));
   const { times, note } = theirs.best();

@@ -58,7 +58,7 @@ import {
   rotateRowsJob,
   updateRowsJob,
 } from "./eigh";
-export { helperFailed, helperJobs, stopHelper, useHelper } from "./share";
+export { helperBlocks, helperFailed, stopHelper, useHelper } from "./share";
 
 /** The helper thread's loop (called once, in the worker): takes blocks of each job posted, until told to stop. */
 export function helperLoop(): void {

@@ -141,7 +141,7 @@ export function countHelperBlock(): void {
 }
 
 /** Blocks the helper has done since the module was loaded (for tests). */
-export function helperJobs(): i32 {
+export function helperBlocks(): i32 {
   return atomic.load<i32>(word(4));
 }
 
