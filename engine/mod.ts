@@ -81,7 +81,7 @@ interface Exports {
   stopHelper(): void;
   peakLoop(iterations: number, x0: number, dy: number): number;
   eigh(a: number, n: number, w: number, z: number, work: number): number;
-  eigvalsh(a: number, n: number, w: number, work: number): number;
+  eigenvaluesOnly(a: number, n: number, w: number, work: number): number;
   init(
     dim: number,
     order: number,
@@ -582,7 +582,7 @@ export function eigenvalues(engine: Engine, matrix: Float64Array, d: number): Fl
   const a = e.arenaAlloc(16 * d * d), w = e.arenaAlloc(8 * d), work = e.arenaAlloc(64 * d);
   if (!a || !w || !work) check(1);
   new Float64Array(e.memory.buffer, a, 2 * d * d).set(matrix);
-  check(e.eigvalsh(a, d, w, work) === 0 ? 0 : 2);
+  check(e.eigenvaluesOnly(a, d, w, work) === 0 ? 0 : 2);
   return new Float64Array(e.memory.buffer, w, d).slice();
 }
 

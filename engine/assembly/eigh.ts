@@ -68,7 +68,7 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
  * eigenvectors (no reflector accumulation, no rotations kept). A is destroyed; work: at least 8n f64. Returns 0,
  * or 1 when the QL iteration did not converge.
  */
-export function eigvalsh(a: usize, n: i32, w: usize, work: usize): i32 {
+export function eigenvaluesOnly(a: usize, n: i32, w: usize, work: usize): i32 {
   const v = work, p = work + (<usize>n << 4), e = work + (<usize>n << 5);
   const sub = e + (<usize>n << 3), taus = sub + (<usize>n << 4);
   tridiagonalize(a, n, v, p, sub, taus);

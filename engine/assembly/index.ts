@@ -13,7 +13,7 @@ export {
   zgemvRef,
   zgemvSimd,
 } from "./kernels";
-export { eigh, eigvalsh } from "./eigh";
+export { eigh, eigenvaluesOnly } from "./eigh";
 export {
   advance,
   advanceExact,
