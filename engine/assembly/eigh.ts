@@ -1,9 +1,10 @@
 // Hermitian eigensolver: complex Householder reduction to tridiagonal form,
 // a diagonal phase change that makes the tridiagonal real, then implicit QL
 // with shifts. The reflectors are accumulated backwards (each on its trailing
-// block only), the QL rotations into a real orthogonal matrix stored by rows
-// (so that each rotation combines two contiguous rows, two lanes at a time),
-// and the eigenvectors are the product of the two at the end.
+// block only), the QL rotations into a real orthogonal matrix Q kept transposed
+// (each rotation combines two contiguous rows of Qᵀ, two lanes at a time), and
+// the eigenvectors are the product of the two at the end, each entry a dot
+// product along contiguous rows of Z and Qᵀ.
 // see: Golub & Van Loan, Matrix Computations, ch. 5.1 (backward accumulation)
 // and ch. 8; the QL iteration is the classic tql2/tqli form.
 
@@ -27,7 +28,7 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
   const sub = e + (<usize>n << 3);       // n complex (complex subdiagonal)  [uses 2n f64]
   const taus = sub + (<usize>n << 4);    // n f64 (reflector factors)
   tridiagonalize(a, n, v, p, sub, taus);
-  accumulateReflectors(a, n, z, p, taus);
+  accumulateReflectors(a, n, z, p, v, taus);
   // Diagonal, and the phase change D that makes the subdiagonal real: Z ← Z·D.
   let dr = 1.0, di = 0.0;
   for (let i = 0; i < n; i++) {
@@ -52,14 +53,14 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
     }
   }
   if (n > 0) store<f64>(e + (<usize>(n - 1) << 3), 0.0);
-  // A is free now: its first half holds Q, the QL rotations' real orthogonal matrix (row-major), its second half
-  // the log of the sweeps' rotations not yet applied to Q.
-  const q = a;
-  memory.fill(q, 0, <usize>n * n << 3);
-  for (let i = 0; i < n; i++) store<f64>(q + ((<usize>i * n + i) << 3), 1.0);
-  if (tql(w, e, n, q, a + (<usize>n * n << 3), n * n) != 0) return 1;
-  sortAscending(w, q, n);
-  multiplyByRotations(z, q, n, v, p);
+  // A is free now: its first half holds Qᵀ, the QL rotations' real orthogonal matrix transposed (row-major), its
+  // second half the log of the sweeps' rotations not yet applied (and, once they all are, the helper's rows).
+  const qt = a, log = a + (<usize>n * n << 3);
+  memory.fill(qt, 0, <usize>n * n << 3);
+  for (let i = 0; i < n; i++) store<f64>(qt + ((<usize>i * n + i) << 3), 1.0);
+  if (tql(w, e, n, qt, log, n * n) != 0) return 1;
+  sortAscending(w, qt, n);
+  multiplyByRotations(z, qt, n, v, log); // v and p: 2n complex, one after the other
   return 0;
 }
 
@@ -137,7 +138,7 @@ function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, 
   store<f64>(v0, im(v0) - ali, 8);
   const tau = 2.0 / (2.0 * xnorm * (xnorm + ax0));
   // p = τ·A22·v, then β = (τ/2)·v†p
-  const shared = sharing() && n - k - 1 >= EIGH_SHARE_FROM, block = blockSize(n - k - 1, 4, 4);
+  const shared = sharing() && n - k - 1 >= EIGH_SHARE_FROM, block = blockSize(n - k - 1, 2, 4);
   if (shared) {
     setArg(0, <u64>a);
     setArg(1, <u64>n);
@@ -222,72 +223,119 @@ export function updateRowsJob(i0: i32, i1: i32): void {
   updateRows(<usize>arg(0), <i32>arg(1), <i32>arg(2), <usize>arg(3), <usize>arg(4), i0, i1);
 }
 
-/** Z = H_0·H_1⋯H_{n−3}, accumulated backwards: Z ← H_k·Z touches only the trailing block k+1.. (uses p). */
-function accumulateReflectors(a: usize, n: i32, z: usize, p: usize, taus: usize): void {
+/**
+ * Z = H_0·H_1⋯H_{n−3}, accumulated backwards, two reflectors a pass: Z ← H_{k−1}·H_k·Z touches only the trailing
+ * block k.. (uses p and v, n complex each). With P = v_k†Z and R = v_{k−1}†Z (one pass over the block),
+ * H_{k−1}H_k Z = Z − τ_k v_k P − τ_{k−1} v_{k−1} (R − τ_k (v_{k−1}†v_k) P) (a second pass): half the passes of
+ * one reflector at a time.
+ */
+function accumulateReflectors(a: usize, n: i32, z: usize, p: usize, v: usize, taus: usize): void {
   memory.fill(z, 0, <usize>n * n << 4);
   for (let i = 0; i < n; i++) store<f64>(at(z, n, i, i), 1.0);
-  for (let k = n - 3; k >= 0; k--) {
-    const tau = load<f64>(taus + (<usize>k << 3));
-    if (tau == 0.0) continue;
+  let k = n - 3;
+  for (; k >= 0; k -= 2) {
+    const tk = load<f64>(taus + (<usize>k << 3));
+    // the lone last reflector (k = 0) pairs with nothing: its partner's factor is 0
+    const tl = k > 0 ? load<f64>(taus + (<usize>(k - 1) << 3)) : 0.0;
+    if (tk == 0.0 && tl == 0.0) continue;
+    // g = v_{k−1}†v_k over rows k+1.. (v_k is zero above)
+    let gr = 0.0, gi = 0.0;
+    if (k > 0) {
+      for (let i = k + 1; i < n; i++) {
+        const x = at(a, n, i, k - 1), y = at(a, n, i, k);
+        gr += re(x) * re(y) + im(x) * im(y);
+        gi += re(x) * im(y) - im(x) * re(y);
+      }
+    }
+    const lo = k > 0 ? k : 1; // the first row (and column) the pair touches
     // the trailing block's columns are independent: the helper may take some of them
-    if (sharing() && n - k - 1 >= EIGH_SHARE_FROM) {
+    if (sharing() && n - lo >= EIGH_SHARE_FROM) {
       setArg(0, <u64>a);
-      setArg(1, <u64>n);
+      setArg(1, <u64>n | (<u64>k << 32));
       setArg(2, <u64>z);
-      setArg(3, <u64>p);
-      setArg(4, <u64>k);
-      setArgF(5, tau);
-      runShared(JOB_REFLECT_COLUMNS, k + 1, n, blockSize(n - k - 1, 4, 4), reflectColumnsJob);
+      setArg(3, <u64>p | (<u64>v << 32));
+      setArgF(4, tk);
+      setArgF(5, tl);
+      setArgF(6, tk * gr);
+      setArgF(7, tk * gi);
+      runShared(JOB_REFLECT_COLUMNS, lo, n, blockSize(n - lo, 2, 4), reflectColumnsJob);
     } else {
-      reflectColumns(a, n, z, p, k, tau, k + 1, n);
+      reflectPair(a, n, z, p, v, k, tk, tl, tk * gr, tk * gi, lo, n);
     }
   }
 }
 
 /** Blocks of {@link accumulateReflectors}. */
 export function reflectColumnsJob(j0: i32, j1: i32): void {
-  reflectColumns(<usize>arg(0), <i32>arg(1), <usize>arg(2), <usize>arg(3), <i32>arg(4), argF(5), j0, j1);
+  const nk = arg(1), pv = arg(3);
+  reflectPair(<usize>arg(0), <i32>(nk & 0xffffffff), <usize>arg(2), <usize>(pv & 0xffffffff), <usize>(pv >> 32),
+    <i32>(nk >> 32), argF(4), argF(5), argF(6), argF(7), j0, j1);
 }
 
-/** Columns j0…j1−1 of Z ← H_k·Z over the trailing block (p_j for those columns). */
-function reflectColumns(a: usize, n: i32, z: usize, p: usize, k: i32, tau: f64, j0: i32, j1: i32): void {
-  // p_j = Σ_i conj(v_i)·Z_ij over the trailing block
-  memory.fill(p + (<usize>j0 << 4), 0, <usize>(j1 - j0) << 4);
-  // conj(v_i)·z = vr·z + (vi, −vi)⊙swap(z)
-  for (let i = k + 1; i < n; i++) {
-    const vi = at(a, n, i, k);
-    const c1 = f64x2.splat(re(vi)), c2 = f64x2(im(vi), -im(vi));
+/**
+ * Columns j0…j1−1 of Z ← H_{k−1}·H_k·Z over the pair's rows (k.. , or 1.. for H_0 alone with tl = 0): P_j in p,
+ * R_j in v for those columns; (tgr, tgi) = τ_k·v_{k−1}†v_k.
+ */
+function reflectPair(
+  a: usize, n: i32, z: usize, p: usize, v: usize, k: i32, tk: f64, tl: f64, tgr: f64, tgi: f64, j0: i32, j1: i32,
+): void {
+  const bytes = <usize>(j1 - j0) << 4;
+  memory.fill(p + (<usize>j0 << 4), 0, bytes);
+  memory.fill(v + (<usize>j0 << 4), 0, bytes);
+  const paired = tl != 0.0;
+  // P_j = Σ_i conj(v_k,i)·Z_ij (rows k+1..), R_j = Σ_i conj(v_{k−1},i)·Z_ij (rows k..): conj(x)·z = xr·z +
+  // (xi, −xi)⊙swap(z)
+  for (let i = paired ? k : k + 1; i < n; i++) {
+    const own = i > k, x = own ? at(a, n, i, k) : 0, y = paired ? at(a, n, i, k - 1) : 0;
+    const c1 = f64x2.splat(own ? re(x) : 0.0), c2 = own ? f64x2(im(x), -im(x)) : f64x2.splat(0.0);
+    const d1 = f64x2.splat(paired ? re(y) : 0.0), d2 = paired ? f64x2(im(y), -im(y)) : f64x2.splat(0.0);
     for (let j = j0; j < j1; j++) {
-      const zq = v128.load(at(z, n, i, j)), o = p + (<usize>j << 4);
-      const x = madd(c1, zq, v128.load(o));
-      v128.store(o, madd(c2, v128.shuffle<f64>(zq, zq, 1, 0), x));
+      const zq = v128.load(at(z, n, i, j)), zs = v128.shuffle<f64>(zq, zq, 1, 0);
+      const o = p + (<usize>j << 4), u = v + (<usize>j << 4);
+      v128.store(o, madd(c2, zs, madd(c1, zq, v128.load(o))));
+      v128.store(u, madd(d2, zs, madd(d1, zq, v128.load(u))));
     }
   }
-  // Z_ij −= τ·v_i·p_j, with τv_i·p = a·p + (−b, b)⊙swap(p) for τv_i = a + ib
-  for (let i = k + 1; i < n; i++) {
-    const vi = at(a, n, i, k);
-    const c1 = f64x2.splat(tau * re(vi)), c2 = f64x2(-tau * im(vi), tau * im(vi));
+  // R_j ← τ_{k−1}·(R_j − τ_k g P_j), P_j ← τ_k P_j (g = v_{k−1}†v_k)
+  for (let j = j0; j < j1; j++) {
+    const o = p + (<usize>j << 4), u = v + (<usize>j << 4);
+    const pr = re(o), pi = im(o);
+    store<f64>(u, tl * (re(u) - (tgr * pr - tgi * pi)));
+    store<f64>(u, tl * (im(u) - (tgr * pi + tgi * pr)), 8);
+    store<f64>(o, tk * pr);
+    store<f64>(o, tk * pi, 8);
+  }
+  // Z_ij −= v_k,i·P_j + v_{k−1},i·R_j, with x·P = xr·P + (−xi, xi)⊙swap(P)
+  for (let i = paired ? k : k + 1; i < n; i++) {
+    const own = i > k, x = own ? at(a, n, i, k) : 0, y = paired ? at(a, n, i, k - 1) : 0;
+    const c1 = f64x2.splat(own ? re(x) : 0.0), c2 = own ? f64x2(-im(x), im(x)) : f64x2.splat(0.0);
+    const d1 = f64x2.splat(paired ? re(y) : 0.0), d2 = paired ? f64x2(-im(y), im(y)) : f64x2.splat(0.0);
     for (let j = j0; j < j1; j++) {
-      const q = at(z, n, i, j), pj = v128.load(p + (<usize>j << 4));
-      const x = nmadd(c1, pj, v128.load(q));
-      v128.store(q, nmadd(c2, v128.shuffle<f64>(pj, pj, 1, 0), x));
+      const q = at(z, n, i, j), pj = v128.load(p + (<usize>j << 4)), rj = v128.load(v + (<usize>j << 4));
+      let w = nmadd(c1, pj, v128.load(q));
+      w = nmadd(c2, v128.shuffle<f64>(pj, pj, 1, 0), w);
+      w = nmadd(d1, rj, w);
+      v128.store(q, nmadd(d2, v128.shuffle<f64>(rj, rj, 1, 0), w));
     }
   }
 }
 
-/** Z ← Z·Q with Q real orthogonal (row-major), row by row of Z through an n-complex buffer (row, or row2 for the
- * helper's half). */
-function multiplyByRotations(z: usize, q: usize, n: i32, row: usize, row2: usize): void {
+/**
+ * Z ← Z·Q with Q real orthogonal, given as Qᵀ (row-major): out_rc = Σ_k Z_rk·Qᵀ_ck, two rows of Z and four
+ * columns of Q at a time (eight sums in registers, each entry of Z and Qᵀ read once per block), each pair of rows
+ * through a 2n-complex buffer (rows for this thread, helperRows for the helper's blocks).
+ */
+function multiplyByRotations(z: usize, qt: usize, n: i32, rows: usize, helperRows: usize): void {
   if (sharing() && n >= EIGH_SHARE_FROM) {
     setArg(0, <u64>z);
-    setArg(1, <u64>q);
+    setArg(1, <u64>qt);
     setArg(2, <u64>n);
-    setArg(3, <u64>row2);
-    setArg(4, <u64>row);
-    runShared(JOB_ROTATE_ROWS, 0, n, blockSize(n, 8, 1), rotateRowsOwn);
+    setArg(3, <u64>helperRows);
+    setArg(4, <u64>rows);
+    runShared(JOB_ROTATE_ROWS, 0, n, blockSize(n, 2, 2), rotateRowsOwn);
     return;
   }
-  rotateRows(z, q, n, row, 0, n);
+  rotateRows(z, qt, n, rows, 0, n);
 }
 
 /** The helper's blocks of {@link multiplyByRotations}, through its own row buffer. */
@@ -300,25 +348,62 @@ function rotateRowsOwn(r0: i32, r1: i32): void {
   rotateRows(<usize>arg(0), <usize>arg(1), <i32>arg(2), <usize>arg(4), r0, r1);
 }
 
-function rotateRows(z: usize, q: usize, n: i32, row: usize, r0: i32, r1: i32): void {
-  for (let r = r0; r < r1; r++) {
-    const zr = z + (<usize>r * n << 4);
-    memory.fill(row, 0, <usize>n << 4);
-    for (let k = 0; k < n; k++) {
-      const zk = v128.load(zr + (<usize>k << 4));
-      const qk = q + (<usize>k * n << 3);
-      let c = 0;
-      for (; c + 1 < n; c += 2) {
-        const o = row + (<usize>c << 4);
-        v128.store(o, madd(zk, v128.load64_splat(qk + (<usize>c << 3)), v128.load(o)));
-        v128.store(o, madd(zk, v128.load64_splat(qk + (<usize>c << 3), 8), v128.load(o, 16)), 16);
+/** Rows r0…r1−1 of Z ← Z·Q (Qᵀ at qt), through buf (2n complex). */
+function rotateRows(z: usize, qt: usize, n: i32, buf: usize, r0: i32, r1: i32): void {
+  const zs = <usize>n << 4, qs = <usize>n << 3;
+  const zero = f64x2.splat(0.0);
+  let r = r0;
+  for (; r + 2 <= r1; r += 2) {
+    const za = z + <usize>r * zs, zb = za + zs;
+    let c = 0;
+    for (; c + 4 <= n; c += 4) {
+      const q0 = qt + <usize>c * qs, q1 = q0 + qs, q2 = q1 + qs, q3 = q2 + qs;
+      let a0 = zero, a1 = zero, a2 = zero, a3 = zero, b0 = zero, b1 = zero, b2 = zero, b3 = zero;
+      for (let k = 0; k < n; k++) {
+        const xa = v128.load(za + (<usize>k << 4)), xb = v128.load(zb + (<usize>k << 4)), o = <usize>k << 3;
+        const s0 = v128.load64_splat(q0 + o), s1 = v128.load64_splat(q1 + o);
+        const s2 = v128.load64_splat(q2 + o), s3 = v128.load64_splat(q3 + o);
+        a0 = madd(xa, s0, a0);
+        b0 = madd(xb, s0, b0);
+        a1 = madd(xa, s1, a1);
+        b1 = madd(xb, s1, b1);
+        a2 = madd(xa, s2, a2);
+        b2 = madd(xb, s2, b2);
+        a3 = madd(xa, s3, a3);
+        b3 = madd(xb, s3, b3);
       }
-      if (c < n) {
-        const o = row + (<usize>c << 4);
-        v128.store(o, madd(zk, v128.load64_splat(qk + (<usize>c << 3)), v128.load(o)));
-      }
+      const oa = buf + (<usize>c << 4), ob = oa + zs;
+      v128.store(oa, a0);
+      v128.store(oa, a1, 16);
+      v128.store(oa, a2, 32);
+      v128.store(oa, a3, 48);
+      v128.store(ob, b0);
+      v128.store(ob, b1, 16);
+      v128.store(ob, b2, 32);
+      v128.store(ob, b3, 48);
     }
-    memory.copy(zr, row, <usize>n << 4);
+    for (; c < n; c++) {
+      const q0 = qt + <usize>c * qs;
+      let a0 = zero, b0 = zero;
+      for (let k = 0; k < n; k++) {
+        const s0 = v128.load64_splat(q0 + (<usize>k << 3));
+        a0 = madd(v128.load(za + (<usize>k << 4)), s0, a0);
+        b0 = madd(v128.load(zb + (<usize>k << 4)), s0, b0);
+      }
+      v128.store(buf + (<usize>c << 4), a0);
+      v128.store(buf + zs + (<usize>c << 4), b0);
+    }
+    memory.copy(za, buf, zs << 1); // the two rows are contiguous in Z and in buf
+  }
+  for (; r < r1; r++) {
+    const za = z + <usize>r * zs;
+    for (let c = 0; c < n; c++) {
+      const q0 = qt + <usize>c * qs;
+      let a0 = zero;
+      for (let k = 0; k < n; k++) a0 = madd(v128.load(za + (<usize>k << 4)), v128.load64_splat(q0 + (<usize>k << 3)), a0);
+      v128.store(buf + (<usize>c << 4), a0);
+    }
+    memory.copy(za, buf, zs);
   }
 }
 
@@ -326,72 +411,77 @@ function rotateRows(z: usize, q: usize, n: i32, row: usize, r0: i32, r1: i32): v
 @inline function dset(x: usize, i: i32, val: f64): void { store<f64>(x + (<usize>i << 3), val); }
 
 // The QL sweeps' rotations are logged (each sweep: lo, m, then (c_i, s_i) for i = m−1 down to lo) and applied to
-// Q when the log is full and at the end: rows of Q are independent, so each block of four rows takes every logged
-// sweep in turn while it sits in cache (each entry read and written once per sweep, the rotated value carried
-// along the row), and the helper may take half of the rows.
+// Qᵀ when the log is full and at the end: a rotation combines rows i and i+1 of Qᵀ, and its columns are
+// independent, so each strip of eight columns takes every logged sweep in turn while it sits in cache (each entry
+// read and written once per sweep, the rotated value carried along, four independent lanes pairs), and the helper
+// may take some of the strips.
 // see: Golub & Van Loan, Matrix Computations, §5.1 (applying a sequence of Givens rotations).
 
-/** Applies the first `used` f64 of the log to Q (n×n, row-major). */
-function applyLog(q: usize, n: i32, log: usize, used: i32): void {
+/** Applies the first `used` f64 of the log to Qᵀ (n×n, row-major). */
+function applyLog(qt: usize, n: i32, log: usize, used: i32): void {
   if (used == 0) return;
   if (sharing() && n >= EIGH_SHARE_FROM) {
-    setArg(0, <u64>q);
+    setArg(0, <u64>qt);
     setArg(1, <u64>n);
     setArg(2, <u64>log);
     setArg(3, <u64>used);
-    runShared(JOB_LOG_ROWS, 0, n, blockSize(n, 8, 4), logRowsJob); // blocks of whole fours of rows
+    runShared(JOB_LOG_ROWS, 0, n, blockSize(n, 2, 8), logRowsJob); // blocks of whole strips of eight columns
     return;
   }
-  logRows(q, n, log, used, 0, n);
+  logRows(qt, n, log, used, 0, n);
 }
 
 /** Blocks of {@link applyLog}. */
-export function logRowsJob(k0: i32, k1: i32): void {
-  logRows(<usize>arg(0), <i32>arg(1), <usize>arg(2), <i32>arg(3), k0, k1);
+export function logRowsJob(j0: i32, j1: i32): void {
+  logRows(<usize>arg(0), <i32>arg(1), <usize>arg(2), <i32>arg(3), j0, j1);
 }
 
-function logRows(q: usize, n: i32, log: usize, used: i32, k0: i32, k1: i32): void {
+/** Columns j0…j1−1 of Qᵀ (rows of Q) take the logged rotations. */
+function logRows(qt: usize, n: i32, log: usize, used: i32, j0: i32, j1: i32): void {
   const stride = <usize>n << 3;
-  let k = k0;
-  for (; k + 4 <= k1; k += 4) {
-    const r0 = q + <usize>k * stride, r1 = r0 + stride, r2 = r1 + stride, r3 = r2 + stride;
+  let j = j0;
+  for (; j + 8 <= j1; j += 8) {
+    const base = qt + (<usize>j << 3);
     for (let at = 0; at < used;) {
       const lo = <i32>dget(log, at), m = <i32>dget(log, at + 1);
       let cs = log + (<usize>(at + 2) << 3);
-      let y0 = dget(r0, m), y1 = dget(r1, m), y2 = dget(r2, m), y3 = dget(r3, m);
+      const top = base + <usize>m * stride;
+      let y0 = v128.load(top), y1 = v128.load(top, 16), y2 = v128.load(top, 32), y3 = v128.load(top, 48);
       for (let i = m - 1; i >= lo; i--) {
-        const c = load<f64>(cs), s = load<f64>(cs, 8);
+        const c = v128.load64_splat(cs), s = v128.load64_splat(cs, 8);
         cs += 16;
-        const x0 = dget(r0, i), x1 = dget(r1, i), x2 = dget(r2, i), x3 = dget(r3, i);
-        dset(r0, i + 1, s * x0 + c * y0);
-        dset(r1, i + 1, s * x1 + c * y1);
-        dset(r2, i + 1, s * x2 + c * y2);
-        dset(r3, i + 1, s * x3 + c * y3);
-        y0 = c * x0 - s * y0;
-        y1 = c * x1 - s * y1;
-        y2 = c * x2 - s * y2;
-        y3 = c * x3 - s * y3;
+        const xp = base + <usize>i * stride, up = xp + stride;
+        const x0 = v128.load(xp), x1 = v128.load(xp, 16), x2 = v128.load(xp, 32), x3 = v128.load(xp, 48);
+        v128.store(up, madd(s, x0, f64x2.mul(c, y0)));
+        v128.store(up, madd(s, x1, f64x2.mul(c, y1)), 16);
+        v128.store(up, madd(s, x2, f64x2.mul(c, y2)), 32);
+        v128.store(up, madd(s, x3, f64x2.mul(c, y3)), 48);
+        y0 = nmadd(s, y0, f64x2.mul(c, x0));
+        y1 = nmadd(s, y1, f64x2.mul(c, x1));
+        y2 = nmadd(s, y2, f64x2.mul(c, x2));
+        y3 = nmadd(s, y3, f64x2.mul(c, x3));
       }
-      dset(r0, lo, y0);
-      dset(r1, lo, y1);
-      dset(r2, lo, y2);
-      dset(r3, lo, y3);
+      const bottom = base + <usize>lo * stride;
+      v128.store(bottom, y0);
+      v128.store(bottom, y1, 16);
+      v128.store(bottom, y2, 32);
+      v128.store(bottom, y3, 48);
       at += 2 + 2 * (m - lo);
     }
   }
-  for (; k < k1; k++) {
-    const r0 = q + <usize>k * stride;
+  for (; j < j1; j++) {
+    const base = qt + (<usize>j << 3);
     for (let at = 0; at < used;) {
       const lo = <i32>dget(log, at), m = <i32>dget(log, at + 1);
       let cs = log + (<usize>(at + 2) << 3);
-      let y = dget(r0, m);
+      let y = load<f64>(base + <usize>m * stride);
       for (let i = m - 1; i >= lo; i--) {
-        const c = load<f64>(cs), s = load<f64>(cs, 8), x = dget(r0, i);
+        const c = load<f64>(cs), s = load<f64>(cs, 8), xp = base + <usize>i * stride, x = load<f64>(xp);
         cs += 16;
-        dset(r0, i + 1, s * x + c * y);
+        store<f64>(xp + stride, s * x + c * y);
         y = c * x - s * y;
       }
-      dset(r0, lo, y);
+      store<f64>(base + <usize>lo * stride, y);
       at += 2 + 2 * (m - lo);
     }
   }
@@ -466,8 +556,9 @@ function tql(d: usize, e: usize, n: i32, q: usize, log: usize, capacity: i32): i
   return 0;
 }
 
-// Eigenvalues ascending, the columns of Q with them.
-function sortAscending(w: usize, q: usize, n: i32): void {
+// Eigenvalues ascending, the columns of Q (rows of Qᵀ) with them.
+function sortAscending(w: usize, qt: usize, n: i32): void {
+  const stride = <usize>n << 3;
   for (let i = 0; i < n - 1; i++) {
     let k = i;
     for (let j = i + 1; j < n; j++) if (dget(w, j) < dget(w, k)) k = j;
@@ -475,11 +566,11 @@ function sortAscending(w: usize, q: usize, n: i32): void {
       const t = dget(w, i);
       dset(w, i, dget(w, k));
       dset(w, k, t);
-      for (let r = 0; r < n; r++) {
-        const a = q + ((<usize>r * n + i) << 3), b = q + ((<usize>r * n + k) << 3);
-        const x = load<f64>(a);
-        store<f64>(a, load<f64>(b));
-        store<f64>(b, x);
+      const a = qt + <usize>i * stride, b = qt + <usize>k * stride;
+      for (let c: usize = 0; c < stride; c += 8) {
+        const x = load<f64>(a + c);
+        store<f64>(a + c, load<f64>(b + c));
+        store<f64>(b + c, x);
       }
     }
   }
