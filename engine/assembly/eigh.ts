@@ -18,7 +18,7 @@ import { arg, argF, blockSize, runShared, setArg, setArgF, sharing } from "./sha
 /**
  * Eigen-decomposition A = Z·diag(w)·Z† of a Hermitian n×n matrix.
  * A is destroyed. w: n f64 (ascending). Z: n×n complex, column k is the
- * eigenvector of w[k]. work: at least 8n f64. Returns 0, or 1 when the QL
+ * eigenvector of w[k]. work: at least 12n f64. Returns 0, or 1 when the QL
  * iteration did not converge.
  */
 export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
@@ -27,7 +27,8 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
   const e = work + (<usize>n << 5);      // n f64 (real subdiagonal)
   const sub = e + (<usize>n << 3);       // n complex (complex subdiagonal)  [uses 2n f64]
   const taus = sub + (<usize>n << 4);    // n f64 (reflector factors)
-  tridiagonalize(a, n, v, p, sub, taus);
+  const pending = taus + (<usize>n << 3); // 2n complex (the reduction's pending update)
+  tridiagonalize(a, n, v, p, sub, taus, pending);
   accumulateReflectors(a, n, z, p, v, taus);
   // Diagonal, and the phase change D that makes the subdiagonal real: Z ← Z·D.
   let dr = 1.0, di = 0.0;
@@ -66,13 +67,13 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
 
 /**
  * Eigenvalues only (ascending, into w) of a Hermitian n×n matrix: the same reduction and QL, without
- * eigenvectors (no reflector accumulation, no rotations kept). A is destroyed; work: at least 8n f64. Returns 0,
+ * eigenvectors (no reflector accumulation, no rotations kept). A is destroyed; work: at least 12n f64. Returns 0,
  * or 1 when the QL iteration did not converge.
  */
 export function eigenvaluesOnly(a: usize, n: i32, w: usize, work: usize): i32 {
   const v = work, p = work + (<usize>n << 4), e = work + (<usize>n << 5);
-  const sub = e + (<usize>n << 3), taus = sub + (<usize>n << 4);
-  tridiagonalize(a, n, v, p, sub, taus);
+  const sub = e + (<usize>n << 3), taus = sub + (<usize>n << 4), pending = taus + (<usize>n << 3);
+  tridiagonalize(a, n, v, p, sub, taus, pending);
   // the subdiagonal's moduli (a diagonal phase change makes it real; it changes no eigenvalue)
   for (let i = 0; i < n; i++) {
     store<f64>(w + (<usize>i << 3), re(at(a, n, i, i)));
@@ -90,14 +91,49 @@ export function eigenvaluesOnly(a: usize, n: i32, w: usize, work: usize): i32 {
   return 0;
 }
 
-/** The Householder reduction: A's diagonal and the complex subdiagonal (sub) of the tridiagonal, the reflectors'
- * vectors in A's columns and their factors in taus (v, p: n complex each, scratch). */
-function tridiagonalize(a: usize, n: i32, v: usize, p: usize, sub: usize, taus: usize): void {
-  for (let k = 0; k < n - 2; k++) reduceColumn(a, n, k, v, p, sub, taus);
+/**
+ * The Householder reduction: A's diagonal and the complex subdiagonal (sub) of the tridiagonal, the reflectors'
+ * vectors in A's columns and their factors in taus (v, p: n complex each; pending: 2n complex, scratch).
+ *
+ * Each step's rank-2 update A22 −= v w† + w v† is applied during the next step's product with its reflector
+ * (one pass over the trailing block a step instead of two): step k first brings column k up to date, finds its
+ * reflector there, then takes each row of the trailing block, updates it and multiplies it by the new reflector.
+ * The last update is applied at the end.
+ */
+function tridiagonalize(a: usize, n: i32, v: usize, p: usize, sub: usize, taus: usize, pending: usize): void {
+  // this step's (v, p) and the last step's (vq, wq) swap buffers every step
+  let vq = pending, wq = pending + (<usize>n << 4), cv = v, cp = p;
+  let late = false; // whether (vq, wq) holds an update not yet applied
+  for (let k = 0; k < n - 2; k++) {
+    if (late) lateUpdate(a, n, k, vq, wq, k, k + 1); // column k, rows k..
+    reduceColumn(a, n, k, cv, cp, sub, taus, vq, wq, late);
+    const tv = vq, tw = wq;
+    vq = cv;
+    wq = cp;
+    cv = tv;
+    cp = tw;
+    late = true;
+  }
+  if (late) for (let j = n - 2; j < n; j++) lateUpdate(a, n, n - 2, vq, wq, j, j + 1);
   if (n >= 2) {
     const q = at(a, n, n - 1, n - 2), o = sub + (<usize>(n - 2) << 4);
     store<f64>(o, re(q));
     store<f64>(o, im(q), 8);
+  }
+}
+
+/** Columns j0…j1−1, rows k.., of A −= vq wq† + wq vq† (the update a step left for later). */
+function lateUpdate(a: usize, n: i32, k: i32, vq: usize, wq: usize, j0: i32, j1: i32): void {
+  for (let j = j0; j < j1; j++) {
+    const vj = vq + (<usize>j << 4), wj = wq + (<usize>j << 4);
+    for (let i = k; i < n; i++) {
+      const vi = vq + (<usize>i << 4), wi = wq + (<usize>i << 4), q = at(a, n, i, j);
+      // v_i·conj(w_j) + w_i·conj(v_j)
+      const xr = re(vi) * re(wj) + im(vi) * im(wj) + re(wi) * re(vj) + im(wi) * im(vj);
+      const xi = im(vi) * re(wj) - re(vi) * im(wj) + im(wi) * re(vj) - re(wi) * im(vj);
+      store<f64>(q, re(q) - xr);
+      store<f64>(q, im(q) - xi, 8);
+    }
   }
 }
 
@@ -107,48 +143,55 @@ export const JOB_REFLECT_COLUMNS = 2;
 export const JOB_ROTATE_ROWS = 3;
 export const JOB_LOG_ROWS = 4;
 export const JOB_MATVEC_ROWS = 5;
-export const JOB_UPDATE_ROWS = 6;
 
-/** Step k of the reduction: the reflector I − τvv† that zeroes column k below the subdiagonal, kept in A's column k. */
-function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, taus: usize): void {
+/**
+ * Step k of the reduction: the reflector I − τvv† that zeroes column k below the subdiagonal, kept in A's column
+ * k; with `late`, the last step's update (vq, wq) is applied to the trailing block on the way; this step's w is
+ * left in p for the next.
+ */
+function reduceColumn(
+  a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, taus: usize, vq: usize, wq: usize, late: bool,
+): void {
   let xnorm2 = 0.0;
   for (let i = k + 1; i < n; i++) {
     const q = at(a, n, i, k);
     xnorm2 += re(q) * re(q) + im(q) * im(q);
   }
   const x0 = at(a, n, k + 1, k);
+  let tau = 0.0, alr = 0.0, ali = 0.0, ax0 = 0.0, xnorm = 0.0;
   if (xnorm2 == 0.0) {
-    store<f64>(sub + (<usize>k << 4), 0.0);
-    store<f64>(sub + (<usize>k << 4), 0.0, 8);
-    store<f64>(taus + (<usize>k << 3), 0.0);
-    return;
-  }
-  const xnorm = Math.sqrt(xnorm2);
-  const ax0 = Math.hypot(re(x0), im(x0));
-  const phr = ax0 > 0 ? re(x0) / ax0 : 1.0, phi = ax0 > 0 ? im(x0) / ax0 : 0.0;
-  const alr = -phr * xnorm, ali = -phi * xnorm;
-  // v = x − α e1 over rows k+1..n−1 (stored at v[i])
-  for (let i = k + 1; i < n; i++) {
-    const q = at(a, n, i, k), o = v + (<usize>i << 4);
-    store<f64>(o, re(q));
-    store<f64>(o, im(q), 8);
-  }
-  const v0 = v + (<usize>(k + 1) << 4);
-  store<f64>(v0, re(v0) - alr);
-  store<f64>(v0, im(v0) - ali, 8);
-  const tau = 2.0 / (2.0 * xnorm * (xnorm + ax0));
-  // p = τ·A22·v, then β = (τ/2)·v†p
-  const shared = sharing() && n - k - 1 >= EIGH_SHARE_FROM, block = blockSize(n - k - 1, 2, 4);
-  if (shared) {
-    setArg(0, <u64>a);
-    setArg(1, <u64>n);
-    setArg(2, <u64>k);
-    setArg(3, <u64>v);
-    setArg(4, <u64>p);
-    setArgF(5, tau);
-    runShared(JOB_MATVEC_ROWS, k + 1, n, block, matvecRowsJob);
+    // no reflector: v = 0 (the pass below still applies the last update)
+    memory.fill(v + (<usize>(k + 1) << 4), 0, <usize>(n - k - 1) << 4);
   } else {
-    matvecRows(a, n, k, v, p, tau, k + 1, n);
+    xnorm = Math.sqrt(xnorm2);
+    ax0 = Math.hypot(re(x0), im(x0));
+    const phr = ax0 > 0 ? re(x0) / ax0 : 1.0, phi = ax0 > 0 ? im(x0) / ax0 : 0.0;
+    alr = -phr * xnorm;
+    ali = -phi * xnorm;
+    // v = x − α e1 over rows k+1..n−1 (stored at v[i])
+    for (let i = k + 1; i < n; i++) {
+      const q = at(a, n, i, k), o = v + (<usize>i << 4);
+      store<f64>(o, re(q));
+      store<f64>(o, im(q), 8);
+    }
+    const v0 = v + (<usize>(k + 1) << 4);
+    store<f64>(v0, re(v0) - alr);
+    store<f64>(v0, im(v0) - ali, 8);
+    tau = 2.0 / (2.0 * xnorm * (xnorm + ax0));
+  }
+  // p = τ·A22·v (A22 brought up to date on the way), then β = (τ/2)·v†p
+  if (sharing() && n - k - 1 >= EIGH_SHARE_FROM) {
+    setArg(0, <u64>a);
+    setArg(1, <u64>n | (<u64>k << 32));
+    setArg(2, <u64>v);
+    setArg(3, <u64>p);
+    setArgF(4, tau);
+    setArg(5, <u64>vq);
+    setArg(6, <u64>wq);
+    setArg(7, late ? 1 : 0);
+    runShared(JOB_MATVEC_ROWS, k + 1, n, blockSize(n - k - 1, 2, 4), matvecRowsJob);
+  } else {
+    matvecRows(a, n, k, v, p, tau, vq, wq, late, k + 1, n);
   }
   let beta = 0.0;
   for (let i = k + 1; i < n; i++) {
@@ -162,12 +205,6 @@ function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, 
     store<f64>(o, re(o) - beta * re(vi));
     store<f64>(o, im(o) - beta * im(vi), 8);
   }
-  // A22 −= v w† + w v†
-  if (shared) {
-    runShared(JOB_UPDATE_ROWS, k + 1, n, block, updateRowsJob); // the same arguments
-  } else {
-    updateRows(a, n, k, v, p, k + 1, n);
-  }
   store<f64>(sub + (<usize>k << 4), alr);
   store<f64>(sub + (<usize>k << 4), ali, 8);
   store<f64>(taus + (<usize>k << 3), tau);
@@ -179,48 +216,53 @@ function reduceColumn(a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, 
   }
 }
 
-/** Rows i0…i1−1 of p = τ·A22·v (the trailing block below and right of k). */
-function matvecRows(a: usize, n: i32, k: i32, v: usize, p: usize, tau: f64, i0: i32, i1: i32): void {
+/**
+ * Rows i0…i1−1 of the trailing block below and right of k: with `late`, A22 −= vq wq† + wq vq† first; then
+ * p = τ·A22·v.
+ */
+function matvecRows(
+  a: usize, n: i32, k: i32, v: usize, p: usize, tau: f64, vq: usize, wq: usize, late: bool, i0: i32, i1: i32,
+): void {
+  const flip = f64x2(-1.0, 1.0);
   for (let i = i0; i < i1; i++) {
     // (A22·v)_i two lanes at a time: Σ a·vr + swap(a)·vi, then (re − im', im + re') from the two sums
     let accA = f64x2.splat(0), accB = f64x2.splat(0);
-    for (let j = k + 1; j < n; j++) {
-      const m = v128.load(at(a, n, i, j)), o = v + (<usize>j << 4);
-      accA = madd(m, v128.load64_splat(o), accA);
-      accB = madd(v128.shuffle<f64>(m, m, 1, 0), v128.load64_splat(o, 8), accB);
+    if (late) {
+      // vq_i·conj(wq_j) = (vr, −vr)⊙wq_j + (vi, vi)⊙swap(wq_j), and likewise wq_i·conj(vq_j)
+      const vi = vq + (<usize>i << 4), wi = wq + (<usize>i << 4);
+      const c1 = f64x2(re(vi), -re(vi)), c2 = f64x2.splat(im(vi));
+      const d1 = f64x2(re(wi), -re(wi)), d2 = f64x2.splat(im(wi));
+      for (let j = k + 1; j < n; j++) {
+        const wj = v128.load(wq + (<usize>j << 4)), vj = v128.load(vq + (<usize>j << 4)), q = at(a, n, i, j);
+        let m = v128.load(q);
+        m = nmadd(c1, wj, m);
+        m = nmadd(c2, v128.shuffle<f64>(wj, wj, 1, 0), m);
+        m = nmadd(d1, vj, m);
+        m = nmadd(d2, v128.shuffle<f64>(vj, vj, 1, 0), m);
+        v128.store(q, m);
+        const o = v + (<usize>j << 4);
+        accA = madd(m, v128.load64_splat(o), accA);
+        accB = madd(v128.shuffle<f64>(m, m, 1, 0), v128.load64_splat(o, 8), accB);
+      }
+    } else {
+      for (let j = k + 1; j < n; j++) {
+        const m = v128.load(at(a, n, i, j)), o = v + (<usize>j << 4);
+        accA = madd(m, v128.load64_splat(o), accA);
+        accB = madd(v128.shuffle<f64>(m, m, 1, 0), v128.load64_splat(o, 8), accB);
+      }
     }
-    const sum = f64x2.add(accA, f64x2.mul(accB, f64x2(-1.0, 1.0)));
+    const sum = f64x2.add(accA, f64x2.mul(accB, flip));
     const o = p + (<usize>i << 4);
     store<f64>(o, tau * f64x2.extract_lane(sum, 0));
     store<f64>(o, tau * f64x2.extract_lane(sum, 1), 8);
   }
 }
 
-/** Rows i0…i1−1 of A22 −= v w† + w v† (w in p). */
-function updateRows(a: usize, n: i32, k: i32, v: usize, p: usize, i0: i32, i1: i32): void {
-  // v_i·conj(w_j) = (vr, −vr)⊙w_j + (vi, vi)⊙swap(w_j), and likewise w_i·conj(v_j)
-  for (let i = i0; i < i1; i++) {
-    const vi = v + (<usize>i << 4), wi = p + (<usize>i << 4);
-    const c1 = f64x2(re(vi), -re(vi)), c2 = f64x2.splat(im(vi));
-    const d1 = f64x2(re(wi), -re(wi)), d2 = f64x2.splat(im(wi));
-    for (let j = k + 1; j < n; j++) {
-      const wj = v128.load(p + (<usize>j << 4)), vj = v128.load(v + (<usize>j << 4)), q = at(a, n, i, j);
-      let x = v128.load(q);
-      x = nmadd(c1, wj, x);
-      x = nmadd(c2, v128.shuffle<f64>(wj, wj, 1, 0), x);
-      x = nmadd(d1, vj, x);
-      x = nmadd(d2, v128.shuffle<f64>(vj, vj, 1, 0), x);
-      v128.store(q, x);
-    }
-  }
-}
-
 /** Blocks of a reduction step (arguments as {@link reduceColumn} posts them). */
 export function matvecRowsJob(i0: i32, i1: i32): void {
-  matvecRows(<usize>arg(0), <i32>arg(1), <i32>arg(2), <usize>arg(3), <usize>arg(4), argF(5), i0, i1);
-}
-export function updateRowsJob(i0: i32, i1: i32): void {
-  updateRows(<usize>arg(0), <i32>arg(1), <i32>arg(2), <usize>arg(3), <usize>arg(4), i0, i1);
+  const nk = arg(1);
+  matvecRows(<usize>arg(0), <i32>(nk & 0xffffffff), <i32>(nk >> 32), <usize>arg(2), <usize>arg(3), argF(4),
+    <usize>arg(5), <usize>arg(6), arg(7) != 0, i0, i1);
 }
 
 /**

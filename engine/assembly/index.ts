@@ -51,12 +51,10 @@ import {
   JOB_MATVEC_ROWS,
   JOB_REFLECT_COLUMNS,
   JOB_ROTATE_ROWS,
-  JOB_UPDATE_ROWS,
   logRowsJob,
   matvecRowsJob,
   reflectColumnsJob,
   rotateRowsJob,
-  updateRowsJob,
 } from "./eigh";
 export { helperBlocks, helperFailed, stopHelper, useHelper } from "./share";
 
@@ -70,7 +68,6 @@ export function helperLoop(): void {
       else if (kind == JOB_ROTATE_ROWS) rotateRowsJob(s, e);
       else if (kind == JOB_LOG_ROWS) logRowsJob(s, e);
       else if (kind == JOB_MATVEC_ROWS) matvecRowsJob(s, e);
-      else if (kind == JOB_UPDATE_ROWS) updateRowsJob(s, e);
       countHelperBlock();
       blockDone(); // last: the caller may post the next job once every block is done
     }
