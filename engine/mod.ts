@@ -180,6 +180,12 @@ export interface EngineOptions {
    * {@link Engine.close} when done. Default: no helper.
    */
   helper?: boolean;
+  /**
+   * With a helper: whether {@link loadEngine} waits until it has joined (default true). Without waiting, the
+   * engine works alone until the helper's worker has started (tens of milliseconds), then shares with it: a
+   * short run never waits for a thread it would not use, and a long one gains from it after its first moments.
+   */
+  waitForHelper?: boolean;
 }
 
 /** WebAssembly pages (64 KiB) the engine's memory may grow to: all of wasm32's 4 GiB. */
@@ -215,8 +221,16 @@ export async function loadEngine(wasm?: BufferSource, options: EngineOptions = {
   });
   const exports = instance.exports as unknown as Exports;
   messages.memory = exports.memory;
-  const helper = options.helper && deno && memory ? await startHelper(module, memory) : undefined;
-  if (helper) exports.useHelper(1);
+  // The helper joins through the shared memory once its loop runs (engine `join`): the caller shares from then on.
+  let helper: Worker | undefined;
+  if (options.helper && deno && memory) {
+    exports.useHelper(1);
+    const started = startHelper(module, memory);
+    helper = started.worker;
+    // a worker that could not start never joins: the engine works alone
+    const settled = started.ready.then((ok) => ok || helper?.terminate());
+    if (options.waitForHelper ?? true) await settled;
+  }
   return {
     exports,
     close() {
@@ -224,6 +238,7 @@ export async function loadEngine(wasm?: BufferSource, options: EngineOptions = {
       exports.useHelper(0);
       exports.stopHelper();
       helper.terminate();
+      helper = undefined;
     },
   };
 }
@@ -235,10 +250,10 @@ function readString(memory: WebAssembly.Memory, pointer: number): string {
 }
 
 /** The helper thread: a worker running the module's job loop on the shared memory. */
-async function startHelper(
+function startHelper(
   module: WebAssembly.Module,
   memory: WebAssembly.Memory,
-): Promise<Worker | undefined> {
+): { worker: Worker; ready: Promise<boolean> } {
   const worker = new Worker(new URL("./helper_worker.ts", import.meta.url), { type: "module" });
   const ready = new Promise<boolean>((resolve) => {
     worker.onmessage = () => resolve(true);
@@ -248,9 +263,7 @@ async function startHelper(
     };
   });
   worker.postMessage({ module, memory });
-  if (await ready) return worker;
-  worker.terminate();
-  return undefined;
+  return { worker, ready };
 }
 
 async function readWasm(name: string): Promise<Uint8Array<ArrayBuffer>> {

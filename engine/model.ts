@@ -109,14 +109,15 @@ export function isSparse(model: Pick<Model, "unperturbed" | "perturbation">): bo
 }
 
 /** The smallest dimension whose dense products are worth sharing with a helper thread (engine `SHARE_FROM`). */
-export const HELPER_FROM_DIM = 96;
+export const HELPER_FROM_DIM = 64;
 
 /**
  * Whether a helper thread would pay for itself on this model: dense operators of dimension
  * {@link HELPER_FROM_DIM} or more (sparse products and small ones are not shared).
  *
  * @param model the model to be solved
- * @returns true when {@link loadEngine}'s `helper` option is worth its start-up (~15 ms)
+ * @returns true when {@link loadEngine}'s `helper` option is worth its start-up (~25 ms of a second core; with
+ *   `waitForHelper: false` the run does not wait for it)
  */
 export function wantsHelper(model: Pick<Model, "dim" | "unperturbed" | "perturbation">): boolean {
   return model.dim >= HELPER_FROM_DIM && !isSparse(model);

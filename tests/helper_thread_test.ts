@@ -74,6 +74,41 @@ Deno.test("a driven d = 128 run with the helper thread is bit-for-bit the run on
   }
 });
 
+Deno.test("a helper that joins a run already going (waitForHelper: false) changes no number; d = 64 shares", async () => {
+  const model = { ...drivenModel(dense(64), 1), accuracy: 1e-6, samples: 3 };
+  assert(wantsHelper(model), "d = 64 dense is worth a helper");
+  const alone = await loadEngine();
+  const one = solve(alone, model);
+  // the run starts at once, alone; the worker joins (through the shared memory) while runs go on
+  const shared = await loadEngine(undefined, { helper: true, waitForHelper: false });
+  try {
+    const started = performance.now();
+    let runs = 0;
+    while (shared.exports.helperBlocks() === 0 && performance.now() - started < 20000) {
+      assert(same(solve(shared, model), one), `run ${runs} changed when the helper joined`);
+      runs++;
+      await new Promise((resolve) => setTimeout(resolve, 1)); // lets the worker's start-up messages through
+    }
+    assert(shared.exports.helperBlocks() > 0, `the helper never joined (${runs} runs)`);
+    assert(same(solve(shared, model), one), "a run with the helper changed the result");
+  } finally {
+    alone.close();
+    shared.close();
+  }
+  // a longer run (d = 192, ~100 ms): the worker starts, makes its instance on the shared memory and joins while
+  // the caller is in the middle of it
+  const big = { ...drivenModel(dense(192), 1), accuracy: 1e-5, samples: 2 };
+  const reference = solve(alone, big);
+  for (let k = 0; k < 2; k++) {
+    const late = await loadEngine(undefined, { helper: true, waitForHelper: false });
+    try {
+      assert(same(solve(late, big), reference), "a run the helper joined midway changed");
+    } finally {
+      late.close();
+    }
+  }
+});
+
 Deno.test("products posted with no helper to take them are done by the caller (no hang, same numbers)", async () => {
   const model = { ...drivenModel(dense(128), 1), accuracy: 1e-6, samples: 3 };
   const alone = await loadEngine(), orphan = await loadEngine();

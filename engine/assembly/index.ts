@@ -44,7 +44,7 @@ export {
 } from "./schemes";
 
 // ------------------------------------------------------------------ the helper thread's loop
-import { awaitJob, blockDone, blockEnd, claim, countHelperBlock, currentJob, jobKind } from "./share";
+import { awaitJob, blockDone, blockEnd, claim, countHelperBlock, currentJob, jobKind, join } from "./share";
 import { JOB_PACKED_ROWS, packedRowsJob } from "./kernels";
 import {
   JOB_LOG_ROWS,
@@ -60,7 +60,9 @@ export { helperBlocks, helperFailed, stopHelper, useHelper } from "./share";
 
 /** The helper thread's loop (called once, in the worker): takes blocks of each job posted, until told to stop. */
 export function helperLoop(): void {
-  for (let job = awaitJob(currentJob()); job != 0; job = awaitJob(job)) {
+  const first = currentJob();
+  join();
+  for (let job = awaitJob(first); job != 0; job = awaitJob(job)) {
     for (let s = claim(job); s >= 0; s = claim(job)) {
       const kind = jobKind(), e = blockEnd(s);
       if (kind == JOB_PACKED_ROWS) packedRowsJob(s, e);

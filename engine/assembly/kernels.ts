@@ -282,7 +282,8 @@ export function zgemvPacked(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f6
     setArg(4, <u64>r);
     setArgF(5, ar);
     setArgF(6, ai);
-    runShared(JOB_PACKED_ROWS, 0, d, blockSize(d, 8, 4), packedRowsJob);
+    // small products in two halves (one hand-over each), larger ones in eighths (a late helper still takes some)
+    runShared(JOB_PACKED_ROWS, 0, d, blockSize(d, d < 128 ? 2 : 8, 4), packedRowsJob);
     return;
   }
   packedRows(a, d, scratch, y, r, ar, ai, 0, d);
@@ -302,7 +303,7 @@ function packedRows(a: usize, d: i32, xp: usize, y: usize, r: i32, ar: f64, ai: 
 }
 
 /** Products of at least this many complex multiply-adds (d²·r) are shared with the helper thread. */
-const SHARE_FROM: i64 = 96 * 96 * 4;
+const SHARE_FROM: i64 = 64 * 64 * 4;
 export const JOB_PACKED_ROWS = 1;
 
 /** A block of a shared packed product (arguments as {@link zgemvPacked} posts them). */

@@ -6,7 +6,11 @@
 //
 // Control block: i32 words 0 the posted job's number, 1 the block counter (the job's tag << 16 | next block),
 // 2 blocks done (tag << 16 | count), 3 stop, 4 blocks the helper has done, 5 kind, 6 lo, 7 hi, 8 block size,
-// 9 blocks, 10 the helper failed; from byte 64, eight 8-byte argument slots.
+// 9 blocks, 10 the helper failed, 11 the helper has joined; from byte 64, eight 8-byte argument slots.
+//
+// A helper may join a run already going: its instance is made on the shared memory (which may write this
+// module's static data again, the control block's zeros included) before it joins, and the caller posts no job
+// before it has joined, so nothing the caller uses is written under it.
 
 const control = memory.data(128, 64);
 /** Polls of a flag before a thread sleeps on it (a wake-up costs more than the work between two jobs). */
@@ -17,14 +21,19 @@ let helperOn = false;
 @inline function slot(k: i32): usize { return control + 64 + (<usize>k << 3); }
 @inline function tag(job: i32): i32 { return (job & 0xffff) << 16; }
 
-/** Whether jobs are shared with the helper (on once it runs, off to work alone). */
+/** Whether jobs may be shared with a helper once one has joined (on when one is started, off to work alone). */
 export function useHelper(on: bool): void {
   helperOn = on;
 }
 
-/** Whether a helper may take part of a job (not after it failed). */
+/** Whether a helper may take part of a job: it has joined, and has not failed. */
 export function sharing(): bool {
-  return helperOn && atomic.load<i32>(word(10)) == 0;
+  return helperOn && atomic.load<i32>(word(11)) != 0 && atomic.load<i32>(word(10)) == 0;
+}
+
+/** The helper's side: it is in its loop, ready for jobs (from now on the caller shares them). */
+export function join(): void {
+  atomic.store<i32>(word(11), 1);
 }
 
 /**
