@@ -45,8 +45,8 @@ export async function runCommand(args: string[]): Promise<number> {
     usage(`--at takes a time, got "${values.at}"`);
   }
   if (values.out !== undefined) ensureOutputDir(String(values.out), "--out");
-  // a large dense case shares its matrix products with a second thread
-  // the helper joins when its worker is up; the run does not wait for it
+  // a large dense case shares its matrix products with a second thread, which joins when its worker is up (the
+  // run does not wait for it)
   const engine = await loadEngine(undefined, { helper: wantsHelper(built.model), waitForHelper: false });
   const progress = values.quiet ? undefined : await progressBar("propagating");
   let outcome: RunOutcome;
