@@ -7,6 +7,7 @@ adaptive 8th-order Runge-Kutta (DOP853). Reads a JSON job on stdin, prints JSON 
   {"kind": "constant", "d", "order", "t_end", "h0", "v"}   (time-independent: eigh + expm_multiply)
   {"kind": "sweep", "d", "order", "t_end", "rtol", "atol", "points": [{"h0", "v", "center", "width"}, ...]}
       (a parameter sweep: each point driven by the Gaussian exp(-((t-center)/width)^2/2), in a loop)
+  {"kind": "eigh", "d", "h0"}   (the eigen-decomposition alone: {"seconds", "values"})
 
 and answers {"seconds": in-process time of the solve, "exact": [populations], "series": [[populations of
 the partial sum to order n] for n = 0..N]} at the final time. The drive is f(t) = exp(-((t-10)/3)^2/2) cos(1.1 t).
@@ -95,9 +96,17 @@ def sweep(job):
     return {"seconds": sum(a["seconds"] for a in answers), "points": answers}
 
 
+def eigen(job):
+    d = job["d"]
+    h0 = matrix(job["h0"], d)
+    start = time.perf_counter()
+    values, _ = eigh(h0)
+    return {"seconds": time.perf_counter() - start, "values": list(values)}
+
+
 def main():
     job = json.load(sys.stdin)
-    kinds = {"driven": driven, "constant": constant, "sweep": sweep}
+    kinds = {"driven": driven, "constant": constant, "sweep": sweep, "eigh": eigen}
     answer = kinds[job["kind"]](job)
     json.dump(answer, sys.stdout)
 
