@@ -266,3 +266,31 @@ Deno.test("every example assembles to a Hermitian H0 and V at every sampled time
     }
   }
 });
+
+Deno.test("a wrong matrix entry is reported at its row and column, with the forms an entry may take", () => {
+  const text = (entry: string) =>
+    `title = "invented"\n[levels]\nnames = ["g", "e"]\n[unperturbed]\nmatrix = [[0, 0], [0, 1]]\n` +
+    `[perturbation]\n[[perturbation.terms]]\nmatrix = [[0, ${entry}], [0.1, 0]]\ncoef = "1"\n` +
+    `[start]\nstate = "g"\n[grid]\nt_end = 10\nsteps = 100\n[series]\norder = 2\n`;
+  for (const entry of ["true", "[1, 2, 3]", "nan", "[1, true]", "{ re = 1 }"]) {
+    try {
+      parseCase(text(entry));
+      assert(false, `${entry} was taken`);
+    } catch (e) {
+      assert(e instanceof CaseError, `${entry}: ${e}`);
+      assertEqual(e.path.join("."), "perturbation.terms.0.matrix.0.1", `${entry}: path`);
+      assert(e.message.includes("wrong form"), `${entry}: ${e.message}`);
+      assert((e.fix ?? "").includes("[re, im]"), `${entry}: ${e.fix}`);
+    }
+  }
+  // the written forms are taken: a number, an expression, [re, im] of either
+  for (const entry of ["0.1", '"0.1"', "[0.1, 0]", '["0.1", "0"]']) parseCase(text(entry));
+  // a row that is not an array of entries: reported at the row
+  let refused = false;
+  try {
+    parseCase(text("0").replace("[[0, 0], [0.1, 0]]", "[[0, 0], 5]"));
+  } catch (e) {
+    refused = e instanceof CaseError && e.path.join(".") === "perturbation.terms.0.matrix.1";
+  }
+  assert(refused, "a row that is a number was taken, or reported elsewhere");
+});

@@ -8,7 +8,7 @@
 import { createHash } from "node:crypto";
 import { parse as parseToml, TomlError } from "smol-toml";
 import { CaseError, type KeyPath } from "./errors.ts";
-import { caseSchema, type CaseSpec, describeIssue } from "./schema.ts";
+import { caseSchema, type CaseSpec, deepestIssue, describeIssue } from "./schema.ts";
 
 /** A case as read from disk. */
 export interface CaseSource {
@@ -71,7 +71,7 @@ export function parseCase(text: string, file = "<text>"): CaseSource {
   }
   const result = caseSchema.safeParse(raw);
   if (!result.success) {
-    const issue = result.error.issues[0]!;
+    const issue = deepestIssue(result.error.issues[0]!);
     const { message, fix } = describeIssue(issue);
     throw withLocation(
       new CaseError(message, issue.path, fix),
