@@ -13,7 +13,8 @@
 import { eigh, type Engine, loadEngine, populationsAt, type Result, solve } from "../../engine/mod.ts";
 import type { BaselineModel } from "./_mathjs_scheme.ts";
 import { caseText, dense, drivenModel, timeIndependent } from "./_bench_cases.ts";
-import { readCase } from "../case/parse.ts";
+import { parseCase, readCase } from "../case/parse.ts";
+import { engineModel, turningOf } from "../analysis/inspection.ts";
 import { ORDO_RUN } from "./_bench_startup.ts";
 import { buildCase } from "../case/build.ts";
 
@@ -145,7 +146,10 @@ async function drivenRow(
   const job = jobOf(model, "driven");
   log(`vs SciPy, dense d=${d}: tight reference (DOP853, rtol 1e-12)`);
   const reference = await python({ ...job, rtol: 1e-12, atol: 1e-14 });
-  const ordoModel = (accuracy: number) => ({ ...drivenModel(model, 1), samples: 2, accuracy });
+  // the longest step `ordo run` allows on this case (a phase per step of its fastest coupled frequency)
+  const built = buildCase(parseCase(caseText(model, 1e-8), `bench_d${d}.toml`), {});
+  const maxStep = engineModel(built, turningOf(engine, built)).maxStep;
+  const ordoModel = (accuracy: number) => ({ ...drivenModel(model, 1), samples: 2, accuracy, maxStep });
   let accuracy: number | undefined, ordoError = NaN;
   for (const a of LADDER) {
     ordoError = distance(finalOf(solve(engine, ordoModel(a)), d), reference);
