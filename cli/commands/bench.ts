@@ -54,14 +54,16 @@ function kernelRate(engine: Engine, d: number, r: number, simd: boolean): number
   return flops * reps / (best * 1e6);
 }
 
-function peakRate(engine: Engine): number {
-  const iterations = 20_000_000;
+function warmPeak(engine: Engine): void {
   for (let k = 0; k < 200; k++) engine.exports.peakLoop(10_000, 1e-9, 1e-12); // let the engine tier up
-  let best = Infinity;
-  for (let trial = 0; trial < 5; trial++) {
-    best = Math.min(best, time(() => engine.exports.peakLoop(iterations, 1e-9, 1e-12)));
-  }
-  return 24 * iterations / (best * 1e6);
+}
+
+/**
+ * One short timing of the register-only loop, in GFLOP/s. The machine's speed can change within a run, so each
+ * ratio to the peak takes the peak measured between its own trials (the best of those), not one from the start.
+ */
+function peakOnce(engine: Engine, iterations = 5_000_000): number {
+  return 24 * iterations / (time(() => engine.exports.peakLoop(iterations, 1e-9, 1e-12)) * 1e6);
 }
 
 function table(rows: string[][]): string {
@@ -149,7 +151,7 @@ function engineRows(engine: Engine): Row[] {
 function kernelRows(engine: Engine): Row[] {
   log("kernels");
   const rows: Row[] = [];
-  const peak = peakRate(engine);
+  warmPeak(engine);
   for (const d of [64, 128, 256]) {
     // The whole accuracy-driven run (basis change, Runge–Kutta stages with their phases and combinations,
     // error estimates, recording) against the peak, counting only its matrix products as work; H0's
@@ -159,22 +161,24 @@ function kernelRows(engine: Engine): Row[] {
     solve(engine, model);
     engine.exports.takeKernelFlops();
     // the best of five runs, as for the kernels (the same work each time)
-    let ms = Infinity, flops = 0;
+    let ms = Infinity, flops = 0, peakHere = 0;
     for (let trial = 0; trial < 5; trial++) {
       ms = Math.min(ms, time(() => solve(engine, model)));
       flops = engine.exports.takeKernelFlops();
+      peakHere = Math.max(peakHere, peakOnce(engine));
     }
     const rate = flops / (ms * 1e6);
     rows.push([
       `stepping loop, dense d=${d}, N=6, accuracy 1e-8 (its matrix products' GFLOP/s) vs f64x2 peak`,
       `${fmt(rate)} GFLOP/s`,
-      `${fmt(peak)} GFLOP/s`,
-      `${fmt(100 * rate / peak)}%`,
+      `${fmt(peakHere)} GFLOP/s`,
+      `${fmt(100 * rate / peakHere)}%`,
       "≥ 60%",
     ]);
   }
   for (const d of [64, 128]) {
     const simd = kernelRate(engine, d, 7, true), ref = kernelRate(engine, d, 7, false);
+    const peakHere = Math.max(peakOnce(engine), peakOnce(engine), peakOnce(engine));
     rows.push([
       `(b) kernel d=${d}, 7 vectors, packed SIMD vs reference`,
       `${fmt(simd)} GFLOP/s`,
@@ -185,8 +189,8 @@ function kernelRows(engine: Engine): Row[] {
     rows.push([
       `(c) kernel d=${d} vs measured f64x2 peak`,
       `${fmt(simd)} GFLOP/s`,
-      `${fmt(peak)} GFLOP/s`,
-      `${fmt(100 * simd / peak)}%`,
+      `${fmt(peakHere)} GFLOP/s`,
+      `${fmt(100 * simd / peakHere)}%`,
       "≥ 50%",
     ]);
   }
