@@ -131,8 +131,7 @@ export function turningOf(engine: Engine, built: BuiltCase): Turning {
  * The engine's model of a case for one run: H0's eigen-decomposition handed over (so that it is computed once),
  * and for an accuracy-driven run the longest step: a quarter of the phase per step its method resolves (where
  * step doubling still reads the error honestly), or all of it for the Runge–Kutta pair, whose twelve stages
- * sample each step densely (its estimate stays honest there: on the dense driven bench cases, d = 8, 64, 256,
- * it reads 1.1–1.8e-9 where the true error is 1.4–2.5e-9; with half of it, d = 64 took 82 steps for 46).
+ * sample each step densely (see {@link PHASE_PER_STEP_LIMIT}).
  */
 export function engineModel(built: BuiltCase, turning: Turning): BuiltCase["model"] {
   const model = { ...built.model };
