@@ -15,6 +15,9 @@ const scalar = z.union([z.number(), z.string()]);
 const isScalar = (x: unknown): x is number | string =>
   typeof x === "string" || (typeof x === "number" && !Number.isNaN(x));
 
+const isEntry = (x: unknown): boolean =>
+  isScalar(x) || (Array.isArray(x) && x.length === 2 && isScalar(x[0]) && isScalar(x[1]));
+
 /**
  * A matrix entry: number, expression, or [re, im]. One predicate checks the three forms: a union schema tries
  * its forms in turn and records an issue for each one that fails, which made the entries of a d = 256 matrix
@@ -24,9 +27,6 @@ export const entrySchema = z.custom<number | string | [number | string, number |
   (x) => isEntry(x),
   { params: { form: "entry" } },
 );
-
-const isEntry = (x: unknown): boolean =>
-  isScalar(x) || (Array.isArray(x) && x.length === 2 && isScalar(x[0]) && isScalar(x[1]));
 
 /**
  * Rows of entries, checked in one pass that reports the first wrong row or entry at its own path (a d = 256
@@ -142,12 +142,13 @@ export type EntrySpec = z.infer<typeof entrySchema>;
 /** The `[start]` table as written. */
 export type StartSpec = CaseSpec["start"];
 
-/** Turns the first zod issue into a message and a fix. */
+/**
+ * Turns a zod issue into a message and a fix (for a union, pass {@link deepestIssue}'s pick: the caller needs
+ * its path too).
+ */
 export function describeIssue(
   issue: z.ZodIssue,
 ): { message: string; fix: string } {
-  const inner = deepestIssue(issue);
-  if (inner !== issue) return describeIssue(inner);
   switch (issue.code) {
     case "unrecognized_keys": {
       const known = knownKeysAt(issue.path);

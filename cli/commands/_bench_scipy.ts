@@ -327,7 +327,6 @@ async function demoSweepRow(engine: Engine, log: (s: string) => void): Promise<s
   );
 }
 
-/** The time-independent comparison: exact methods on both sides, certified against each other. */
 /**
  * The eigensolver alone on the d = 256 case's H0 (with the helper, as in that case's solve) against SciPy's eigh
  * (LAPACK), and its share of ordo's d = 256 solve (the issue's bar for a faster eigensolver: 20%).
@@ -366,6 +365,7 @@ async function eigenRow(
   );
 }
 
+/** The time-independent comparison: exact methods on both sides, certified against each other. */
 async function constantRow(engine: Engine, log: (s: string) => void): Promise<string[]> {
   const d = 300;
   log("vs SciPy, time-independent d=300, N=4 (eigh + expm_multiply)");
@@ -437,7 +437,7 @@ export async function scipyRows(log: (s: string) => void): Promise<string[][]> {
       "",
     ]];
   }
-  // ordo as `ordo run` uses it: with the helper thread, which takes part in dense products from d ≈ 96 on
+  // ordo as `ordo run` uses it: with the helper thread, which takes part in dense products from d = 64 on
   const engine = await loadEngine(undefined, { helper: true });
   try {
     const settings = new Map<number, { accuracy: number; rtol: number; fastestMs?: number }>();

@@ -101,20 +101,19 @@ export function eigenvaluesOnly(a: usize, n: i32, w: usize, work: usize): i32 {
  * The last update is applied at the end.
  */
 function tridiagonalize(a: usize, n: i32, v: usize, p: usize, sub: usize, taus: usize, pending: usize): void {
-  // this step's (v, p) and the last step's (vq, wq) swap buffers every step
+  // this step's (v, p) and the last step's (vq, wq) swap buffers every step; from step 1 on, (vq, wq) holds an
+  // update not yet applied
   let vq = pending, wq = pending + (<usize>n << 4), cv = v, cp = p;
-  let late = false; // whether (vq, wq) holds an update not yet applied
   for (let k = 0; k < n - 2; k++) {
-    if (late) lateUpdate(a, n, k, vq, wq, k, k + 1); // column k, rows k..
-    reduceColumn(a, n, k, cv, cp, sub, taus, vq, wq, late);
+    if (k > 0) lateUpdate(a, n, k, vq, wq, k, k + 1); // column k, rows k..
+    reduceColumn(a, n, k, cv, cp, sub, taus, vq, wq, k > 0);
     const tv = vq, tw = wq;
     vq = cv;
     wq = cp;
     cv = tv;
     cp = tw;
-    late = true;
   }
-  if (late) for (let j = n - 2; j < n; j++) lateUpdate(a, n, n - 2, vq, wq, j, j + 1);
+  if (n > 2) lateUpdate(a, n, n - 2, vq, wq, n - 2, n); // the last step's update: the trailing 2×2 block
   if (n >= 2) {
     const q = at(a, n, n - 1, n - 2), o = sub + (<usize>(n - 2) << 4);
     store<f64>(o, re(q));
