@@ -82,6 +82,10 @@ interface Exports {
   peakLoop(iterations: number, x0: number, dy: number): number;
   eigh(a: number, n: number, w: number, z: number, work: number): number;
   eigenvaluesOnly(a: number, n: number, w: number, work: number): number;
+  /** 1 when the last eigh took the tridiagonal's eigenvectors from inverse iteration, 0 from the QL rotations. */
+  lastEighByInverseIteration(): number;
+  /** Steps inverse iteration takes after its growth test passes (default 1; 0 makes the checks reject, for tests). */
+  setInverseIterationExtraSteps(k: number): void;
   init(
     dim: number,
     order: number,

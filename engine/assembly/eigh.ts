@@ -1,8 +1,10 @@
 // Hermitian eigensolver: complex Householder reduction to tridiagonal form,
-// a diagonal phase change that makes the tridiagonal real, then implicit QL
-// with shifts. The reflectors are accumulated backwards (each on its trailing
-// block only), the QL rotations into a real orthogonal matrix Q kept transposed
-// (each rotation combines two contiguous rows of Qᵀ, two lanes at a time), and
+// a diagonal phase change that makes the tridiagonal real, then its
+// eigenvalues by implicit QL with shifts and its eigenvectors by inverse
+// iteration, checked before they are used (when a check fails: the QL
+// rotations, accumulated into a real orthogonal matrix Q kept transposed, each
+// rotation combining two contiguous rows of Qᵀ, two lanes at a time). The
+// reflectors are accumulated backwards (each on its trailing block only), and
 // the eigenvectors are the product of the two at the end, each entry a dot
 // product along contiguous rows of Z and Qᵀ.
 // see: Golub & Van Loan, Matrix Computations, ch. 5.1 (backward accumulation)
@@ -57,9 +59,14 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
   // A is free now: its first half holds Qᵀ, the QL rotations' real orthogonal matrix transposed (row-major), its
   // second half the log of the sweeps' rotations not yet applied (and, once they all are, the helper's rows).
   const qt = a, log = a + (<usize>n * n << 3);
-  memory.fill(qt, 0, <usize>n * n << 3);
-  for (let i = 0; i < n; i++) store<f64>(qt + ((<usize>i * n + i) << 3), 1.0);
-  if (tql(w, e, n, qt, log, n * n) != 0) return 1;
+  inverseUsed = n >= INVERSE_FROM && inverseIteration(w, e, n, qt, log);
+  if (!inverseUsed) {
+    // the QL rotations, accumulated (inverse iteration leaves w and e as they were when it cannot vouch for its
+    // vectors)
+    memory.fill(qt, 0, <usize>n * n << 3);
+    for (let i = 0; i < n; i++) store<f64>(qt + ((<usize>i * n + i) << 3), 1.0);
+    if (tql(w, e, n, qt, log, n * n) != 0) return 1;
+  }
   sortAscending(w, qt, n);
   multiplyByRotations(z, qt, n, v, log); // v and p: 2n complex, one after the other
   return 0;
@@ -615,4 +622,239 @@ function sortAscending(w: usize, qt: usize, n: i32): void {
       }
     }
   }
+}
+
+// ---------------------------------------------------------------- the tridiagonal's eigenvectors by inverse iteration
+// The eigenvalues of each unreduced block come from QL without rotations (O(m²)); each eigenvector from a few
+// steps of inverse iteration with T − λI factored once (O(m) a step), orthogonalized against the vectors before
+// it in its cluster (eigenvalues closer than 10⁻³‖T‖ in a chain). The result is then checked, not assumed: every
+// residual ‖(T − λ)q‖ must be small, vectors of one cluster orthogonal (their dot products), and vectors of
+// different clusters too, from the exact identity (λ_k − λ_i)·q_i·q_k = q_i·r_k − r_i·q_k, which bounds
+// |q_i·q_k| by (‖r_i‖ + ‖r_k‖)/|λ_k − λ_i| (a dot product is taken where that bound is not enough, and always
+// for pairs closer than the cluster tolerance). When a check fails, the caller falls back to the QL rotations.
+// see: Golub & Van Loan, Matrix Computations, §8.2.2 (inverse iteration) and §4.3 (tridiagonal LU with pivoting);
+// the perturbation of close eigenvalues, the cluster tolerance and the stopping test follow LAPACK's dstein.
+
+/** From this dimension the tridiagonal's eigenvectors come from inverse iteration (below: the QL rotations). */
+const INVERSE_FROM = 24;
+/** Whether the last eigh took its tridiagonal's eigenvectors from inverse iteration (false: QL rotations). */
+let inverseUsed = false;
+export function lastEighByInverseIteration(): bool { return inverseUsed; }
+const MAX_STEPS = 5; // inverse iteration steps before giving up on a vector
+let extraSteps = 1; // steps after the growth test first passes (the checks vouch for the vectors)
+/** Steps inverse iteration takes after its growth test passes (default 1; 0 lets the checks reject, for tests). */
+export function setInverseIterationExtraSteps(k: i32): void { extraSteps = k; }
+
+/**
+ * Eigenvalues (into w, unsorted across blocks) and eigenvectors (rows of qt, n×n, each nonzero on its block only)
+ * of the real symmetric tridiagonal (w = diagonal, e = subdiagonal). scratch: at least 9n f64. Returns false,
+ * with w and e as they were, when the QL iteration does not converge or a check fails.
+ */
+function inverseIteration(w: usize, e: usize, n: i32, qt: usize, scratch: usize): bool {
+  const nb = <usize>n << 3;
+  const dd = scratch, ee = dd + nb, dl = ee + nb, dg = dl + nb, du = dg + nb, du2 = du + nb, piv = du2 + nb;
+  const x = piv + nb, res = x + nb;
+  memory.copy(dd, w, nb);
+  memory.copy(ee, e, nb);
+  memory.fill(qt, 0, <usize>n * nb);
+  let scale = 0.0;
+  for (let i = 0; i < n; i++) scale = max(scale, Math.abs(dget(dd, i)) + Math.abs(dget(ee, i)));
+  let ok = true;
+  for (let b = 0; b < n && ok;) {
+    // the unreduced block b…c: split where tql would (a negligible coupling)
+    let c = b;
+    for (; c < n - 1; c++) {
+      const em = Math.abs(dget(ee, c)), sum = Math.abs(dget(dd, c)) + Math.abs(dget(dd, c + 1));
+      if (em <= f64.EPSILON * sum || em <= 0.5 * f64.EPSILON * scale) break;
+    }
+    const m = c - b + 1;
+    if (m == 1) {
+      store<f64>(qt + <usize>b * nb + (<usize>b << 3), 1.0);
+    } else {
+      dset(e, c, 0.0);
+      const wb = w + (<usize>b << 3);
+      ok = tql(wb, e + (<usize>b << 3), m, 0, 0, 0) == 0;
+      if (ok) {
+        for (let i = 1; i < m; i++) {
+          const v = dget(wb, i);
+          let j = i - 1;
+          for (; j >= 0 && dget(wb, j) > v; j--) dset(wb, j + 1, dget(wb, j));
+          dset(wb, j + 1, v);
+        }
+        ok = blockVectors(dd + (<usize>b << 3), ee + (<usize>b << 3), wb, m, qt + <usize>b * nb + (<usize>b << 3), nb,
+          dl, dg, du, du2, piv, x, res);
+      }
+    }
+    b = c + 1;
+  }
+  if (!ok) {
+    memory.copy(w, dd, nb);
+    memory.copy(e, ee, nb);
+  }
+  return ok;
+}
+
+/**
+ * The eigenvectors of one unreduced block (diagonal d, coupling f, m entries; eigenvalues lam ascending) into the
+ * rows of q (row stride qs bytes, the block's first column at q), then their checks. Scratch: dl, dg, du, du2,
+ * piv, x, res (m f64 each).
+ */
+function blockVectors(
+  d: usize, f: usize, lam: usize, m: i32, q: usize, qs: usize,
+  dl: usize, dg: usize, du: usize, du2: usize, piv: usize, x: usize, res: usize,
+): bool {
+  const eps = f64.EPSILON;
+  let onenrm = 0.0;
+  for (let i = 0; i < m; i++) {
+    const left = i > 0 ? Math.abs(dget(f, i - 1)) : 0.0, right = i < m - 1 ? Math.abs(dget(f, i)) : 0.0;
+    onenrm = max(onenrm, Math.abs(dget(d, i)) + left + right);
+  }
+  const ortol = 1e-3 * onenrm, growth = Math.sqrt(0.1 / <f64>m), tiny = eps * onenrm;
+  let first = 0; // the current cluster's first vector
+  let shift = 0.0;
+  let seed: u64 = 0x9e3779b97f4a7c15;
+  for (let j = 0; j < m; j++) {
+    let xj = dget(lam, j);
+    if (j > 0) {
+      if (xj - dget(lam, j - 1) > ortol) first = j;
+      // an eigenvalue too close to the last one is moved off it, so that the two factorizations differ
+      const pertol = 10.0 * Math.abs(eps * xj);
+      if (xj - shift < pertol) xj = shift + pertol;
+    }
+    shift = xj;
+    // T − xj·I = P·L·U (U with two superdiagonals), pivots below `tiny` raised to it
+    for (let i = 0; i < m; i++) {
+      dset(dg, i, dget(d, i) - xj);
+      if (i < m - 1) {
+        dset(dl, i, dget(f, i));
+        dset(du, i, dget(f, i));
+      }
+      dset(du2, i, 0.0);
+      dset(piv, i, 0.0);
+    }
+    for (let i = 0; i < m - 1; i++) {
+      const a = dget(dg, i), l = dget(dl, i);
+      if (Math.abs(a) >= Math.abs(l)) {
+        const fact = a != 0.0 ? l / a : 0.0;
+        dset(dl, i, fact);
+        dset(dg, i + 1, dget(dg, i + 1) - fact * dget(du, i));
+      } else {
+        const fact = a / l;
+        dset(dg, i, l);
+        dset(dl, i, fact);
+        const t = dget(du, i);
+        dset(du, i, dget(dg, i + 1));
+        dset(dg, i + 1, t - fact * dget(dg, i + 1));
+        if (i < m - 2) {
+          dset(du2, i, dget(du, i + 1));
+          dset(du, i + 1, -fact * dget(du, i + 1));
+        }
+        dset(piv, i, 1.0);
+      }
+    }
+    const last = max(eps, Math.abs(dget(dg, m - 1)));
+    // the pivots' reciprocals (the solves multiply)
+    for (let i = 0; i < m; i++) {
+      const a = dget(dg, i);
+      dset(dg, i, 1.0 / (Math.abs(a) < tiny ? (a < 0 ? -tiny : tiny) : a));
+    }
+    // a pseudo-random start in (−1, 1)
+    for (let i = 0; i < m; i++) {
+      seed ^= seed << 13;
+      seed ^= seed >> 7;
+      seed ^= seed << 17;
+      dset(x, i, <f64>(seed >> 11) * (2.0 / 9007199254740992.0) - 1.0);
+    }
+    let checks = 0, converged = false;
+    for (let step = 0; step < MAX_STEPS + extraSteps && !converged; step++) {
+      // the right-hand side scaled to m·‖T‖·max(ε, |u_mm|) in the 1-norm: the solution's size then tells convergence
+      let sum = 0.0;
+      for (let i = 0; i < m; i++) sum += Math.abs(dget(x, i));
+      if (!(sum > 0.0) || !isFinite(sum)) return false;
+      const scl = <f64>m * onenrm * last / sum;
+      for (let i = 0; i < m; i++) dset(x, i, dget(x, i) * scl);
+      // forward: L with the row interchanges; back: U
+      for (let i = 0; i < m - 1; i++) {
+        if (dget(piv, i) != 0.0) {
+          const t = dget(x, i);
+          dset(x, i, dget(x, i + 1));
+          dset(x, i + 1, t - dget(dl, i) * dget(x, i));
+        } else {
+          dset(x, i + 1, dget(x, i + 1) - dget(dl, i) * dget(x, i));
+        }
+      }
+      let x1 = dget(x, m - 1) * dget(dg, m - 1);
+      let x0 = (dget(x, m - 2) - dget(du, m - 2) * x1) * dget(dg, m - 2);
+      dset(x, m - 1, x1);
+      dset(x, m - 2, x0);
+      for (let i = m - 3; i >= 0; i--) {
+        const xi = (dget(x, i) - dget(du, i) * x0 - dget(du2, i) * x1) * dget(dg, i);
+        dset(x, i, xi);
+        x1 = x0;
+        x0 = xi;
+      }
+      // against the cluster's earlier vectors (modified Gram–Schmidt)
+      for (let k = first; k < j; k++) {
+        const row = q + <usize>k * qs;
+        let dot = 0.0;
+        for (let i = 0; i < m; i++) dot += dget(row, i) * dget(x, i);
+        for (let i = 0; i < m; i++) dset(x, i, dget(x, i) - dot * dget(row, i));
+      }
+      let big = 0.0;
+      for (let i = 0; i < m; i++) big = max(big, Math.abs(dget(x, i)));
+      if (!isFinite(big)) return false;
+      if (big >= growth && ++checks > extraSteps) converged = true;
+    }
+    if (!converged) return false;
+    // unit length, the largest entry positive
+    let norm2 = 0.0, big = 0.0, at = 0;
+    for (let i = 0; i < m; i++) {
+      const v = dget(x, i);
+      norm2 += v * v;
+      if (Math.abs(v) > big) {
+        big = Math.abs(v);
+        at = i;
+      }
+    }
+    let scl = 1.0 / Math.sqrt(norm2);
+    if (dget(x, at) < 0) scl = -scl;
+    const row = q + <usize>j * qs;
+    for (let i = 0; i < m; i++) dset(row, i, dget(x, i) * scl);
+  }
+  return checkBlock(d, f, lam, m, q, qs, onenrm, ortol, res);
+}
+
+/**
+ * The checks of one block's vectors (see above): residuals ‖(T − λ_j)q_j‖₂ (plus a rounding allowance) at most
+ * 8m·ε‖T‖, and |q_i·q_k| at most 8m·ε for every pair, from the bound or from the dot product itself.
+ */
+function checkBlock(
+  d: usize, f: usize, lam: usize, m: i32, q: usize, qs: usize, onenrm: f64, ortol: f64, res: usize,
+): bool {
+  const eps = f64.EPSILON, resTol = 8.0 * <f64>m * eps * onenrm, orthTol = 8.0 * <f64>m * eps;
+  for (let j = 0; j < m; j++) {
+    const row = q + <usize>j * qs, l = dget(lam, j);
+    let sum = 0.0;
+    for (let i = 0; i < m; i++) {
+      let t = (dget(d, i) - l) * dget(row, i);
+      if (i > 0) t += dget(f, i - 1) * dget(row, i - 1);
+      if (i < m - 1) t += dget(f, i) * dget(row, i + 1);
+      sum += t * t;
+    }
+    const r = Math.sqrt(sum) + 4.0 * eps * onenrm;
+    if (!(r <= resTol)) return false;
+    dset(res, j, r);
+  }
+  for (let i = 0; i < m; i++) {
+    for (let k = i + 1; k < m; k++) {
+      const gap = dget(lam, k) - dget(lam, i);
+      // a close pair (gap ≤ ortol) is always checked by its dot product
+      if (gap > ortol && (dget(res, i) + dget(res, k)) <= orthTol * gap) continue;
+      const a = q + <usize>i * qs, b = q + <usize>k * qs;
+      let dot = 0.0;
+      for (let t = 0; t < m; t++) dot += dget(a, t) * dget(b, t);
+      if (!(Math.abs(dot) <= orthTol)) return false;
+    }
+  }
+  return true;
 }

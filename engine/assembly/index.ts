@@ -13,7 +13,7 @@ export {
   zgemvRef,
   zgemvSimd,
 } from "./kernels";
-export { eigh, eigenvaluesOnly } from "./eigh";
+export { eigh, eigenvaluesOnly, lastEighByInverseIteration, setInverseIterationExtraSteps } from "./eigh";
 export {
   advance,
   advanceExact,
