@@ -596,7 +596,7 @@ function sumTerms(terms: OperatorTerm[], d: number): OperatorTerm {
 export function eigenvalues(engine: Engine, matrix: Float64Array, d: number): Float64Array {
   const e = engine.exports;
   e.arenaReset();
-  const a = e.arenaAlloc(16 * d * d), w = e.arenaAlloc(8 * d), work = e.arenaAlloc(96 * d);
+  const a = e.arenaAlloc(16 * d * d), w = e.arenaAlloc(8 * d), work = e.arenaAlloc(128 * d);
   if (!a || !w || !work) check(1);
   new Float64Array(e.memory.buffer, a, 2 * d * d).set(matrix);
   check(e.eigenvaluesOnly(a, d, w, work) === 0 ? 0 : 2);
@@ -621,7 +621,7 @@ export function eigh(
   const a = e.arenaAlloc(16 * d * d),
     w = e.arenaAlloc(8 * d),
     z = e.arenaAlloc(16 * d * d),
-    work = e.arenaAlloc(96 * d);
+    work = e.arenaAlloc(128 * d);
   if (!a || !w || !z || !work) check(1);
   new Float64Array(e.memory.buffer, a, 2 * d * d).set(matrix);
   check(e.eigh(a, d, w, z, work) === 0 ? 0 : 2);

@@ -200,7 +200,10 @@ function orthonormalityError(z: Float64Array, d: number): number {
     for (let l = k; l < d; l++) {
       let re = 0, im = 0;
       for (let j = 0; j < d; j++) {
-        const xr = z[2 * (j * d + k)]!, xi = z[2 * (j * d + k) + 1]!, yr = z[2 * (j * d + l)]!, yi = z[2 * (j * d + l) + 1]!;
+        const xr = z[2 * (j * d + k)]!,
+          xi = z[2 * (j * d + k) + 1]!,
+          yr = z[2 * (j * d + l)]!,
+          yi = z[2 * (j * d + l) + 1]!;
         re += xr * yr + xi * yi;
         im += xr * yi - xi * yr;
       }
@@ -220,7 +223,11 @@ Deno.test("eigh() from d = 24 takes inverse iteration and keeps close and degene
   const engine = await testEngine();
   const random = seeded(11);
   const cases: { name: string; d: number; entry: (i: number, j: number) => [number, number] }[] = [
-    { name: "Wilkinson W+ (d = 41)", d: 41, entry: (i, j) => [i === j ? Math.abs(20 - i) : Math.abs(i - j) === 1 ? 1 : 0, 0] },
+    {
+      name: "Wilkinson W+ (d = 41)",
+      d: 41,
+      entry: (i, j) => [i === j ? Math.abs(20 - i) : Math.abs(i - j) === 1 ? 1 : 0, 0],
+    },
     {
       name: "oscillator position (d = 60)",
       d: 60,
@@ -234,14 +241,19 @@ Deno.test("eigh() from d = 24 takes inverse iteration and keeps close and degene
     name: "two identical blocks (d = 64)",
     d: 64,
     entry: (i, j) =>
-      (i < 32) === (j < 32) ? [b[2 * ((i % 32) * 32 + (j % 32))]!, b[2 * ((i % 32) * 32 + (j % 32)) + 1]!] : [0, 0],
+      (i < 32) === (j < 32)
+        ? [b[2 * ((i % 32) * 32 + (j % 32))]!, b[2 * ((i % 32) * 32 + (j % 32)) + 1]!]
+        : [0, 0],
   });
   // quartets of equal levels split by couplings of 1e-10 (complex)
   const split = randomHermitian(48, random, 1e-10);
   cases.push({
     name: "levels split by 1e-10 (d = 48)",
     d: 48,
-    entry: (i, j) => [(i === j ? Math.floor(i / 4) : 0) + split[2 * (i * 48 + j)]!, split[2 * (i * 48 + j) + 1]!],
+    entry: (
+      i,
+      j,
+    ) => [(i === j ? Math.floor(i / 4) : 0) + split[2 * (i * 48 + j)]!, split[2 * (i * 48 + j) + 1]!],
   });
   for (const { name, d, entry } of cases) {
     const a = new Float64Array(2 * d * d);
@@ -249,15 +261,23 @@ Deno.test("eigh() from d = 24 takes inverse iteration and keeps close and degene
       for (let j = 0; j < d; j++) [a[2 * (i * d + j)], a[2 * (i * d + j) + 1]] = entry(i, j);
     }
     const { values, vectors } = eigh(engine, a.slice(), d);
-    assert(engine.exports.lastEighByInverseIteration() === 1, `${name}: inverse iteration vouched for its vectors`);
+    assert(
+      engine.exports.lastEighByInverseIteration() === 1,
+      `${name}: inverse iteration vouched for its vectors`,
+    );
     let norm = 0;
     for (let k = 0; k < 2 * d * d; k++) norm = Math.max(norm, Math.abs(a[k]!));
     assertClose(eigenResidual(a, values, vectors, d), 0, { abs: 1e-13 * d * norm }, `${name}: ‖Az − λz‖`);
     assertClose(orthonormalityError(vectors, d), 0, { abs: 1e-13 * d }, `${name}: Z†Z = I`);
     if (a.every((x, k) => k % 2 === 0 || x === 0)) {
-      const rows = Array.from({ length: d }, (_, i) => Array.from({ length: d }, (_, j) => a[2 * (i * d + j)]!));
+      const rows = Array.from(
+        { length: d },
+        (_, i) => Array.from({ length: d }, (_, j) => a[2 * (i * d + j)]!),
+      );
       const theirs = (math.eigs(rows).values as number[]).slice().sort((x, y) => x - y);
-      theirs.forEach((x, k) => assertClose(values[k]!, x, { abs: 1e-12 * norm * d }, `${name}: eigenvalue ${k}`));
+      theirs.forEach((x, k) =>
+        assertClose(values[k]!, x, { abs: 1e-12 * norm * d }, `${name}: eigenvalue ${k}`)
+      );
     }
   }
 });

@@ -20,7 +20,7 @@ import { arg, argF, blockSize, runShared, setArg, setArgF, sharing } from "./sha
 /**
  * Eigen-decomposition A = Z·diag(w)·Z† of a Hermitian n×n matrix.
  * A is destroyed. w: n f64 (ascending). Z: n×n complex, column k is the
- * eigenvector of w[k]. work: at least 12n f64. Returns 0, or 1 when the QL
+ * eigenvector of w[k]. work: at least 16n f64. Returns 0, or 1 when the QL
  * iteration did not converge.
  */
 export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
@@ -29,7 +29,7 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
   const e = work + (<usize>n << 5);      // n f64 (real subdiagonal)
   const sub = e + (<usize>n << 3);       // n complex (complex subdiagonal)  [uses 2n f64]
   const taus = sub + (<usize>n << 4);    // n f64 (reflector factors)
-  const pending = taus + (<usize>n << 3); // 2n complex (the reduction's pending update)
+  const pending = taus + (<usize>n << 3); // 2n complex (the reduction's pending update), then 2n complex scratch
   tridiagonalize(a, n, v, p, sub, taus, pending);
   accumulateReflectors(a, n, z, p, v, taus);
   // Diagonal, and the phase change D that makes the subdiagonal real: Z ← Z·D.
@@ -74,7 +74,7 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
 
 /**
  * Eigenvalues only (ascending, into w) of a Hermitian n×n matrix: the same reduction and QL, without
- * eigenvectors (no reflector accumulation, no rotations kept). A is destroyed; work: at least 12n f64. Returns 0,
+ * eigenvectors (no reflector accumulation, no rotations kept). A is destroyed; work: at least 16n f64. Returns 0,
  * or 1 when the QL iteration did not converge.
  */
 export function eigenvaluesOnly(a: usize, n: i32, w: usize, work: usize): i32 {
@@ -100,7 +100,9 @@ export function eigenvaluesOnly(a: usize, n: i32, w: usize, work: usize): i32 {
 
 /**
  * The Householder reduction: A's diagonal and the complex subdiagonal (sub) of the tridiagonal, the reflectors'
- * vectors in A's columns and their factors in taus (v, p: n complex each; pending: 2n complex, scratch).
+ * vectors in A's columns and their factors in taus (v, p: n complex each; pending: 4n complex, scratch). Only A's
+ * lower triangle is read and kept up to date (A is Hermitian): each of its entries serves two products, its row's
+ * and, conjugated, its column's.
  *
  * Each step's rank-2 update A22 −= v w† + w v† is applied during the next step's product with its reflector
  * (one pass over the trailing block a step instead of two): step k first brings column k up to date, finds its
@@ -111,9 +113,10 @@ function tridiagonalize(a: usize, n: i32, v: usize, p: usize, sub: usize, taus: 
   // this step's (v, p) and the last step's (vq, wq) swap buffers every step; from step 1 on, (vq, wq) holds an
   // update not yet applied
   let vq = pending, wq = pending + (<usize>n << 4), cv = v, cp = p;
+  const scatter = pending + (<usize>n << 5); // 2n complex: the column products of the two halves of a step
   for (let k = 0; k < n - 2; k++) {
     if (k > 0) lateUpdate(a, n, k, vq, wq, k, k + 1); // column k, rows k..
-    reduceColumn(a, n, k, cv, cp, sub, taus, vq, wq, k > 0);
+    reduceColumn(a, n, k, cv, cp, sub, taus, vq, wq, k > 0, scatter);
     const tv = vq, tw = wq;
     vq = cv;
     wq = cp;
@@ -157,6 +160,7 @@ export const JOB_MATVEC_ROWS = 5;
  */
 function reduceColumn(
   a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, taus: usize, vq: usize, wq: usize, late: bool,
+  scatter: usize,
 ): void {
   let xnorm2 = 0.0;
   for (let i = k + 1; i < n; i++) {
@@ -185,24 +189,35 @@ function reduceColumn(
     store<f64>(v0, im(v0) - ali, 8);
     tau = 2.0 / (2.0 * xnorm * (xnorm + ax0));
   }
-  // p = τ·A22·v (A22 brought up to date on the way), then β = (τ/2)·v†p
+  // p = τ·A22·v (A22 brought up to date on the way): the row products in p, the column products in two scatter
+  // buffers, one for each half of the step's rows (the same halves and order whichever thread takes them: the
+  // sums never depend on the helper), added at the end; then β = (τ/2)·v†p. The rows go in pairs, a short one and
+  // a long one (k+1+t and n−1−t: n−k entries of the triangle each), so that the halves are equal work.
+  const first = scatter, second = scatter + (<usize>n << 4), bytes = <usize>(n - k - 1) << 4;
+  memory.fill(first + (<usize>(k + 1) << 4), 0, bytes);
+  memory.fill(second + (<usize>(k + 1) << 4), 0, bytes);
+  const pairs = (n - k) >> 1, half = (pairs + 1) >> 1;
+  setArg(0, <u64>a);
+  setArg(1, <u64>n | (<u64>k << 32));
+  setArg(2, <u64>v);
+  setArg(3, <u64>p);
+  setArg(4, <u64>first | (<u64>second << 32));
+  setArg(5, <u64>vq);
+  setArg(6, <u64>wq);
+  setArg(7, late ? 1 : 0);
   if (sharing() && n - k - 1 >= EIGH_SHARE_FROM) {
-    setArg(0, <u64>a);
-    setArg(1, <u64>n | (<u64>k << 32));
-    setArg(2, <u64>v);
-    setArg(3, <u64>p);
-    setArgF(4, tau);
-    setArg(5, <u64>vq);
-    setArg(6, <u64>wq);
-    setArg(7, late ? 1 : 0);
-    runShared(JOB_MATVEC_ROWS, k + 1, n, blockSize(n - k - 1, 2, 4), matvecRowsJob);
+    runShared(JOB_MATVEC_ROWS, 0, pairs, half, matvecRowsJob);
   } else {
-    matvecRows(a, n, k, v, p, tau, vq, wq, late, k + 1, n);
+    matvecRowsJob(0, half);
+    if (half < pairs) matvecRowsJob(half, pairs);
   }
   let beta = 0.0;
   for (let i = k + 1; i < n; i++) {
-    const o = p + (<usize>i << 4), vi = v + (<usize>i << 4);
-    beta += re(vi) * re(o) + im(vi) * im(o);
+    const o = p + (<usize>i << 4), vi = v + (<usize>i << 4), c = first + (<usize>i << 4), h = second + (<usize>i << 4);
+    const pr = tau * (re(o) + re(c) + re(h)), pi = tau * (im(o) + im(c) + im(h));
+    store<f64>(o, pr);
+    store<f64>(o, pi, 8);
+    beta += re(vi) * pr + im(vi) * pi;
   }
   beta *= 0.5 * tau;
   // w = p − β v (in p)
@@ -223,52 +238,74 @@ function reduceColumn(
 }
 
 /**
- * Rows i0…i1−1 of the trailing block below and right of k: with `late`, A22 −= vq wq† + wq vq† first; then
- * p = τ·A22·v.
+ * Rows i0…i1−1 of the trailing block's lower triangle (columns k+1…i): with `late`, A22 −= vq wq† + wq vq† first;
+ * then the row products Σ_{j≤i} a_ij·v_j into p_i, and the column products conj(a_ij)·v_i (j < i) added to
+ * scatter_j (A22 = A22†: together they make A22·v).
  */
 function matvecRows(
-  a: usize, n: i32, k: i32, v: usize, p: usize, tau: f64, vq: usize, wq: usize, late: bool, i0: i32, i1: i32,
+  a: usize, n: i32, k: i32, v: usize, p: usize, vq: usize, wq: usize, late: bool, i0: i32, i1: i32,
+  scatter: usize,
 ): void {
   const flip = f64x2(-1.0, 1.0);
   for (let i = i0; i < i1; i++) {
     // (A22·v)_i two lanes at a time: Σ a·vr + swap(a)·vi, then (re − im', im + re') from the two sums
     let accA = f64x2.splat(0), accB = f64x2.splat(0);
+    // conj(a)·v_i = a⊙(vr, −vr) + swap(a)⊙(vi, vi)
+    const x = v + (<usize>i << 4);
+    const s1 = f64x2(re(x), -re(x)), s2 = f64x2.splat(im(x));
+    const row = at(a, n, i, 0);
     if (late) {
       // vq_i·conj(wq_j) = (vr, −vr)⊙wq_j + (vi, vi)⊙swap(wq_j), and likewise wq_i·conj(vq_j)
       const vi = vq + (<usize>i << 4), wi = wq + (<usize>i << 4);
       const c1 = f64x2(re(vi), -re(vi)), c2 = f64x2.splat(im(vi));
       const d1 = f64x2(re(wi), -re(wi)), d2 = f64x2.splat(im(wi));
-      for (let j = k + 1; j < n; j++) {
-        const wj = v128.load(wq + (<usize>j << 4)), vj = v128.load(vq + (<usize>j << 4)), q = at(a, n, i, j);
+      for (let j = k + 1; j <= i; j++) {
+        const o = <usize>j << 4;
+        const wj = v128.load(wq + o), vj = v128.load(vq + o), q = row + o;
         let m = v128.load(q);
         m = nmadd(c1, wj, m);
         m = nmadd(c2, v128.shuffle<f64>(wj, wj, 1, 0), m);
         m = nmadd(d1, vj, m);
         m = nmadd(d2, v128.shuffle<f64>(vj, vj, 1, 0), m);
         v128.store(q, m);
-        const o = v + (<usize>j << 4);
-        accA = madd(m, v128.load64_splat(o), accA);
-        accB = madd(v128.shuffle<f64>(m, m, 1, 0), v128.load64_splat(o, 8), accB);
+        const w = v128.shuffle<f64>(m, m, 1, 0);
+        accA = madd(m, v128.load64_splat(v + o), accA);
+        accB = madd(w, v128.load64_splat(v + o, 8), accB);
+        if (j < i) {
+          const c = scatter + o;
+          v128.store(c, madd(w, s2, madd(m, s1, v128.load(c))));
+        }
       }
     } else {
-      for (let j = k + 1; j < n; j++) {
-        const m = v128.load(at(a, n, i, j)), o = v + (<usize>j << 4);
-        accA = madd(m, v128.load64_splat(o), accA);
-        accB = madd(v128.shuffle<f64>(m, m, 1, 0), v128.load64_splat(o, 8), accB);
+      for (let j = k + 1; j <= i; j++) {
+        const o = <usize>j << 4;
+        const m = v128.load(row + o), w = v128.shuffle<f64>(m, m, 1, 0);
+        accA = madd(m, v128.load64_splat(v + o), accA);
+        accB = madd(w, v128.load64_splat(v + o, 8), accB);
+        if (j < i) {
+          const c = scatter + o;
+          v128.store(c, madd(w, s2, madd(m, s1, v128.load(c))));
+        }
       }
     }
     const sum = f64x2.add(accA, f64x2.mul(accB, flip));
-    const o = p + (<usize>i << 4);
-    store<f64>(o, tau * f64x2.extract_lane(sum, 0));
-    store<f64>(o, tau * f64x2.extract_lane(sum, 1), 8);
+    v128.store(p + (<usize>i << 4), sum);
   }
 }
 
-/** Blocks of a reduction step (arguments as {@link reduceColumn} posts them). */
-export function matvecRowsJob(i0: i32, i1: i32): void {
-  const nk = arg(1);
-  matvecRows(<usize>arg(0), <i32>(nk & 0xffffffff), <i32>(nk >> 32), <usize>arg(2), <usize>arg(3), argF(4),
-    <usize>arg(5), <usize>arg(6), arg(7) != 0, i0, i1);
+/**
+ * Pairs t0…t1−1 of a reduction step (arguments as {@link reduceColumn} posts them): rows k+1+t and n−1−t, their
+ * column products into the first scatter buffer for the first half (t0 = 0), else the second.
+ */
+export function matvecRowsJob(t0: i32, t1: i32): void {
+  const nk = arg(1), n = <i32>(nk & 0xffffffff), k = <i32>(nk >> 32), buffers = arg(4);
+  const a = <usize>arg(0), v = <usize>arg(2), p = <usize>arg(3), vq = <usize>arg(5), wq = <usize>arg(6);
+  const late = arg(7) != 0, scatter = <usize>(t0 == 0 ? buffers & 0xffffffff : buffers >> 32);
+  for (let t = t0; t < t1; t++) {
+    const short = k + 1 + t, long = n - 1 - t;
+    matvecRows(a, n, k, v, p, vq, wq, late, short, short + 1, scatter);
+    if (long != short) matvecRows(a, n, k, v, p, vq, wq, late, long, long + 1, scatter);
+  }
 }
 
 /**

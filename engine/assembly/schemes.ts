@@ -168,7 +168,7 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32, c
   initial = arenaAlloc(vec);
   save = arenaAlloc(<usize>(r + 2) * vec);
   comp = arenaAlloc(<usize>(r + 1) * vec);
-  work = arenaAlloc(<usize>d * 96); // the eigensolver's 12d f64
+  work = arenaAlloc(<usize>d * 128); // the eigensolver's 16d f64
   rkStage = arenaAlloc(<usize>RK_STAGES * <usize>(r + 1) * vec);
   rkZ = arenaAlloc(<usize>(r + 1) * vec);
   rkU = arenaAlloc(<usize>(r + 1) * vec);
