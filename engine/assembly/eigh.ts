@@ -197,19 +197,20 @@ function reduceColumn(
   memory.fill(first + (<usize>(k + 1) << 4), 0, bytes);
   memory.fill(second + (<usize>(k + 1) << 4), 0, bytes);
   const pairs = (n - k) >> 1, half = (pairs + 1) >> 1;
-  setArg(0, <u64>a);
-  setArg(1, <u64>n | (<u64>k << 32));
-  setArg(2, <u64>v);
-  setArg(3, <u64>p);
-  setArg(4, <u64>first | (<u64>second << 32));
-  setArg(5, <u64>vq);
-  setArg(6, <u64>wq);
-  setArg(7, late ? 1 : 0);
   if (sharing() && n - k - 1 >= EIGH_SHARE_FROM) {
+    // (the argument slots only once a helper has joined: its instance may still write them before)
+    setArg(0, <u64>a);
+    setArg(1, <u64>n | (<u64>k << 32));
+    setArg(2, <u64>v);
+    setArg(3, <u64>p);
+    setArg(4, <u64>first | (<u64>second << 32));
+    setArg(5, <u64>vq);
+    setArg(6, <u64>wq);
+    setArg(7, late ? 1 : 0);
     runShared(JOB_MATVEC_ROWS, 0, pairs, half, matvecRowsJob);
   } else {
-    matvecRowsJob(0, half);
-    if (half < pairs) matvecRowsJob(half, pairs);
+    matvecPairs(a, n, k, v, p, vq, wq, late, 0, half, first);
+    if (half < pairs) matvecPairs(a, n, k, v, p, vq, wq, late, half, pairs, second);
   }
   let beta = 0.0;
   for (let i = k + 1; i < n; i++) {
@@ -298,9 +299,15 @@ function matvecRows(
  * column products into the first scatter buffer for the first half (t0 = 0), else the second.
  */
 export function matvecRowsJob(t0: i32, t1: i32): void {
-  const nk = arg(1), n = <i32>(nk & 0xffffffff), k = <i32>(nk >> 32), buffers = arg(4);
-  const a = <usize>arg(0), v = <usize>arg(2), p = <usize>arg(3), vq = <usize>arg(5), wq = <usize>arg(6);
-  const late = arg(7) != 0, scatter = <usize>(t0 == 0 ? buffers & 0xffffffff : buffers >> 32);
+  const nk = arg(1), buffers = arg(4);
+  matvecPairs(<usize>arg(0), <i32>(nk & 0xffffffff), <i32>(nk >> 32), <usize>arg(2), <usize>arg(3), <usize>arg(5),
+    <usize>arg(6), arg(7) != 0, t0, t1, <usize>(t0 == 0 ? buffers & 0xffffffff : buffers >> 32));
+}
+
+/** Pairs t0…t1−1 of a reduction step (see {@link matvecRowsJob}), their column products into `scatter`. */
+function matvecPairs(
+  a: usize, n: i32, k: i32, v: usize, p: usize, vq: usize, wq: usize, late: bool, t0: i32, t1: i32, scatter: usize,
+): void {
   for (let t = t0; t < t1; t++) {
     const short = k + 1 + t, long = n - 1 - t;
     matvecRows(a, n, k, v, p, vq, wq, late, short, short + 1, scatter);
