@@ -80,6 +80,8 @@ interface Exports {
   helperBlocks(): number;
   stopHelper(): void;
   peakLoop(iterations: number, x0: number, dy: number): number;
+  /** 1 in the relaxed-SIMD builds (fused multiply-adds), 0 in the portable one. */
+  fusedMultiplyAdd(): number;
   eigh(a: number, n: number, w: number, z: number, work: number): number;
   eigenvaluesOnly(a: number, n: number, w: number, work: number): number;
   /** 1 when the last eigh took the tridiagonal's eigenvectors from inverse iteration, 0 from the QL rotations. */
@@ -198,15 +200,15 @@ const MAX_PAGES = 65536;
 /**
  * Instantiates the engine.
  *
- * @param wasm the module bytes; default: `ordo.wasm` beside this file (`ordo_shared.wasm` with a helper)
+ * @param wasm the module bytes; default: `ordo_fma.wasm` beside this file (`ordo_shared.wasm` with a helper), or
+ *   `ordo.wasm` where the host has no relaxed SIMD
  * @param options see {@link EngineOptions}
  * @returns an engine ready for {@link solve}
  */
 export async function loadEngine(wasm?: BufferSource, options: EngineOptions = {}): Promise<Engine> {
   // deno-lint-ignore no-explicit-any
   const deno = (globalThis as any).Deno !== undefined;
-  const bytes = wasm ?? await readWasm(options.helper && deno ? "ordo_shared.wasm" : "ordo.wasm");
-  const module = await WebAssembly.compile(bytes);
+  const module = wasm ? await WebAssembly.compile(wasm) : await compileBuild(options.helper === true && deno);
   // The shared build imports its memory (shared, so that a helper thread can work on the same arrays).
   const shared = WebAssembly.Module.imports(module).some((i) => i.kind === "memory");
   const memory = shared
@@ -268,6 +270,19 @@ function startHelper(
   });
   worker.postMessage({ module, memory });
   return { worker, ready };
+}
+
+/**
+ * The engine's module: a relaxed-SIMD build (fused multiply-adds; on shared memory when a helper is wanted) where
+ * the host compiles one, else the portable build (plain SIMD, its own memory: Node 20 and older browsers take
+ * this one, and then no helper).
+ */
+async function compileBuild(helper: boolean): Promise<WebAssembly.Module> {
+  try {
+    return await WebAssembly.compile(await readWasm(helper ? "ordo_shared.wasm" : "ordo_fma.wasm"));
+  } catch {
+    return await WebAssembly.compile(await readWasm("ordo.wasm"));
+  }
 }
 
 async function readWasm(name: string): Promise<Uint8Array<ArrayBuffer>> {

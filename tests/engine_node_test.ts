@@ -21,7 +21,10 @@ Deno.test({
       stderr: "piped",
     }).output();
     assert(bundle.success, new TextDecoder().decode(bundle.stderr));
+    // both builds beside the bundle: a Node without relaxed SIMD (Node 20) cannot compile ordo_fma.wasm and must
+    // fall back to the portable ordo.wasm by itself
     Deno.copyFileSync(new URL("engine/ordo.wasm", root), `${dir}/ordo.wasm`);
+    Deno.copyFileSync(new URL("engine/ordo_fma.wasm", root), `${dir}/ordo_fma.wasm`);
     Deno.writeTextFileSync(
       `${dir}/run.mjs`,
       `import { loadEngine, solve, populationsAt } from "./engine.mjs";

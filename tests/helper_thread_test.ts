@@ -164,11 +164,38 @@ Deno.test("the plain build owns its memory (no shared memory needed: Node, brows
     (await imports("ordo_shared.wasm")).some((i) => i.kind === "memory"),
     "ordo_shared.wasm owns its memory",
   );
+  assert(
+    !(await imports("ordo_fma.wasm")).some((i) => i.kind === "memory"),
+    "ordo_fma.wasm imports a memory",
+  );
   const plain = await loadEngine();
   assert(
     !(plain.exports.memory.buffer instanceof SharedArrayBuffer),
     "the default engine runs on shared memory",
   );
+});
+
+// Deno has relaxed SIMD, so it takes the builds with fused multiply-adds; the portable build (plain SIMD) is what
+// a host without it gets. A fused multiply-add rounds once where a multiply and an add round twice: the two agree
+// to rounding, not bit for bit (the default build is the one every other test checks against closed forms and
+// mathjs).
+Deno.test("Deno takes the fused (relaxed-SIMD) builds; the portable build agrees to rounding on a driven d = 64 run", async () => {
+  const fused = await loadEngine();
+  const helped = await loadEngine(undefined, { helper: true });
+  const portable = await loadEngine(await Deno.readFile(new URL("../engine/ordo.wasm", import.meta.url)));
+  try {
+    assertEqual(fused.exports.fusedMultiplyAdd(), 1, "ordo_fma.wasm fuses");
+    assertEqual(helped.exports.fusedMultiplyAdd(), 1, "ordo_shared.wasm fuses");
+    assertEqual(portable.exports.fusedMultiplyAdd(), 0, "ordo.wasm does not");
+    const model = { ...drivenModel(dense(64), 1), accuracy: 1e-8, samples: 2 };
+    const a = solve(fused, model), b = solve(portable, model);
+    assertEqual(a.steps, b.steps, "the same steps");
+    let worst = 0;
+    for (let k = 0; k < a.exact.length; k++) worst = Math.max(worst, Math.abs(a.exact[k]! - b.exact[k]!));
+    assert(worst < 1e-12, `the builds differ by ${worst}`);
+  } finally {
+    helped.close();
+  }
 });
 
 Deno.test("after the helper has failed, runs work alone (same numbers, no hang)", async () => {

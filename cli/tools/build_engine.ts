@@ -1,6 +1,6 @@
 /**
- * Compiles the AssemblyScript engine to `engine/ordo.wasm` and `engine/ordo_shared.wasm`, skipping the
- * compile when both are newer than every engine source.
+ * Compiles the AssemblyScript engine to `engine/ordo.wasm`, `engine/ordo_fma.wasm` and `engine/ordo_shared.wasm`,
+ * skipping the compile when all are newer than every engine source.
  *
  * Run with `deno task build`; pass `--force` to rebuild regardless.
  *
@@ -10,6 +10,7 @@
 const root = new URL("../../", import.meta.url);
 const sourceDir = new URL("engine/assembly/", root);
 const output = new URL("engine/ordo.wasm", root);
+const fmaOutput = new URL("engine/ordo_fma.wasm", root);
 const sharedOutput = new URL("engine/ordo_shared.wasm", root);
 
 function newestSource(): number {
@@ -22,30 +23,36 @@ function newestSource(): number {
   return newest;
 }
 
-/** The older of the two outputs' times (0 when one is missing). */
+/** The oldest of the outputs' times (0 when one is missing). */
 function outputTime(): number {
   try {
     return Math.min(
-      Deno.statSync(output).mtime?.getTime() ?? 0,
-      Deno.statSync(sharedOutput).mtime?.getTime() ?? 0,
+      ...[output, fmaOutput, sharedOutput].map((file) => Deno.statSync(file).mtime?.getTime() ?? 0),
     );
   } catch {
     return 0;
   }
 }
 
-/** The two builds: plain (its own memory; runs anywhere, browsers included), and on an imported shared memory
- * (for the helper thread; Deno). One source: atomics are compiled into both but run only when shared. */
+/**
+ * The three builds, from one source: portable (plain SIMD, its own memory: runs wherever WebAssembly SIMD does,
+ * Node 20 and browsers included); with relaxed SIMD (fused multiply-adds), its own memory; and with relaxed SIMD
+ * on an imported shared memory (for the helper thread; Deno). Atomics are compiled into all but run only when
+ * shared. `loadEngine` takes a relaxed build where the host compiles it, else the portable one.
+ */
 const builds = [
-  { output, memory: [] as string[] },
+  { output, features: [] as string[], memory: [] as string[] },
+  { output: fmaOutput, features: ["--enable", "relaxed-simd"], memory: [] as string[] },
   {
     output: sharedOutput,
+    features: ["--enable", "relaxed-simd"],
     memory: ["--importMemory", "--sharedMemory", "--maximumMemory", "65536"],
   },
 ];
 
 if (Deno.args.includes("--force") || outputTime() <= newestSource()) {
-  for (const build of builds) {
+  // the three compiles at once (each its own process)
+  const results = await Promise.all(builds.map(async (build) => {
     const args = [
       "run",
       "-A",
@@ -56,6 +63,7 @@ if (Deno.args.includes("--force") || outputTime() <= newestSource()) {
       "simd",
       "--enable",
       "threads",
+      ...build.features,
       ...build.memory,
       "--runtime",
       "stub",
@@ -71,6 +79,9 @@ if (Deno.args.includes("--force") || outputTime() <= newestSource()) {
       stdout: "inherit",
       stderr: "inherit",
     }).output();
+    return { build, code };
+  }));
+  for (const { build, code } of results) {
     if (code !== 0) {
       console.error(
         "ordo: the engine did not compile (see the compiler output above)",

@@ -2,6 +2,7 @@
 // the TypeScript face.
 export { arenaAlloc, arenaReset } from "./arena";
 export {
+  fusedMultiplyAdd,
   packedScratchBytes,
   peakLoop,
   setKernelScratch,

@@ -7,13 +7,24 @@ import { arg, argF, blockSize, runShared, setArg, setArgF, sharing } from "./sha
 // beyond the block: the drivers own those. The SIMD kernel reads each row of
 // A once for up to four vectors; the reference kernel is the plain loop.
 
-/** a·b + c, two lanes (a multiply and an add: plain SIMD, so the engine runs wherever WebAssembly SIMD does). */
+/**
+ * a·b + c, two lanes: a fused multiply-add in the relaxed-SIMD builds (one instruction where the processor has
+ * one; the host decides, the same way for every call on one machine), else a multiply and an add (plain SIMD: the
+ * portable build, which runs wherever WebAssembly SIMD does).
+ */
 @inline export function madd(a: v128, b: v128, c: v128): v128 {
+  if (ASC_FEATURE_RELAXED_SIMD) return f64x2.relaxed_madd(a, b, c);
   return f64x2.add(f64x2.mul(a, b), c);
 }
 
-/** c − a·b, two lanes. */
+/** Whether this build fuses its multiply-adds (relaxed SIMD; 0 in the portable build). */
+export function fusedMultiplyAdd(): bool {
+  return ASC_FEATURE_RELAXED_SIMD;
+}
+
+/** c − a·b, two lanes (fused in the relaxed-SIMD builds, as {@link madd}). */
 @inline export function nmadd(a: v128, b: v128, c: v128): v128 {
+  if (ASC_FEATURE_RELAXED_SIMD) return f64x2.relaxed_nmadd(a, b, c);
   return f64x2.sub(c, f64x2.mul(a, b));
 }
 
