@@ -2,6 +2,7 @@
 // exponentials (expm), the Van Loan block exponential, eigenvalues; and the
 // SIMD micro-kernel against the scalar reference kernel and plain JS.
 import { all, type Complex as MathComplex, create, type Matrix } from "mathjs";
+import fc from "fast-check";
 import { assert } from "./assert.ts";
 import { assertClose, eigenResidual, randomHermitian, seeded, testEngine } from "./helpers.ts";
 import { eigenvalues, eigh, multiply, solve } from "../engine/mod.ts";
@@ -301,6 +302,75 @@ Deno.test("eigh() falls back to the QL rotations when inverse iteration's checks
   } finally {
     engine.exports.setInverseIterationExtraSteps(1);
   }
+});
+
+// A = U·diag(E)·U† with U a product of random Householder reflectors (unitary to rounding) has the spectrum E
+// whatever U is: a unitary similarity keeps eigenvalues (common practice). The spectra are drawn with clusters:
+// levels repeated exactly, or split by 1e-13…1e-6, on a spread that may be wide or narrow. Whichever path eigh
+// takes (inverse iteration, or the QL rotations when its checks refuse), the values must be E and the vectors an
+// orthonormal eigenbasis.
+Deno.test("eigh() on random clustered spectra (fast-check): the known eigenvalues, residuals, orthonormality", async () => {
+  const engine = await testEngine();
+  const d = 32;
+  const spectrum = fc.array(
+    fc.record({
+      level: fc.double({ min: -5, max: 5, noNaN: true }),
+      copies: fc.integer({ min: 1, max: 6 }),
+      split: fc.constantFrom(0, 1e-13, 1e-10, 1e-6),
+    }),
+    { minLength: 1, maxLength: 12 },
+  );
+  fc.assert(
+    fc.property(spectrum, fc.integer({ min: 1, max: 1 << 30 }), (groups, seed) => {
+      const energies: number[] = [];
+      for (const { level, copies, split } of groups) {
+        for (let c = 0; c < copies && energies.length < d; c++) energies.push(level + c * split);
+      }
+      while (energies.length < d) energies.push(energies.length % 3); // fill with a threefold-ish remainder
+      const random = seeded(seed);
+      // U = H_1 ⋯ H_6, H = I − 2vv†/‖v‖²: apply to diag(E) from both sides, A = U E U†
+      const a = new Float64Array(2 * d * d);
+      energies.forEach((e, k) => (a[2 * (k * d + k)] = e));
+      for (let r = 0; r < 6; r++) {
+        const v = Array.from({ length: 2 * d }, () => random() - 0.5);
+        const norm2 = v.reduce((s, x) => s + x * x, 0);
+        // A ← H A H: first rows (H A), then columns ((H A) H)
+        for (const side of ["left", "right"] as const) {
+          for (let o = 0; o < d; o++) {
+            // w = v†·(column o of A) on the left, (row o of A)·v on the right
+            let wr = 0, wi = 0;
+            for (let i = 0; i < d; i++) {
+              const [x, y] = side === "left" ? [i, o] : [o, i];
+              const ar = a[2 * (x * d + y)]!,
+                ai = a[2 * (x * d + y) + 1]!,
+                vr = v[2 * i]!,
+                vi = v[2 * i + 1]!;
+              if (side === "left") {
+                wr += vr * ar + vi * ai;
+                wi += vr * ai - vi * ar;
+              } else {
+                wr += ar * vr - ai * vi;
+                wi += ar * vi + ai * vr;
+              }
+            }
+            for (let i = 0; i < d; i++) {
+              const [x, y] = side === "left" ? [i, o] : [o, i];
+              const vr = v[2 * i]!, vi = side === "left" ? v[2 * i + 1]! : -v[2 * i + 1]!;
+              const k = 2 * (x * d + y);
+              a[k] = a[k]! - (2 / norm2) * (vr * wr - vi * wi);
+              a[k + 1] = a[k + 1]! - (2 / norm2) * (vr * wi + vi * wr);
+            }
+          }
+        }
+      }
+      const { values, vectors } = eigh(engine, a.slice(), d);
+      const sorted = energies.slice().sort((x, y) => x - y);
+      sorted.forEach((e, k) => assertClose(values[k]!, e, { abs: 1e-12 }, `eigenvalue ${k}`));
+      assertClose(eigenResidual(a, values, vectors, d), 0, { abs: 1e-12 }, "‖Az − λz‖");
+      assertClose(orthonormalityError(vectors, d), 0, { abs: 1e-12 }, "Z†Z = I");
+    }),
+    { numRuns: 60, seed: 20261202 },
+  );
 });
 
 Deno.test("eigh() handles degenerate and diagonal matrices", async () => {
