@@ -268,6 +268,13 @@ export function packedScratchBytes(d: i32, r: i32): usize {
  * {@link packedScratchBytes}(d, r) bytes for the repacked X.
  */
 export function zgemvPacked(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai: f64, scratch: usize): void {
+  packedUpTo(a, d, x, y, r, ar, ai, scratch, d);
+}
+
+/** {@link zgemvPacked} for output rows 0…rows−1 only (the others are left as they were). */
+function packedUpTo(
+  a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai: f64, scratch: usize, rows: i32,
+): void {
   const rp = (r + 1) & ~1, pairs = rp >> 1;
   const per = <usize>rp << 4, half = <usize>rp << 3;
   const stride = <usize>d << 4;
@@ -294,10 +301,10 @@ export function zgemvPacked(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f6
     setArgF(5, ar);
     setArgF(6, ai);
     // small products in two halves (one hand-over each), larger ones in eighths (a late helper still takes some)
-    runShared(JOB_PACKED_ROWS, 0, d, blockSize(d, d < 128 ? 2 : 8, 4), packedRowsJob);
+    runShared(JOB_PACKED_ROWS, 0, rows, blockSize(rows, d < 128 ? 2 : 8, 4), packedRowsJob);
     return;
   }
-  packedRows(a, d, scratch, y, r, ar, ai, 0, d);
+  packedRows(a, d, scratch, y, r, ar, ai, 0, rows);
 }
 
 /** Rows i0…i1−1 of Y += α·A·X with X already packed at xp (see {@link zgemvPacked}). */
@@ -447,6 +454,20 @@ export function zgemv(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai:
   for (let v = 0; v < r; v += cap) {
     zgemvPacked(a, d, x + <usize>v * stride, y + <usize>v * stride, min(cap, r - v), ar, ai, scratch);
   }
+}
+
+/**
+ * Y[v] += α·A·X[v], v < r, for output rows 0…rows−1 at least (the packed kernel stops there; the others compute
+ * every row): for a product whose other rows the caller fills in itself. At most as many vectors as the scratch
+ * holds (16 or more once the drivers have set it).
+ */
+export function zgemvUpTo(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai: f64, rows: i32): void {
+  const cap = scratch == 0 ? 0 : <i32>(scratchBytes / (<usize>d << 4)) & ~1;
+  if (!simdEnabled || cap < r || cap < 4 || r < 3) {
+    zgemv(a, d, x, y, r, ar, ai);
+    return;
+  }
+  packedUpTo(a, d, x, y, r, ar, ai, scratch, rows);
 }
 
 /**

@@ -9,7 +9,7 @@
 // see: Van Loan, IEEE TAC 23 (1978).
 
 import { arenaAlloc, arenaReset } from "./arena";
-import { packedScratchBytes, setKernelScratch, zcsrmv, zgemv } from "./kernels";
+import { packedScratchBytes, setKernelScratch, zcsrmv, zgemv, zgemvUpTo } from "./kernels";
 import { eigh } from "./eigh";
 
 // 4th-order commutator-free exponential integrator (two exponentials).
@@ -249,9 +249,39 @@ function toBasis(a: usize): void {
   zgemv(a, d, m1, m2, d, 1.0, 0.0);
   // columns of U†·(a·U): zgemv(U†, rows of (a·U)ᵀ) gives rows of (U†aU)ᵀ.
   memory.fill(m1, 0, mat);
-  zgemv(basisH, d, m2, m1, d, 1.0, 0.0);
+  if (isHermitian(a)) {
+    // U†aU is Hermitian too: each block of its columns only down to the block's last row, the rest mirrored
+    for (let j0 = 0; j0 < d; j0 += MIRROR_BLOCK) {
+      const r = min(MIRROR_BLOCK, d - j0), at = <usize>j0 * <usize>d << 4;
+      zgemvUpTo(basisH, d, m2 + at, m1 + at, r, 1.0, 0.0, j0 + r);
+    }
+    for (let j = 0; j < d; j++) {
+      // m1 row j holds column j of W = U†aU: W_ij for i past the block's end is conj(W_ji)
+      for (let i = min((j / MIRROR_BLOCK + 1) * MIRROR_BLOCK, d); i < d; i++) {
+        const p = m1 + ((<usize>i * d + j) << 4);
+        cset(m1 + ((<usize>j * d + i) << 4), cre(p), -cim(p));
+      }
+    }
+    kernelFlops += 8.0 * <f64>d * <f64>d * <f64>d + 8.0 * <f64>d * <f64>d * <f64>(d + MIRROR_BLOCK) * 0.5;
+  } else {
+    zgemv(basisH, d, m2, m1, d, 1.0, 0.0);
+    kernelFlops += 16.0 * <f64>d * <f64>d * <f64>d;
+  }
   transpose(a, m1, false);
-  kernelFlops += 16.0 * <f64>d * <f64>d * <f64>d;
+}
+
+/** Columns of U†aU a product takes at a time when a is Hermitian (the kernel's scratch holds at least 16). */
+const MIRROR_BLOCK = 16;
+
+/** Whether a d×d matrix equals its conjugate transpose exactly. */
+function isHermitian(a: usize): bool {
+  for (let i = 0; i < d; i++) {
+    for (let j = 0; j <= i; j++) {
+      const p = a + ((<usize>i * d + j) << 4), q = a + ((<usize>j * d + i) << 4);
+      if (cre(p) != cre(q) || cim(p) != -cim(q)) return false;
+    }
+  }
+  return true;
 }
 
 /** ∞-norm (largest row sum of moduli) of a d×d matrix. */
