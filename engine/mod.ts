@@ -80,6 +80,8 @@ interface Exports {
   helperBlocks(): number;
   stopHelper(): void;
   peakLoop(iterations: number, x0: number, dy: number): number;
+  /** Flops {@link peakLoop} counts per iteration. */
+  PEAK_FLOPS_PER_ITERATION: WebAssembly.Global;
   /** 1 in the relaxed-SIMD builds (fused multiply-adds), 0 in the portable one. */
   fusedMultiplyAdd(): number;
   eigh(a: number, n: number, w: number, z: number, work: number): number;

@@ -6,7 +6,7 @@ import { all, type Complex as MathComplex, create } from "mathjs";
 import { assert, assertEqual } from "./assert.ts";
 import { assertClose, eigenResidual, randomHermitian, runOrdo, seeded, tempCase } from "./helpers.ts";
 import { drivenOscillator, glauberPopulations } from "./engine_helpers.ts";
-import { eigh, loadEngine, multiply, type Result, solve, wantsHelper } from "../engine/mod.ts";
+import { eigh, loadEngine, multiply, populationsAt, type Result, solve, wantsHelper } from "../engine/mod.ts";
 import { dense, drivenModel } from "../cli/commands/_bench_cases.ts";
 
 const math = create(all!);
@@ -177,8 +177,8 @@ Deno.test("the plain build owns its memory (no shared memory needed: Node, brows
 
 // Deno has relaxed SIMD, so it takes the builds with fused multiply-adds; the portable build (plain SIMD) is what
 // a host without it gets. A fused multiply-add rounds once where a multiply and an add round twice: the two agree
-// to rounding, not bit for bit (the default build is the one every other test checks against closed forms and
-// mathjs).
+// to rounding, not bit for bit. Both must also meet the Rabi formula (Rabi, Phys. Rev. 51, 1937):
+// P_e = (4g²/Ω²) sin²(Ωt/2), Ω = √(Δ² + 4g²).
 Deno.test("Deno takes the fused (relaxed-SIMD) builds; the portable build agrees to rounding on a driven d = 64 run", async () => {
   const fused = await loadEngine();
   const helped = await loadEngine(undefined, { helper: true });
@@ -193,6 +193,25 @@ Deno.test("Deno takes the fused (relaxed-SIMD) builds; the portable build agrees
     let worst = 0;
     for (let k = 0; k < a.exact.length; k++) worst = Math.max(worst, Math.abs(a.exact[k]! - b.exact[k]!));
     assert(worst < 1e-12, `the builds differ by ${worst}`);
+    const one = { kind: "constant", re: 1, im: 0 } as const;
+    const rabiModel = {
+      dim: 2,
+      unperturbed: [{ matrix: new Float64Array([0, 0, 0, 0, 0, 0, 0.8, 0]), coefficient: one }],
+      perturbation: [{ matrix: new Float64Array([0, 0, 0.3, 0, 0.3, 0, 0, 0]), coefficient: one }],
+      strength: 1,
+      initial: new Float64Array([1, 0, 0, 0]),
+      tStart: 0,
+      tEnd: 25,
+      steps: 1,
+      samples: 2,
+      order: 2,
+    };
+    const omega = Math.sqrt(0.8 ** 2 + 4 * 0.3 ** 2);
+    const rabi = 4 * 0.09 / omega ** 2 * Math.sin(omega * 25 / 2) ** 2;
+    for (const [name, engine] of [["fused", fused], ["portable", portable]] as const) {
+      const excited = populationsAt(solve(engine, rabiModel).exact, 2, 1)[1]!;
+      assertClose(excited, rabi, { abs: 1e-12 }, `${name} build: Rabi population`);
+    }
   } finally {
     helped.close();
   }

@@ -54,9 +54,6 @@ function kernelRate(engine: Engine, d: number, r: number, simd: boolean): number
   return flops * reps / (best * 1e6);
 }
 
-/** Flops counted per iteration of the engine's peakLoop (eight multiply-adds on two lanes: kernels.ts). */
-const PEAK_FLOPS_PER_ITERATION = 32;
-
 function warmPeak(engine: Engine): void {
   for (let k = 0; k < 200; k++) engine.exports.peakLoop(10_000, 1e-9, 1e-12); // let the engine tier up
 }
@@ -66,7 +63,7 @@ function warmPeak(engine: Engine): void {
  * ratio to the peak takes the peak measured between its own trials (the best of those), not one from the start.
  */
 function peakOnce(engine: Engine, iterations = 5_000_000): number {
-  return PEAK_FLOPS_PER_ITERATION * iterations /
+  return engine.exports.PEAK_FLOPS_PER_ITERATION.value * iterations /
     (time(() => engine.exports.peakLoop(iterations, 1e-9, 1e-12)) * 1e6);
 }
 

@@ -56,8 +56,9 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
     }
   }
   if (n > 0) store<f64>(e + (<usize>(n - 1) << 3), 0.0);
-  // A is free now: its first half holds Qᵀ, the QL rotations' real orthogonal matrix transposed (row-major), its
-  // second half the log of the sweeps' rotations not yet applied (and, once they all are, the helper's rows).
+  // A is free now: its first half holds Qᵀ, the tridiagonal's eigenvectors as rows (row-major); its second half
+  // is inverse iteration's scratch, or the QL path's log of sweeps' rotations not yet applied (and, once they all
+  // are, the helper's rows).
   const qt = a, log = a + (<usize>n * n << 3);
   inverseUsed = n >= INVERSE_FROM && inverseIteration(w, e, n, qt, log);
   if (!inverseUsed) {

@@ -3,6 +3,7 @@
 export { arenaAlloc, arenaReset } from "./arena";
 export {
   fusedMultiplyAdd,
+  PEAK_FLOPS_PER_ITERATION,
   packedScratchBytes,
   peakLoop,
   setKernelScratch,

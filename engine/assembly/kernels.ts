@@ -436,6 +436,11 @@ export function setKernelScratch(ptr: usize, bytes: usize): void {
   scratchBytes = bytes;
 }
 
+/** The d-vectors the drivers' scratch holds for the packed kernel (an even number; 0 with no scratch). */
+@inline function packedCapacity(d: i32): i32 {
+  return scratch == 0 ? 0 : <i32>(scratchBytes / (<usize>d << 4)) & ~1;
+}
+
 /** Y[v] += α·A·X[v], v < r, with the selected kernel. */
 export function zgemv(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai: f64): void {
   if (r <= 0) return;
@@ -444,8 +449,8 @@ export function zgemv(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai:
     return;
   }
   // the packed kernel (three vectors or more: below, the row kernel is faster) on as many vectors at a time
-  // as the scratch holds (an even number)
-  const cap = scratch == 0 ? 0 : <i32>(scratchBytes / (<usize>d << 4)) & ~1;
+  // as the scratch holds
+  const cap = packedCapacity(d);
   if (cap < 4 || r < 3) {
     zgemvSimd(a, d, x, y, r, ar, ai);
     return;
@@ -462,7 +467,7 @@ export function zgemv(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai:
  * holds (16 or more once the drivers have set it).
  */
 export function zgemvUpTo(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai: f64, rows: i32): void {
-  const cap = scratch == 0 ? 0 : <i32>(scratchBytes / (<usize>d << 4)) & ~1;
+  const cap = packedCapacity(d);
   if (!simdEnabled || cap < r || cap < 4 || r < 3) {
     zgemv(a, d, x, y, r, ar, ai);
     return;
