@@ -150,3 +150,32 @@ Deno.test("angular(f) turns a frequency in the case's unit into rad per time uni
     },
   );
 });
+
+Deno.test("the bundled parser (deno task build) gives mathjs's own trees and syntax errors", async () => {
+  // the bundle expression.ts loads, against the parse of a full mathjs instance (the general-purpose reference)
+  const { parse } = await import(
+    "../cli/case/mathjs_parse.bundle.js"
+  ) as typeof import("../cli/case/mathjs_parse.ts");
+  const shape = (node: import("mathjs").MathNode): string => {
+    const kids: string[] = [];
+    node.forEach((child) => kids.push(shape(child)));
+    return `${node.type}(${kids.join(",")})`;
+  };
+  for (const source of [...EXPRESSIONS, "a.b[2] = f(x) = {c: 1:3}", "[1, 2; 3, 4]'"]) {
+    const ours = parse(source), theirs = reference.parse(source);
+    assert(shape(ours) === shape(theirs), `${source}: ${shape(ours)} against ${shape(theirs)}`);
+    assert(ours.toString() === theirs.toString(), `${source}: ${ours} against ${theirs}`);
+  }
+  for (const bad of ["2*", "(t", "cos(t))", "3 +* 4"]) {
+    const message = (f: () => unknown) => {
+      try {
+        f();
+      } catch (e) {
+        return (e as Error).message;
+      }
+      return "parsed";
+    };
+    const ours = message(() => parse(bad));
+    assert(ours !== "parsed" && ours === message(() => reference.parse(bad)), `${bad}: ${ours}`);
+  }
+});

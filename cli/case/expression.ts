@@ -11,7 +11,9 @@
  */
 
 import type { MathNode } from "mathjs";
-import mathjs from "mathjs/bundle";
+// mathjs's parser alone, bundled by `deno task build` (mathjs_parse.ts says why)
+// @ts-types="./mathjs_parse.ts"
+import { parse as parseMath } from "./mathjs_parse.bundle.js";
 import { CaseError, type KeyPath, quoted } from "./errors.ts";
 import type { Complex } from "./complex_matrix.ts";
 import { PULSES } from "./pulses.ts";
@@ -29,14 +31,6 @@ import {
 } from "./expression_builtins.ts";
 
 export { BUILTIN_NAMES } from "./expression_builtins.ts";
-
-/**
- * The only mathjs entry point we use: the parser, from an instance made of the parser and what it depends on
- * alone (nothing that evaluates, imports or defines units exists in it). mathjs comes from its single-file
- * build, which loads in a fraction of the time of its module tree.
- */
-const bundle = mathjs as unknown as typeof import("mathjs");
-const parseMath = bundle.create({ parseDependencies: bundle.parseDependencies! }).parse;
 
 /** A parameter value: real or complex. */
 export type Value = number | Complex;
