@@ -20,6 +20,14 @@ K = 6 reaches 4.4e-9 in 20 uniform steps with 1548 vector-products (~6 sweeps a 
 needs 43 adaptive steps x 12 stages x 7 vectors = 3612 for 2.9e-9. What it still lacks before it could be an
 ordo method: an embedded error estimate that is honest (within 10x), step control, and several V terms
 (per-node coefficient combinations).
+
+Tried in the engine since (K = 8, order 16: one product per order with the 8 stage vectors, per V term;
+step doubling for the error, ||Psi_h - Psi_2h|| / (2^16 - 1); at most 8 rad of the fastest phase per step) and
+dropped: on the d = 64 case it took 18 steps for 5.7e-10 with 2624 vector-products against the pair's ~3100 (the
+doubling's third step eats most of the gain), and its estimate read 13x low there and 100x low on the leaky
+transmon example (2.5e-11 against a true 2.6e-9): at 8 rad per step the big step is not yet in the asymptotic
+regime that Richardson's 2^16 - 1 assumes. An order-16 method needs an estimate that is honest before the
+asymptotic regime, and costs less than a third step.
 """
 import json
 import sys
