@@ -522,7 +522,8 @@ export function prepare(which: i32, strength: f64, haveEigen: i32): i32 {
 function phases(ph: usize, tau: f64): void {
   for (let a = 0; a < d; a++) {
     const w = load<f64>(energies + (<usize>a << 3)) * tau;
-    cset(ph + (<usize>a << 4), Math.cos(w), Math.sin(w));
+    NativeMath.sincos(w); // one argument reduction for both (the same values as Math.cos and Math.sin)
+    cset(ph + (<usize>a << 4), NativeMath.sincos_cos, NativeMath.sincos_sin);
   }
 }
 
@@ -1017,6 +1018,85 @@ function interactionRateSparse(buf: usize, node: i32, tau: f64, z: usize, kout: 
   }
 }
 
+// Weighted sums of stage derivatives, four terms a pass over the entries (each entry of the sum read and written
+// once per four terms instead of once per term); the terms are added in the same order, and with the same
+// operations, as one axpy after another, so the results are the same to the bit.
+const SUM_A: i32 = 0; // row i of RK_A
+const SUM_B: i32 = 1;
+const SUM_E5: i32 = 2;
+const SUM_E3: i32 = 3;
+
+@inline function sumWeight(kind: i32, i: i32, j: i32): f64 {
+  if (kind == SUM_A) return unchecked(RK_A[i * RK_STAGES + j]);
+  if (kind == SUM_B) return unchecked(RK_B[j]);
+  if (kind == SUM_E5) return unchecked(RK_E5[j]);
+  return e3Weight(j);
+}
+
+/**
+ * dst = from + Σ_j (h·w_j)·k_j over the stages j < count with w_j ≠ 0 (weights of `kind`, row i for RK_A; k_j the
+ * stage derivatives, `bytes` apart), n complex entries; from may be dst.
+ */
+function stageSum(dst: usize, from: usize, n: usize, h: f64, kind: i32, i: i32, count: i32, bytes: usize): void {
+  let src = from, pending = 0;
+  let w0 = 0.0, w1 = 0.0, w2 = 0.0, p0: usize = 0, p1: usize = 0, p2: usize = 0;
+  for (let j = 0; j < count; j++) {
+    const w = sumWeight(kind, i, j);
+    if (w == 0) continue;
+    const p = rkStage + <usize>j * bytes, hw = h * w;
+    if (pending == 0) {
+      w0 = hw;
+      p0 = p;
+    } else if (pending == 1) {
+      w1 = hw;
+      p1 = p;
+    } else if (pending == 2) {
+      w2 = hw;
+      p2 = p;
+    } else {
+      sum4(dst, src, n, w0, p0, w1, p1, w2, p2, hw, p);
+      src = dst;
+      pending = 0;
+      continue;
+    }
+    pending++;
+  }
+  if (pending == 3) sum4(dst, src, n, w0, p0, w1, p1, w2, p2, 0.0, 0);
+  else if (pending == 2) sum4(dst, src, n, w0, p0, w1, p1, 0.0, 0, 0.0, 0);
+  else if (pending == 1) sum4(dst, src, n, w0, p0, 0.0, 0, 0.0, 0, 0.0, 0);
+  else if (src != dst) memory.copy(dst, src, n << 4);
+}
+
+/** dst = from + w0·x0 + w1·x1 + w2·x2 + w3·x3 (added in that order), n complex entries; a zero address ends the list. */
+function sum4(
+  dst: usize, from: usize, n: usize, w0: f64, x0: usize, w1: f64, x1: usize, w2: f64, x2: usize, w3: f64, x3: usize,
+): void {
+  const a = f64x2.splat(w0), b = f64x2.splat(w1), c = f64x2.splat(w2), e4 = f64x2.splat(w3), end = n << 4;
+  if (x3 != 0) {
+    for (let e: usize = 0; e < end; e += 16) {
+      let t = f64x2.add(v128.load(from + e), f64x2.mul(a, v128.load(x0 + e)));
+      t = f64x2.add(t, f64x2.mul(b, v128.load(x1 + e)));
+      t = f64x2.add(t, f64x2.mul(c, v128.load(x2 + e)));
+      v128.store(dst + e, f64x2.add(t, f64x2.mul(e4, v128.load(x3 + e))));
+    }
+  } else if (x2 != 0) {
+    for (let e: usize = 0; e < end; e += 16) {
+      let t = f64x2.add(v128.load(from + e), f64x2.mul(a, v128.load(x0 + e)));
+      t = f64x2.add(t, f64x2.mul(b, v128.load(x1 + e)));
+      v128.store(dst + e, f64x2.add(t, f64x2.mul(c, v128.load(x2 + e))));
+    }
+  } else if (x1 != 0) {
+    for (let e: usize = 0; e < end; e += 16) {
+      const t = f64x2.add(v128.load(from + e), f64x2.mul(a, v128.load(x0 + e)));
+      v128.store(dst + e, f64x2.add(t, f64x2.mul(b, v128.load(x1 + e))));
+    }
+  } else {
+    for (let e: usize = 0; e < end; e += 16) {
+      v128.store(dst + e, f64x2.add(v128.load(from + e), f64x2.mul(a, v128.load(x0 + e))));
+    }
+  }
+}
+
 /**
  * One Runge–Kutta step of h from τ: yout (r+1 vectors) = y0 + h Σ b_j k_j, with stage 0 (the derivative at
  * y0) already in place and the coefficients of the 12 stage times in the fine buffer.
@@ -1024,18 +1104,10 @@ function interactionRateSparse(buf: usize, node: i32, tau: f64, z: usize, kout: 
 function rkStages(tau: f64, h: f64, y0: usize, yout: usize): void {
   const n = <usize>(r + 1) * <usize>dm, bytes = <usize>(r + 1) * vec;
   for (let i = 1; i < RK_STAGES; i++) {
-    memory.copy(rkZ, y0, bytes);
-    for (let j = 0; j < i; j++) {
-      const a = unchecked(RK_A[i * RK_STAGES + j]);
-      if (a != 0) axpy(rkZ, h * a, rkStage + <usize>j * bytes, n);
-    }
+    stageSum(rkZ, y0, n, h, SUM_A, i, i, bytes);
     interactionRate(coefFine, i, tau + unchecked(RK_C[i]) * h, rkZ, rkStage + <usize>i * bytes);
   }
-  if (yout != y0) memory.copy(yout, y0, bytes);
-  for (let j = 0; j < RK_STAGES; j++) {
-    const b = unchecked(RK_B[j]);
-    if (b != 0) axpy(yout, h * b, rkStage + <usize>j * bytes, n);
-  }
+  stageSum(yout, y0, n, h, SUM_B, 0, RK_STAGES, bytes);
 }
 
 /**
@@ -1054,12 +1126,8 @@ export function rkStep(tau: f64, h: f64): i32 {
   rkStages(tau, h, series, series);
   memory.fill(rkE5, 0, bytes);
   memory.fill(rkE3, 0, bytes);
-  for (let j = 0; j < RK_STAGES; j++) {
-    const k = rkStage + <usize>j * bytes;
-    const w5 = unchecked(RK_E5[j]), w3 = e3Weight(j);
-    if (w5 != 0) axpy(rkE5, h * w5, k, n);
-    if (w3 != 0) axpy(rkE3, h * w3, k, n);
-  }
+  stageSum(rkE5, rkE5, n, h, SUM_E5, 0, RK_STAGES, bytes);
+  stageSum(rkE3, rkE3, n, h, SUM_E3, 0, RK_STAGES, bytes);
   // Partial sums' errors accumulate order by order; the exact state's is its own.
   for (let v = 1; v < r; v++) {
     axpy(rkE5 + <usize>v * vec, 1.0, rkE5 + <usize>(v - 1) * vec, <usize>dm);
