@@ -11,6 +11,7 @@
 import { arenaAlloc, arenaReset } from "./arena";
 import { packedScratchBytes, setKernelScratch, zcsrmv, zgemv, zgemvUpTo } from "./kernels";
 import { eigh } from "./eigh";
+import { arg, argF, runShared, setArg, setArgF, sharing } from "./share";
 
 // 4th-order commutator-free exponential integrator (two exponentials).
 // see: Blanes & Moan, Appl. Numer. Math. 56 (2006); Alvermann & Fehske, J. Comput. Phys. 230 (2011).
@@ -175,6 +176,7 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32, c
   rkP = arenaAlloc(<usize>(r + 1) * vec);
   rkE5 = arenaAlloc(<usize>(r + 1) * vec);
   rkE3 = arenaAlloc(<usize>(r + 1) * vec);
+  rkPh = arenaAlloc(<usize>RK_STAGES * (<usize>d << 4));
   startRateValid = false;
   csrTable = arenaAlloc(<usize>max(<i32>kt, 1) * 48);
   sparseCoefs = arenaAlloc(<usize>max(<i32>kt, 1) << 4);
@@ -184,7 +186,7 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32, c
   setKernelScratch(kernelScratch, kernelScratch == 0 ? 0 : scratchBytes);
   adaptive = false;
   tiny = TINY;
-  return coefCoarse == 0 || work == 0 || rkE3 == 0 ? ERR_MEMORY : ERR_OK;
+  return coefCoarse == 0 || work == 0 || rkE3 == 0 || rkPh == 0 ? ERR_MEMORY : ERR_OK;
 }
 
 /** Buffer addresses for TypeScript. */
@@ -810,7 +812,7 @@ export function record(tau: f64): void {
     memory.copy(tmp + <usize>(r + 1) * vec, check, vec);
     // ψ = U·e^{−iEτ}·c
     phases(ph1, tau);
-    toInteraction(tmp, tmp, n * m);
+    toInteraction(tmp, tmp, n * m, ph1);
     if (scheme == SCHEME_SPARSE_INTERACTION) memory.copy(rec, tmp, <usize>n * vec); // the basis is the identity
     else {
       memory.fill(rec, 0, <usize>n * vec);
@@ -898,6 +900,7 @@ let rkU: usize = 0;
 let rkP: usize = 0;
 let rkE5: usize = 0;
 let rkE3: usize = 0;
+let rkPh: usize = 0; // the stage times' phases (stagePhases)
 // Stage 0 (the derivative at the step's start) is kept across a rejection and for recorded times inside a step.
 let startRateValid = false;
 
@@ -927,26 +930,26 @@ function interactionRate(buf: usize, node: i32, tau: f64, z: usize, kout: usize)
     combine(m1, vTerms, kv, coefs);
     op = m1;
   }
-  phases(ph1, tau); // e^{iEτ}
+  const ph = rkPh + <usize>node * (<usize>d << 4); // e^{iEτ} (stagePhases)
   // u_v = e^{−iEτ}∘z_v for v = 0…N−1, and u_N = e^{−iEτ}∘z_exact
-  toInteraction(rkU, z, (r - 1) * m);
-  toInteraction(rkU + <usize>(r - 1) * vec, z + <usize>r * vec, m);
+  toInteraction(rkU, z, (r - 1) * m, ph);
+  toInteraction(rkU + <usize>(r - 1) * vec, z + <usize>r * vec, m, ph);
   memory.fill(rkP, 0, <usize>r * vec);
   zgemv(op, d, rkU, rkP, r * m, fr, fi);
   kernelFlops += 8.0 * <f64>d * <f64>d * <f64>(r * m);
   memory.fill(kout, 0, vec);
   // −i·(e^{iEτ}∘P): P_v feeds order v+1, the last one the exact state (times λ)
-  toRate(kout + vec, rkP, (r - 1) * m, 1.0);
-  toRate(kout + <usize>r * vec, rkP + <usize>(r - 1) * vec, m, lambda);
+  toRate(kout + vec, rkP, (r - 1) * m, 1.0, ph);
+  toRate(kout + <usize>r * vec, rkP + <usize>(r - 1) * vec, m, lambda, ph);
 }
 
-/** dst = e^{−iEτ}∘src for `blocks` d-vectors one after another, with ph1 = e^{iEτ}: conj(p)·x. */
-function toInteraction(dst: usize, src: usize, blocks: i32): void {
+/** dst = e^{−iEτ}∘src for `blocks` d-vectors one after another, with ph = e^{iEτ}: conj(p)·x. */
+function toInteraction(dst: usize, src: usize, blocks: i32, ph: usize): void {
   const flip = f64x2(1.0, -1.0);
   for (let b = 0; b < blocks; b++) {
     const from = src + ((<usize>b * <usize>d) << 4), to = dst + ((<usize>b * <usize>d) << 4);
     for (let a = 0; a < d; a++) {
-      const o = <usize>a << 4, x = v128.load(from + o), q = v128.load(ph1 + o);
+      const o = <usize>a << 4, x = v128.load(from + o), q = v128.load(ph + o);
       // (pr·xr + pi·xi, pr·xi − pi·xr) = pr·(xr, xi) + (pi, −pi)·(xi, xr)
       const pr = v128.shuffle<f64>(q, q, 0, 0), pi = f64x2.mul(v128.shuffle<f64>(q, q, 1, 1), flip);
       v128.store(to + o, f64x2.add(f64x2.mul(pr, x), f64x2.mul(pi, v128.shuffle<f64>(x, x, 1, 0))));
@@ -954,13 +957,13 @@ function toInteraction(dst: usize, src: usize, blocks: i32): void {
   }
 }
 
-/** dst = −i·scale·(e^{iEτ}∘src) for `blocks` d-vectors one after another, with ph1 = e^{iEτ}. */
-function toRate(dst: usize, src: usize, blocks: i32, scale: f64): void {
+/** dst = −i·scale·(e^{iEτ}∘src) for `blocks` d-vectors one after another, with ph = e^{iEτ}. */
+function toRate(dst: usize, src: usize, blocks: i32, scale: f64, ph: usize): void {
   const flip = f64x2(scale, -scale), s = f64x2.splat(scale);
   for (let b = 0; b < blocks; b++) {
     const from = src + ((<usize>b * <usize>d) << 4), to = dst + ((<usize>b * <usize>d) << 4);
     for (let a = 0; a < d; a++) {
-      const o = <usize>a << 4, x = v128.load(from + o), q = v128.load(ph1 + o);
+      const o = <usize>a << 4, x = v128.load(from + o), q = v128.load(ph + o);
       // −i·(pr·xr − pi·xi, pr·xi + pi·xr) = (pr·xi + pi·xr, −pr·xr + pi·xi) = (pr, −pr)·(xi, xr) + pi·(xr, xi)
       const pr = f64x2.mul(v128.shuffle<f64>(q, q, 0, 0), flip), pi = f64x2.mul(v128.shuffle<f64>(q, q, 1, 1), s);
       v128.store(to + o, f64x2.add(f64x2.mul(pr, v128.shuffle<f64>(x, x, 1, 0)), f64x2.mul(pi, x)));
@@ -976,8 +979,8 @@ function toRate(dst: usize, src: usize, blocks: i32, scale: f64): void {
  */
 function interactionRateSparse(buf: usize, node: i32, tau: f64, z: usize, kout: usize): void {
   const nodeCoefs = buf + ((<usize>node * <usize>(k0 + kv)) << 4);
-  phases(ph1, tau); // e^{iEτ}
-  toInteraction(rkU, z, (r + 1) * m);
+  const ph = rkPh + <usize>node * (<usize>d << 4); // e^{iEτ} (stagePhases)
+  toInteraction(rkU, z, (r + 1) * m, ph);
   memory.fill(rkP, 0, <usize>(r + 1) * vec);
   for (let k = 0; k < kv; k++) {
     const c = nodeCoefs + (<usize>(k0 + k) << 4), t = k0 + k;
@@ -1007,7 +1010,7 @@ function interactionRateSparse(buf: usize, node: i32, tau: f64, z: usize, kout: 
       }
     }
   }
-  toRate(kout, rkP, (r + 1) * m, 1.0);
+  toRate(kout, rkP, (r + 1) * m, 1.0, ph);
 }
 
 /** dst (n complex entries) += w·src, one complex entry (an f64x2) at a time. */
@@ -1098,6 +1101,49 @@ function sum4(
 }
 
 /**
+ * The phases e^{iE(τ + c_i h)} of the twelve stage times, d complex each at rkPh (node i at rkPh + i·16d):
+ * computed once a step, ahead of the stages, the nodes shared with the helper from {@link SHARE_PHASES_FROM}
+ * levels on (each node's values are the same whichever thread makes them).
+ */
+function stagePhases(tau: f64, h: f64): void {
+  if (sharePhases && sharing() && d >= SHARE_PHASES_FROM) {
+    setArg(0, <u64>rkPh);
+    setArg(1, <u64>energies);
+    setArg(2, <u64>d);
+    setArgF(3, tau);
+    setArgF(4, h);
+    runShared(JOB_STAGE_PHASES, 0, RK_STAGES, RK_STAGES / 2, stagePhasesJob);
+    return;
+  }
+  nodePhases(rkPh, energies, d, tau, h, 0, RK_STAGES);
+}
+
+/** Levels from which the stage phases are shared with the helper. */
+const SHARE_PHASES_FROM: i32 = 32;
+export const JOB_STAGE_PHASES = 7;
+let sharePhases = true;
+/** Whether the stage phases may be shared (for measurements; on by default). */
+export function setSharePhases(on: bool): void { sharePhases = on; }
+
+/** Nodes n0…n1−1 of {@link stagePhases} (arguments as it posts them). */
+export function stagePhasesJob(n0: i32, n1: i32): void {
+  nodePhases(<usize>arg(0), <usize>arg(1), <i32>arg(2), argF(3), argF(4), n0, n1);
+}
+
+/** ph_i = e^{iE(τ + c_i h)} for nodes n0…n1−1 (energies: d f64). */
+function nodePhases(ph: usize, e: usize, n: i32, tau: f64, h: f64, n0: i32, n1: i32): void {
+  for (let i = n0; i < n1; i++) {
+    const t = tau + unchecked(RK_C[i]) * h, out = ph + <usize>i * (<usize>n << 4);
+    for (let a = 0; a < n; a++) {
+      NativeMath.sincos(load<f64>(e + (<usize>a << 3)) * t);
+      const o = out + (<usize>a << 4);
+      store<f64>(o, NativeMath.sincos_cos);
+      store<f64>(o, NativeMath.sincos_sin, 8);
+    }
+  }
+}
+
+/**
  * One Runge–Kutta step of h from τ: yout (r+1 vectors) = y0 + h Σ b_j k_j, with stage 0 (the derivative at
  * y0) already in place and the coefficients of the 12 stage times in the fine buffer.
  */
@@ -1122,6 +1168,7 @@ export function rkStep(tau: f64, h: f64): i32 {
   adaptive = true;
   const bytes = <usize>(r + 1) * vec, n = <usize>(r + 1) * <usize>dm;
   memory.copy(save, series, bytes + vec);
+  stagePhases(tau, h);
   if (!startRateValid) interactionRate(coefFine, 0, tau, series, rkStage);
   rkStages(tau, h, series, series);
   memory.fill(rkE5, 0, bytes);
@@ -1156,6 +1203,7 @@ export function rkStep(tau: f64, h: f64): i32 {
  * {@link recordSample} then records. The main state is not touched.
  */
 export function rkSample(tau: f64, h: f64): i32 {
+  stagePhases(tau, h);
   rkStages(tau, h, save, comp);
   return ERR_OK;
 }
