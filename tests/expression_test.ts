@@ -161,12 +161,20 @@ Deno.test("the bundled parser (deno task build) gives mathjs's own trees and syn
     node.forEach((child) => kids.push(shape(child)));
     return `${node.type}(${kids.join(",")})`;
   };
-  for (const source of [...EXPRESSIONS, "a.b[2] = f(x) = {c: 1:3}", "[1, 2; 3, 4]'"]) {
+  const more = [
+    "a.b[2] = f(x) = {c: 1:3}",
+    "[1, 2; 3, 4]'",
+    "-t^2 + 2.5e-3t - 3 i / (1 + 1e+2)",
+    't >= 1 and t < 2 or not (t == 3) ? "s" : 5 cm to m',
+    "x!^2 % 3 mod 4 & 5 | 6 << 1 >> 2 >>> 3",
+    "gauss(t, 10, 2) * cos(2 pi t) * sinsq(t, 1, 3) + conj(z) .* 2 ./ 3",
+  ];
+  for (const source of [...EXPRESSIONS, ...more]) {
     const ours = parse(source), theirs = reference.parse(source);
     assert(shape(ours) === shape(theirs), `${source}: ${shape(ours)} against ${shape(theirs)}`);
     assert(ours.toString() === theirs.toString(), `${source}: ${ours} against ${theirs}`);
   }
-  for (const bad of ["2*", "(t", "cos(t))", "3 +* 4"]) {
+  for (const bad of ["2*", "(t", "cos(t))", "3 +* 4", "t ? 1", "[1, 2", "f(x,", "2 )", "a..b"]) {
     const message = (f: () => unknown) => {
       try {
         f();
