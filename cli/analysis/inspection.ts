@@ -44,8 +44,10 @@ export interface Inspection extends NormProfile {
   scheme: string;
   /** H0 eigenvalues at t_start (and t_end when H0 depends on time). */
   spectrum: ({ at: number } & Spectrum)[];
-  /** Bohr frequencies E_a − E_b > 0 of pairs that V couples, with their labels, largest coupling first. */
+  /** The strongest Bohr frequencies E_a − E_b > 0 of pairs that V couples (BOHR_LISTED at most), labelled. */
   bohr: BohrFrequency[];
+  /** How many pairs V couples (listed or not). */
+  coupledPairs: number;
   /** Largest coupled |E_a − E_b| (the fastest interaction-picture phase). */
   omegaMax: number;
   /** Integrator steps the run will take and its step size. */
@@ -72,11 +74,11 @@ function spectralFacts(engine: Engine, built: BuiltCase) {
     at,
     ...spectrum(engine, toDense(assembleAt(h0Terms, d, at)), space.labels),
   }));
-  let { bohr, omegaMax } = bohrFrequencies(engine, spectra[0]!, vTerms);
+  let { bohr, pairs, omegaMax } = bohrFrequencies(engine, spectra[0]!, vTerms);
   if (h0TimeDependent) {
     for (const s of spectra) omegaMax = Math.max(omegaMax, s.values[d - 1]! - s.values[0]!);
   }
-  return { scheme, spectra, bohr, omegaMax };
+  return { scheme, spectra, bohr, pairs, omegaMax };
 }
 
 /**
@@ -91,12 +93,12 @@ function sparseFacts(built: BuiltCase, h0Terms: AssembledTerm[], vTerms: Assembl
   const spectra = [{ at: model.tStart, ...sparseSpectrum(first, space.labels) }];
   if (h0TimeDependent) spectra.push({ at: model.tEnd, ...sparseSpectrum(at(model.tEnd), space.labels) });
   const diagonal = Float64Array.from({ length: model.dim }, (_, k) => first.get(k, k).re);
-  let { bohr, omegaMax } = sparseBohrFrequencies(spectra[0]!, diagonal, vTerms, space.labels);
+  let { bohr, pairs, omegaMax } = sparseBohrFrequencies(spectra[0]!, diagonal, vTerms, space.labels);
   // a constant diagonal H0: the coupled pairs' Bohr frequencies are the fastest phases; otherwise the widths
   if (h0TimeDependent || spectra[0]!.sparse === "bound") {
     for (const s of spectra) omegaMax = Math.max(omegaMax, s.values[s.values.length - 1]! - s.values[0]!);
   }
-  return { scheme: schemeFor(model), spectra, bohr, omegaMax };
+  return { scheme: schemeFor(model), spectra, bohr, pairs, omegaMax };
 }
 
 /** How fast H turns, and H0's eigen-decomposition when H0 is constant (to hand to the engine). */
@@ -167,7 +169,7 @@ export function turningFrom(info: Inspection): Turning {
 export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
   const { model } = built;
   const d = model.dim;
-  const { scheme, spectra, bohr, omegaMax } = spectralFacts(engine, built);
+  const { scheme, spectra, bohr, pairs, omegaMax } = spectralFacts(engine, built);
   const norms = normProfile(engine, built.terms, model);
 
   const memory = estimateMemory({
@@ -184,6 +186,7 @@ export function inspectCase(engine: Engine, built: BuiltCase): Inspection {
     scheme,
     spectrum: spectra,
     bohr,
+    coupledPairs: pairs,
     omegaMax,
     ...norms,
     steps,

@@ -56,18 +56,20 @@ export function spectrum(engine: Engine, m: ComplexMatrix, labels: string[]): Sp
 }
 
 /**
- * The Bohr frequencies of pairs that V couples in H0's eigenbasis, strongest coupling first.
+ * The Bohr frequencies of pairs that V couples in H0's eigenbasis, strongest coupling first: the strongest
+ * {@link BOHR_LISTED} listed, the count and the fastest over all of them (a dense case couples up to d(d−1)/2
+ * pairs; only the listed ones become objects).
  *
  * @param engine a loaded engine (its kernel does the change of basis)
  * @param h0 H0's spectrum
  * @param vTerms V's terms (each at its full matrix; coefficients are not applied)
- * @returns the coupled pairs and the largest |E_a − E_b| among them
+ * @returns the listed pairs, how many pairs are coupled, and the largest |E_a − E_b| among them
  */
 export function bohrFrequencies(
   engine: Engine,
   h0: Spectrum,
   vTerms: AssembledTerm[],
-): { bohr: BohrFrequency[]; omegaMax: number } {
+): { bohr: BohrFrequency[]; pairs: number; omegaMax: number } {
   const { values, vectors, dominant } = h0;
   const d = values.length;
   const basisH = new ComplexMatrix(d, d, vectors).dagger().data;
@@ -82,23 +84,35 @@ export function bohrFrequencies(
     }
   }
   const cutoff = 1e-12 * Math.max(largest, 1e-300);
-  const bohr: BohrFrequency[] = [];
+  // the coupled pairs a > b (their couplings, in the order a, then b), and the fastest phase over all of them
+  const strengths: number[] = [];
   let omegaMax = 0;
   for (let a = 0; a < d; a++) {
     for (let b = 0; b < a; b++) {
       const c = Math.max(coupling[a * d + b]!, coupling[b * d + a]!);
       if (c <= cutoff) continue;
-      const omega = values[a]! - values[b]!;
-      omegaMax = Math.max(omegaMax, Math.abs(omega));
-      bohr.push({ omega, upper: dominant[a]!, lower: dominant[b]!, coupling: c });
+      strengths.push(c);
+      omegaMax = Math.max(omegaMax, Math.abs(values[a]! - values[b]!));
+    }
+  }
+  // only pairs at least as strong as the BOHR_LISTED-th strongest can be listed
+  const floor = strengths.length <= BOHR_LISTED
+    ? 0
+    : Float64Array.from(strengths).sort()[strengths.length - BOHR_LISTED]!;
+  const bohr: BohrFrequency[] = [];
+  for (let a = 0; a < d; a++) {
+    for (let b = 0; b < a; b++) {
+      const c = Math.max(coupling[a * d + b]!, coupling[b * d + a]!);
+      if (c <= cutoff || c < floor) continue;
+      bohr.push({ omega: values[a]! - values[b]!, upper: dominant[a]!, lower: dominant[b]!, coupling: c });
     }
   }
   bohr.sort((x, y) => y.coupling - x.coupling || y.omega - x.omega);
-  return { bohr, omegaMax };
+  return { bohr: bohr.slice(0, BOHR_LISTED), pairs: strengths.length, omegaMax };
 }
 
-/** The most coupled pairs a sparse case lists (the fastest phase is taken over all of them). */
-const SPARSE_BOHR_LISTED = 1000;
+/** The most coupled pairs a case lists (the count and the fastest phase are taken over all of them). */
+export const BOHR_LISTED = 1000;
 
 /**
  * H0's spectrum for sparse operators, without an eigensolver: its diagonal when H0 is diagonal, else the
@@ -139,22 +153,22 @@ export function sparseSpectrum(h0: SparseComplexMatrix, labels: string[]): Spect
 
 /**
  * The Bohr frequencies V couples, for sparse operators: with a diagonal H0, E_a − E_b over V's non-zeros (the
- * strongest {@link SPARSE_BOHR_LISTED} listed, the fastest over all); otherwise none can be listed and the
+ * strongest {@link BOHR_LISTED} listed, the count and the fastest over all); otherwise none can be listed and the
  * fastest is bounded by the width of H0's Gershgorin interval.
  *
  * @param h0 H0's sparse spectrum at t_start
  * @param diagonal H0's diagonal by level (when it is diagonal)
  * @param vTerms V's terms
  * @param labels the basis labels
- * @returns the coupled pairs and the largest |E_a − E_b| (or its bound)
+ * @returns the listed pairs, how many are coupled, and the largest |E_a − E_b| (or its bound)
  */
 export function sparseBohrFrequencies(
   h0: Spectrum,
   diagonal: Float64Array,
   vTerms: { matrix: Operator }[],
   labels: string[],
-): { bohr: BohrFrequency[]; omegaMax: number } {
-  if (h0.sparse === "bound") return { bohr: [], omegaMax: h0.values[1]! - h0.values[0]! };
+): { bohr: BohrFrequency[]; pairs: number; omegaMax: number } {
+  if (h0.sparse === "bound") return { bohr: [], pairs: 0, omegaMax: h0.values[1]! - h0.values[0]! };
   const coupling = new Map<number, number>();
   const d = diagonal.length;
   for (const term of vTerms) {
@@ -174,5 +188,5 @@ export function sparseBohrFrequencies(
     bohr.push({ omega, upper: labels[upper]!, lower: labels[lower]!, coupling: c });
   }
   bohr.sort((x, y) => y.coupling - x.coupling || y.omega - x.omega);
-  return { bohr: bohr.slice(0, SPARSE_BOHR_LISTED), omegaMax };
+  return { bohr: bohr.slice(0, BOHR_LISTED), pairs: coupling.size, omegaMax };
 }

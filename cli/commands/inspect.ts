@@ -154,7 +154,7 @@ function describeSpectrum(info: Inspection, freq: string): string[] {
       `             ${b.upper} ↔ ${b.lower}: ω = ${fmt(b.omega)}${freq}, |V| = ${fmt(b.coupling, 4)}`,
     );
   }
-  if (info.bohr.length > 10) lines.push(`             … and ${info.bohr.length - 10} more pairs`);
+  if (info.coupledPairs > 10) lines.push(`             … and ${info.coupledPairs - 10} more pairs`);
   return lines;
 }
 
