@@ -85,6 +85,8 @@ interface Exports {
   /** 1 in the relaxed-SIMD builds (fused multiply-adds), 0 in the portable one. */
   fusedMultiplyAdd(): number;
   eigh(a: number, n: number, w: number, z: number, work: number): number;
+  /** Bytes of work space eigh and eigenvaluesOnly need per level. */
+  EIGH_WORK_BYTES_PER_LEVEL: WebAssembly.Global;
   eigenvaluesOnly(a: number, n: number, w: number, work: number): number;
   /** 1 when the last eigh took the tridiagonal's eigenvectors from inverse iteration, 0 from the QL rotations. */
   lastEighByInverseIteration(): number;
@@ -613,7 +615,9 @@ function sumTerms(terms: OperatorTerm[], d: number): OperatorTerm {
 export function eigenvalues(engine: Engine, matrix: Float64Array, d: number): Float64Array {
   const e = engine.exports;
   e.arenaReset();
-  const a = e.arenaAlloc(16 * d * d), w = e.arenaAlloc(8 * d), work = e.arenaAlloc(128 * d);
+  const a = e.arenaAlloc(16 * d * d),
+    w = e.arenaAlloc(8 * d),
+    work = e.arenaAlloc(e.EIGH_WORK_BYTES_PER_LEVEL.value * d);
   if (!a || !w || !work) check(1);
   new Float64Array(e.memory.buffer, a, 2 * d * d).set(matrix);
   check(e.eigenvaluesOnly(a, d, w, work) === 0 ? 0 : 2);
@@ -638,7 +642,7 @@ export function eigh(
   const a = e.arenaAlloc(16 * d * d),
     w = e.arenaAlloc(8 * d),
     z = e.arenaAlloc(16 * d * d),
-    work = e.arenaAlloc(128 * d);
+    work = e.arenaAlloc(e.EIGH_WORK_BYTES_PER_LEVEL.value * d);
   if (!a || !w || !z || !work) check(1);
   new Float64Array(e.memory.buffer, a, 2 * d * d).set(matrix);
   check(e.eigh(a, d, w, z, work) === 0 ? 0 : 2);

@@ -17,6 +17,9 @@ import { arg, argF, blockSize, runShared, setArg, setArgF, sharing } from "./sha
 @inline function im(p: usize): f64 { return load<f64>(p, 8); }
 @inline function at(m: usize, n: i32, i: i32, j: i32): usize { return m + ((<usize>i * n + j) << 4); }
 
+/** Bytes of work space {@link eigh} and {@link eigenvaluesOnly} need per level (16n f64). */
+export const EIGH_WORK_BYTES_PER_LEVEL: i32 = 128;
+
 /**
  * Eigen-decomposition A = Z·diag(w)·Z† of a Hermitian n×n matrix.
  * A is destroyed. w: n f64 (ascending). Z: n×n complex, column k is the

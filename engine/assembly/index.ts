@@ -15,7 +15,13 @@ export {
   zgemvRef,
   zgemvSimd,
 } from "./kernels";
-export { eigh, eigenvaluesOnly, lastEighByInverseIteration, setInverseIterationExtraSteps } from "./eigh";
+export {
+  EIGH_WORK_BYTES_PER_LEVEL,
+  eigenvaluesOnly,
+  eigh,
+  lastEighByInverseIteration,
+  setInverseIterationExtraSteps,
+} from "./eigh";
 export {
   advance,
   advanceExact,
@@ -40,7 +46,6 @@ export {
   rkSample,
   rkStep,
   sampleWithin,
-  setSharePhases,
   setTaylorTolerance,
   takeKernelFlops,
   stepError,

@@ -10,7 +10,7 @@
 
 import { arenaAlloc, arenaReset } from "./arena";
 import { packedScratchBytes, setKernelScratch, zcsrmv, zgemv, zgemvUpTo } from "./kernels";
-import { eigh } from "./eigh";
+import { eigh, EIGH_WORK_BYTES_PER_LEVEL } from "./eigh";
 import { arg, argF, runShared, setArg, setArgF, sharing } from "./share";
 
 // 4th-order commutator-free exponential integrator (two exponentials).
@@ -169,7 +169,7 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32, c
   initial = arenaAlloc(vec);
   save = arenaAlloc(<usize>(r + 2) * vec);
   comp = arenaAlloc(<usize>(r + 1) * vec);
-  work = arenaAlloc(<usize>d * 128); // the eigensolver's 16d f64
+  work = arenaAlloc(<usize>d * <usize>EIGH_WORK_BYTES_PER_LEVEL);
   rkStage = arenaAlloc(<usize>RK_STAGES * <usize>(r + 1) * vec);
   rkZ = arenaAlloc(<usize>(r + 1) * vec);
   rkU = arenaAlloc(<usize>(r + 1) * vec);
@@ -522,10 +522,14 @@ export function prepare(which: i32, strength: f64, haveEigen: i32): i32 {
 
 /** ph = e^{i·E·τ} elementwise. */
 function phases(ph: usize, tau: f64): void {
-  for (let a = 0; a < d; a++) {
-    const w = load<f64>(energies + (<usize>a << 3)) * tau;
-    NativeMath.sincos(w); // one argument reduction for both (the same values as Math.cos and Math.sin)
-    cset(ph + (<usize>a << 4), NativeMath.sincos_cos, NativeMath.sincos_sin);
+  phaseVector(ph, energies, d, tau);
+}
+
+/** out = e^{i·e·t} elementwise over n energies at e (its arguments explicit: the helper runs it too). */
+function phaseVector(out: usize, e: usize, n: i32, t: f64): void {
+  for (let a = 0; a < n; a++) {
+    NativeMath.sincos(load<f64>(e + (<usize>a << 3)) * t); // one argument reduction for both cos and sin
+    cset(out + (<usize>a << 4), NativeMath.sincos_cos, NativeMath.sincos_sin);
   }
 }
 
@@ -913,12 +917,12 @@ let startRateValid = false;
 }
 
 /**
- * kout (r+1 vectors) = the stacked derivative at z (series c_0…c_N, then the exact state) at τ, with the
- * coefficients of node `node` of buf: kout_0 = 0, kout_n = −i V_I z_{n−1}, kout_exact = −iλ V_I z_exact.
+ * kout (r+1 vectors) = the stacked derivative at z (series c_0…c_N, then the exact state) at stage time `node`:
+ * its coefficients at node `node` of buf, its phases from {@link stagePhases}: kout_0 = 0, kout_n = −i V_I z_{n−1}, kout_exact = −iλ V_I z_exact.
  */
-function interactionRate(buf: usize, node: i32, tau: f64, z: usize, kout: usize): void {
+function interactionRate(buf: usize, node: i32, z: usize, kout: usize): void {
   if (sparse) {
-    interactionRateSparse(buf, node, tau, z, kout);
+    interactionRateSparse(buf, node, z, kout);
     return;
   }
   const coefs = buf + ((<usize>node * <usize>(k0 + kv) + <usize>k0) << 4);
@@ -977,7 +981,7 @@ function toRate(dst: usize, src: usize, blocks: i32, scale: f64, ph: usize): voi
  * kout_n = −i e^{iEτ}∘(O u_n + Σ f_k V_k u_{n−1}) for the series (u_{−1} = 0) and
  * kout_exact = −i e^{iEτ}∘(O u_exact + λ Σ f_k V_k u_exact). Every product is sparse.
  */
-function interactionRateSparse(buf: usize, node: i32, tau: f64, z: usize, kout: usize): void {
+function interactionRateSparse(buf: usize, node: i32, z: usize, kout: usize): void {
   const nodeCoefs = buf + ((<usize>node * <usize>(k0 + kv)) << 4);
   const ph = rkPh + <usize>node * (<usize>d << 4); // e^{iEτ} (stagePhases)
   toInteraction(rkU, z, (r + 1) * m, ph);
@@ -1106,7 +1110,7 @@ function sum4(
  * levels on (each node's values are the same whichever thread makes them).
  */
 function stagePhases(tau: f64, h: f64): void {
-  if (sharePhases && sharing() && d >= SHARE_PHASES_FROM) {
+  if (sharing() && d >= SHARE_PHASES_FROM) {
     setArg(0, <u64>rkPh);
     setArg(1, <u64>energies);
     setArg(2, <u64>d);
@@ -1121,37 +1125,26 @@ function stagePhases(tau: f64, h: f64): void {
 /** Levels from which the stage phases are shared with the helper. */
 const SHARE_PHASES_FROM: i32 = 32;
 export const JOB_STAGE_PHASES = 7;
-let sharePhases = true;
-/** Whether the stage phases may be shared (for measurements; on by default). */
-export function setSharePhases(on: bool): void { sharePhases = on; }
 
 /** Nodes n0…n1−1 of {@link stagePhases} (arguments as it posts them). */
 export function stagePhasesJob(n0: i32, n1: i32): void {
   nodePhases(<usize>arg(0), <usize>arg(1), <i32>arg(2), argF(3), argF(4), n0, n1);
 }
 
-/** ph_i = e^{iE(τ + c_i h)} for nodes n0…n1−1 (energies: d f64). */
+/** ph_i = e^{iE(τ + c_i h)} for nodes n0…n1−1 (energies: n f64). */
 function nodePhases(ph: usize, e: usize, n: i32, tau: f64, h: f64, n0: i32, n1: i32): void {
-  for (let i = n0; i < n1; i++) {
-    const t = tau + unchecked(RK_C[i]) * h, out = ph + <usize>i * (<usize>n << 4);
-    for (let a = 0; a < n; a++) {
-      NativeMath.sincos(load<f64>(e + (<usize>a << 3)) * t);
-      const o = out + (<usize>a << 4);
-      store<f64>(o, NativeMath.sincos_cos);
-      store<f64>(o, NativeMath.sincos_sin, 8);
-    }
-  }
+  for (let i = n0; i < n1; i++) phaseVector(ph + <usize>i * (<usize>n << 4), e, n, tau + unchecked(RK_C[i]) * h);
 }
 
 /**
- * One Runge–Kutta step of h from τ: yout (r+1 vectors) = y0 + h Σ b_j k_j, with stage 0 (the derivative at
- * y0) already in place and the coefficients of the 12 stage times in the fine buffer.
+ * One Runge–Kutta step of h: yout (r+1 vectors) = y0 + h Σ b_j k_j, with stage 0 (the derivative at y0) already
+ * in place, the coefficients of the 12 stage times in the fine buffer and their phases made by stagePhases.
  */
-function rkStages(tau: f64, h: f64, y0: usize, yout: usize): void {
+function rkStages(h: f64, y0: usize, yout: usize): void {
   const n = <usize>(r + 1) * <usize>dm, bytes = <usize>(r + 1) * vec;
   for (let i = 1; i < RK_STAGES; i++) {
     stageSum(rkZ, y0, n, h, SUM_A, i, i, bytes);
-    interactionRate(coefFine, i, tau + unchecked(RK_C[i]) * h, rkZ, rkStage + <usize>i * bytes);
+    interactionRate(coefFine, i, rkZ, rkStage + <usize>i * bytes);
   }
   stageSum(yout, y0, n, h, SUM_B, 0, RK_STAGES, bytes);
 }
@@ -1169,8 +1162,8 @@ export function rkStep(tau: f64, h: f64): i32 {
   const bytes = <usize>(r + 1) * vec, n = <usize>(r + 1) * <usize>dm;
   memory.copy(save, series, bytes + vec);
   stagePhases(tau, h);
-  if (!startRateValid) interactionRate(coefFine, 0, tau, series, rkStage);
-  rkStages(tau, h, series, series);
+  if (!startRateValid) interactionRate(coefFine, 0, series, rkStage);
+  rkStages(h, series, series);
   memory.fill(rkE5, 0, bytes);
   memory.fill(rkE3, 0, bytes);
   stageSum(rkE5, rkE5, n, h, SUM_E5, 0, RK_STAGES, bytes);
@@ -1204,7 +1197,7 @@ export function rkStep(tau: f64, h: f64): i32 {
  */
 export function rkSample(tau: f64, h: f64): i32 {
   stagePhases(tau, h);
-  rkStages(tau, h, save, comp);
+  rkStages(h, save, comp);
   return ERR_OK;
 }
 
