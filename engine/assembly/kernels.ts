@@ -147,34 +147,50 @@ export function zgemvSimd(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64,
 // ------------------------------------------------------------------ packed kernel
 // X is first repacked so that, for each j, the real parts of all vectors lie side by side, then their imaginary
 // parts (padded to an even count): a pair of vectors is then one f64x2 load, and each matrix element is
-// splatted once for all of them. Per matrix element and pair of vectors: two loads, four multiply-adds.
+// splatted once for all of them. Per matrix element and pair of vectors: two loads, four multiply-adds. An odd
+// count's last vector sits alone in its pair's real slot as (re, im) (its imaginary slot unused): one load and two
+// multiply-adds, where padding it with a zero vector would cost four (an eighth of the work for 7 vectors).
 
 /** Bytes of scratch {@link zgemvPacked} needs for d-vectors, r of them. */
 export function packedScratchBytes(d: i32, r: i32): usize {
   return <usize>d * <usize>((r + 1) & ~1) << 4;
 }
 
-// y[v] += α·(sr + i·si) for one row i, from a pair's accumulators (lanes: vectors v and v+1).
-@inline function finishPair(re: v128, im: v128, y: usize, v: i32, r: i32, stride: usize, ar: f64, ai: f64): void {
-  let sr = f64x2.extract_lane(re, 0), si = f64x2.extract_lane(im, 0);
-  let o = y + <usize>v * stride;
-  store<f64>(o, load<f64>(o) + ar * sr - ai * si);
-  store<f64>(o, load<f64>(o, 8) + ar * si + ai * sr, 8);
-  if (v + 1 < r) {
-    sr = f64x2.extract_lane(re, 1);
-    si = f64x2.extract_lane(im, 1);
-    o += stride;
+// One output entry y[v][i] from its sum s = sr + i·si: y += α·s, or, in the rate form (ph ≠ 0: the row's phase
+// e^{iE_iτ} at ph), y = −i·ph·(α·s), overwritten. The rate form gives the interaction-picture derivative straight
+// from the product (no zeroed buffer, no second pass over it); its operations are those of that second pass.
+@inline function put(o: usize, sr: f64, si: f64, ar: f64, ai: f64, ph: usize): void {
+  if (ph == 0) {
     store<f64>(o, load<f64>(o) + ar * sr - ai * si);
     store<f64>(o, load<f64>(o, 8) + ar * si + ai * sr, 8);
+  } else {
+    const wr = ar * sr - ai * si, wi = ar * si + ai * sr, pr = load<f64>(ph), pi = load<f64>(ph, 8);
+    store<f64>(o, pr * wi + pi * wr);
+    store<f64>(o, -pr * wr + pi * wi, 8);
   }
 }
 
-// One pass over A for four pairs of vectors starting at pair p (8 vectors).
-@inline function pairs4(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32): void {
+// One row i's entries of a pair (lanes: vectors v and v+1) into y (see put).
+@inline function finishPair(re: v128, im: v128, y: usize, v: i32, r: i32, stride: usize, ar: f64, ai: f64, ph: usize): void {
+  const o = y + <usize>v * stride;
+  put(o, f64x2.extract_lane(re, 0), f64x2.extract_lane(im, 0), ar, ai, ph);
+  if (v + 1 < r) put(o + stride, f64x2.extract_lane(re, 1), f64x2.extract_lane(im, 1), ar, ai, ph);
+}
+
+// One row i's entry of a vector alone in its pair: a = Σ mr·(xr, xi), b = Σ mi·(xr, xi), so the sum is
+// (a.re − b.im) + i·(a.im + b.re).
+@inline function finishSingle(a: v128, b: v128, y: usize, v: i32, stride: usize, ar: f64, ai: f64, ph: usize): void {
+  const sr = f64x2.extract_lane(a, 0) - f64x2.extract_lane(b, 1);
+  const si = f64x2.extract_lane(a, 1) + f64x2.extract_lane(b, 0);
+  put(y + <usize>v * stride, sr, si, ar, ai, ph);
+}
+
+// One pass over A for four pairs of vectors starting at pair p (8 vectors; 7 when `single`: the last alone).
+@inline function pairs4(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32, single: bool, ph: usize): void {
   const stride = <usize>d << 4;
   const off = <usize>p << 4;
   for (let i = i0; i < i1; i++) {
-    const row = a + <usize>i * stride;
+    const row = a + <usize>i * stride, phRow: usize = ph == 0 ? 0 : ph + (<usize>i << 4);
     let r0 = f64x2.splat(0), i0 = f64x2.splat(0), r1 = f64x2.splat(0), i1 = f64x2.splat(0);
     let r2 = f64x2.splat(0), i2 = f64x2.splat(0), r3 = f64x2.splat(0), i3 = f64x2.splat(0);
     let base = xp + off;
@@ -185,31 +201,38 @@ export function packedScratchBytes(d: i32, r: i32): usize {
       const x0 = v128.load(base), y0 = v128.load(q);
       const x1 = v128.load(base, 16), y1 = v128.load(q, 16);
       const x2 = v128.load(base, 32), y2 = v128.load(q, 32);
-      const x3 = v128.load(base, 48), y3 = v128.load(q, 48);
+      const x3 = v128.load(base, 48);
       r0 = nmadd(mi, y0, madd(mr, x0, r0));
       i0 = madd(mi, x0, madd(mr, y0, i0));
       r1 = nmadd(mi, y1, madd(mr, x1, r1));
       i1 = madd(mi, x1, madd(mr, y1, i1));
       r2 = nmadd(mi, y2, madd(mr, x2, r2));
       i2 = madd(mi, x2, madd(mr, y2, i2));
-      r3 = nmadd(mi, y3, madd(mr, x3, r3));
-      i3 = madd(mi, x3, madd(mr, y3, i3));
+      if (single) {
+        r3 = madd(mr, x3, r3);
+        i3 = madd(mi, x3, i3);
+      } else {
+        const y3 = v128.load(q, 48);
+        r3 = nmadd(mi, y3, madd(mr, x3, r3));
+        i3 = madd(mi, x3, madd(mr, y3, i3));
+      }
       base += per;
     }
     const yo = y + (<usize>i << 4);
-    finishPair(r0, i0, yo, 2 * p, r, stride, ar, ai);
-    finishPair(r1, i1, yo, 2 * p + 2, r, stride, ar, ai);
-    finishPair(r2, i2, yo, 2 * p + 4, r, stride, ar, ai);
-    finishPair(r3, i3, yo, 2 * p + 6, r, stride, ar, ai);
+    finishPair(r0, i0, yo, 2 * p, r, stride, ar, ai, phRow);
+    finishPair(r1, i1, yo, 2 * p + 2, r, stride, ar, ai, phRow);
+    finishPair(r2, i2, yo, 2 * p + 4, r, stride, ar, ai, phRow);
+    if (single) finishSingle(r3, i3, yo, 2 * p + 6, stride, ar, ai, phRow);
+    else finishPair(r3, i3, yo, 2 * p + 6, r, stride, ar, ai, phRow);
   }
 }
 
 // One pass over A for two pairs of vectors starting at pair p.
-@inline function pairs2(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32): void {
+@inline function pairs2(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32, single: bool, ph: usize): void {
   const stride = <usize>d << 4;
   const off = <usize>p << 4;
   for (let i = i0; i < i1; i++) {
-    const row = a + <usize>i * stride;
+    const row = a + <usize>i * stride, phRow: usize = ph == 0 ? 0 : ph + (<usize>i << 4);
     let r0 = f64x2.splat(0), i0 = f64x2.splat(0), r1 = f64x2.splat(0), i1 = f64x2.splat(0);
     let base = xp + off;
     for (let j = 0; j < d; j++) {
@@ -217,25 +240,32 @@ export function packedScratchBytes(d: i32, r: i32): usize {
       const mr = v128.load64_splat(m), mi = v128.load64_splat(m, 8);
       const q = base + half;
       const x0 = v128.load(base), y0 = v128.load(q);
-      const x1 = v128.load(base, 16), y1 = v128.load(q, 16);
+      const x1 = v128.load(base, 16);
       r0 = nmadd(mi, y0, madd(mr, x0, r0));
       i0 = madd(mi, x0, madd(mr, y0, i0));
-      r1 = nmadd(mi, y1, madd(mr, x1, r1));
-      i1 = madd(mi, x1, madd(mr, y1, i1));
+      if (single) {
+        r1 = madd(mr, x1, r1);
+        i1 = madd(mi, x1, i1);
+      } else {
+        const y1 = v128.load(q, 16);
+        r1 = nmadd(mi, y1, madd(mr, x1, r1));
+        i1 = madd(mi, x1, madd(mr, y1, i1));
+      }
       base += per;
     }
     const yo = y + (<usize>i << 4);
-    finishPair(r0, i0, yo, 2 * p, r, stride, ar, ai);
-    finishPair(r1, i1, yo, 2 * p + 2, r, stride, ar, ai);
+    finishPair(r0, i0, yo, 2 * p, r, stride, ar, ai, phRow);
+    if (single) finishSingle(r1, i1, yo, 2 * p + 2, stride, ar, ai, phRow);
+    else finishPair(r1, i1, yo, 2 * p + 2, r, stride, ar, ai, phRow);
   }
 }
 
 // One pass over A for one pair of vectors starting at pair p.
-@inline function pairs1(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32): void {
+@inline function pairs1(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32, single: bool, ph: usize): void {
   const stride = <usize>d << 4;
   const off = <usize>p << 4;
   for (let i = i0; i < i1; i++) {
-    const row = a + <usize>i * stride;
+    const row = a + <usize>i * stride, phRow: usize = ph == 0 ? 0 : ph + (<usize>i << 4);
     let r0 = f64x2.splat(0), i0 = f64x2.splat(0), r1 = f64x2.splat(0), i1 = f64x2.splat(0);
     let base = xp + off;
     // two accumulator sets over even/odd j shorten the dependency chains
@@ -244,22 +274,37 @@ export function packedScratchBytes(d: i32, r: i32): usize {
       const m = row + (<usize>j << 4);
       const mr = v128.load64_splat(m), mi = v128.load64_splat(m, 8);
       const nr = v128.load64_splat(m, 16), ni = v128.load64_splat(m, 24);
-      const x0 = v128.load(base), y0 = v128.load(base + half);
-      const x1 = v128.load(base + per), y1 = v128.load(base + per + half);
-      r0 = nmadd(mi, y0, madd(mr, x0, r0));
-      i0 = madd(mi, x0, madd(mr, y0, i0));
-      r1 = nmadd(ni, y1, madd(nr, x1, r1));
-      i1 = madd(ni, x1, madd(nr, y1, i1));
+      const x0 = v128.load(base), x1 = v128.load(base + per);
+      if (single) {
+        r0 = madd(mr, x0, r0);
+        i0 = madd(mi, x0, i0);
+        r1 = madd(nr, x1, r1);
+        i1 = madd(ni, x1, i1);
+      } else {
+        const y0 = v128.load(base + half), y1 = v128.load(base + per + half);
+        r0 = nmadd(mi, y0, madd(mr, x0, r0));
+        i0 = madd(mi, x0, madd(mr, y0, i0));
+        r1 = nmadd(ni, y1, madd(nr, x1, r1));
+        i1 = madd(ni, x1, madd(nr, y1, i1));
+      }
       base += per << 1;
     }
     if (j < d) {
       const m = row + (<usize>j << 4);
       const mr = v128.load64_splat(m), mi = v128.load64_splat(m, 8);
-      const x0 = v128.load(base), y0 = v128.load(base + half);
-      r0 = nmadd(mi, y0, madd(mr, x0, r0));
-      i0 = madd(mi, x0, madd(mr, y0, i0));
+      const x0 = v128.load(base);
+      if (single) {
+        r0 = madd(mr, x0, r0);
+        i0 = madd(mi, x0, i0);
+      } else {
+        const y0 = v128.load(base + half);
+        r0 = nmadd(mi, y0, madd(mr, x0, r0));
+        i0 = madd(mi, x0, madd(mr, y0, i0));
+      }
     }
-    finishPair(f64x2.add(r0, r1), f64x2.add(i0, i1), y + (<usize>i << 4), 2 * p, r, stride, ar, ai);
+    const yo = y + (<usize>i << 4);
+    if (single) finishSingle(f64x2.add(r0, r1), f64x2.add(i0, i1), yo, 2 * p, stride, ar, ai, phRow);
+    else finishPair(f64x2.add(r0, r1), f64x2.add(i0, i1), yo, 2 * p, r, stride, ar, ai, phRow);
   }
 }
 
@@ -268,28 +313,29 @@ export function packedScratchBytes(d: i32, r: i32): usize {
  * {@link packedScratchBytes}(d, r) bytes for the repacked X.
  */
 export function zgemvPacked(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai: f64, scratch: usize): void {
-  packedUpTo(a, d, x, y, r, ar, ai, scratch, d);
+  packedUpTo(a, d, x, y, r, ar, ai, scratch, d, 0);
 }
 
-/** {@link zgemvPacked} for output rows 0…rows−1 only (the others are left as they were). */
+/**
+ * {@link zgemvPacked} for output rows 0…rows−1 only (the others are left as they were); in the rate form where
+ * ph ≠ 0 (see {@link zgemvRate}).
+ */
 function packedUpTo(
-  a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai: f64, scratch: usize, rows: i32,
+  a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai: f64, scratch: usize, rows: i32, ph: usize,
 ): void {
   const rp = (r + 1) & ~1, pairs = rp >> 1;
   const per = <usize>rp << 4, half = <usize>rp << 3;
   const stride = <usize>d << 4;
+  const even = r & ~1;
   for (let j = 0; j < d; j++) {
     const row = scratch + <usize>j * per;
-    for (let v = 0; v < rp; v++) {
-      let re = 0.0, im = 0.0;
-      if (v < r) {
-        const q = x + <usize>v * stride + (<usize>j << 4);
-        re = load<f64>(q);
-        im = load<f64>(q, 8);
-      }
-      store<f64>(row + (<usize>v << 3), re);
-      store<f64>(row + half + (<usize>v << 3), im);
+    for (let v = 0; v < even; v++) {
+      const q = x + <usize>v * stride + (<usize>j << 4);
+      store<f64>(row + (<usize>v << 3), load<f64>(q));
+      store<f64>(row + half + (<usize>v << 3), load<f64>(q, 8));
     }
+    // an odd count's last vector alone, as (re, im) in its pair's real slot
+    if (even < r) v128.store(row + (<usize>even << 3), v128.load(x + <usize>even * stride + (<usize>j << 4)));
   }
   if (sharing() && <i64>d * <i64>d * <i64>r >= SHARE_FROM) {
     // rows in blocks, claimed by this thread and the helper
@@ -300,24 +346,36 @@ function packedUpTo(
     setArg(4, <u64>r);
     setArgF(5, ar);
     setArgF(6, ai);
+    setArg(7, <u64>ph);
     // small products in two halves (one hand-over each), larger ones in eighths (a late helper still takes some)
     runShared(JOB_PACKED_ROWS, 0, rows, blockSize(rows, d < 128 ? 2 : 8, 4), packedRowsJob);
     return;
   }
-  packedRows(a, d, scratch, y, r, ar, ai, 0, rows);
+  packedRows(a, d, scratch, y, r, ar, ai, 0, rows, ph);
 }
 
-/** Rows i0…i1−1 of Y += α·A·X with X already packed at xp (see {@link zgemvPacked}). */
-function packedRows(a: usize, d: i32, xp: usize, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32): void {
-  const rp = (r + 1) & ~1, pairs = rp >> 1;
+/**
+ * Rows i0…i1−1 of Y += α·A·X with X already packed at xp (see {@link zgemvPacked}); with phases ph ≠ 0, of the
+ * rate form Y = −i·e^{iEτ}∘(α·A·X) instead (see {@link zgemvRate}).
+ */
+function packedRows(a: usize, d: i32, xp: usize, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32, ph: usize): void {
+  const rp = (r + 1) & ~1, pairs = rp >> 1, odd = (r & 1) != 0;
   const per = <usize>rp << 4, half = <usize>rp << 3;
   let p = 0;
-  for (; p + 4 <= pairs; p += 4) pairs4(a, d, xp, per, half, p, y, r, ar, ai, i0, i1);
+  for (; p + 4 <= pairs; p += 4) {
+    // the group that ends with an odd count's last vector (alone in its pair) takes the single-vector form
+    if (odd && p + 4 == pairs) pairs4(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, true, ph);
+    else pairs4(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, false, ph);
+  }
   if (p + 2 <= pairs) {
-    pairs2(a, d, xp, per, half, p, y, r, ar, ai, i0, i1);
+    if (odd && p + 2 == pairs) pairs2(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, true, ph);
+    else pairs2(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, false, ph);
     p += 2;
   }
-  if (p < pairs) pairs1(a, d, xp, per, half, p, y, r, ar, ai, i0, i1);
+  if (p < pairs) {
+    if (odd) pairs1(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, true, ph);
+    else pairs1(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, false, ph);
+  }
 }
 
 /** Products of at least this many complex multiply-adds (d²·r) are shared with the helper thread. */
@@ -326,7 +384,9 @@ export const JOB_PACKED_ROWS = 1;
 
 /** A block of a shared packed product (arguments as {@link zgemvPacked} posts them). */
 export function packedRowsJob(i0: i32, i1: i32): void {
-  packedRows(<usize>arg(0), <i32>arg(1), <usize>arg(2), <usize>arg(3), <i32>arg(4), argF(5), argF(6), i0, i1);
+  packedRows(
+    <usize>arg(0), <i32>arg(1), <usize>arg(2), <usize>arg(3), <i32>arg(4), argF(5), argF(6), i0, i1, <usize>arg(7),
+  );
 }
 
 // ------------------------------------------------------------------ sparse (CSR) kernels
@@ -472,7 +532,33 @@ export function zgemvUpTo(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64,
     zgemv(a, d, x, y, r, ar, ai);
     return;
   }
-  packedUpTo(a, d, x, y, r, ar, ai, scratch, rows);
+  packedUpTo(a, d, x, y, r, ar, ai, scratch, rows, 0);
+}
+
+/**
+ * The interaction-picture rate of r vectors: Y[v] = −i·e^{iEτ}∘(α·A·X[v]), Y overwritten, with ph = e^{iEτ}
+ * (d complex). The packed kernel writes it as it finishes each row; otherwise a product into a zeroed Y and a
+ * pass over it.
+ */
+export function zgemvRate(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai: f64, ph: usize): void {
+  if (r <= 0) return;
+  const cap = packedCapacity(d), stride = <usize>d << 4;
+  if (!simdEnabled || cap < 4 || r < 3) {
+    memory.fill(y, 0, <usize>r * stride);
+    zgemv(a, d, x, y, r, ar, ai);
+    for (let v = 0; v < r; v++) {
+      for (let i = 0; i < d; i++) {
+        const o = y + <usize>v * stride + (<usize>i << 4), q = ph + (<usize>i << 4);
+        const wr = load<f64>(o), wi = load<f64>(o, 8), pr = load<f64>(q), pi = load<f64>(q, 8);
+        store<f64>(o, pr * wi + pi * wr);
+        store<f64>(o, -pr * wr + pi * wi, 8);
+      }
+    }
+    return;
+  }
+  for (let v = 0; v < r; v += cap) {
+    packedUpTo(a, d, x + <usize>v * stride, y + <usize>v * stride, min(cap, r - v), ar, ai, scratch, d, ph);
+  }
 }
 
 /**

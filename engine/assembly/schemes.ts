@@ -9,7 +9,7 @@
 // see: Van Loan, IEEE TAC 23 (1978).
 
 import { arenaAlloc, arenaReset } from "./arena";
-import { packedScratchBytes, setKernelScratch, zcsrmv, zgemv, zgemvUpTo } from "./kernels";
+import { packedScratchBytes, setKernelScratch, zcsrmv, zgemv, zgemvRate, zgemvUpTo } from "./kernels";
 import { eigh, EIGH_WORK_BYTES_PER_LEVEL } from "./eigh";
 import { arg, argF, runShared, setArg, setArgF, sharing } from "./share";
 
@@ -816,7 +816,7 @@ export function record(tau: f64): void {
     memory.copy(tmp + <usize>(r + 1) * vec, check, vec);
     // ψ = U·e^{−iEτ}·c
     phases(ph1, tau);
-    toInteraction(tmp, tmp, n * m, ph1);
+    toInteraction(tmp, tmp, n * m, ph1, 1.0);
     if (scheme == SCHEME_SPARSE_INTERACTION) memory.copy(rec, tmp, <usize>n * vec); // the basis is the identity
     else {
       memory.fill(rec, 0, <usize>n * vec);
@@ -935,27 +935,24 @@ function interactionRate(buf: usize, node: i32, z: usize, kout: usize): void {
     op = m1;
   }
   const ph = rkPh + <usize>node * (<usize>d << 4); // e^{iEτ} (stagePhases)
-  // u_v = e^{−iEτ}∘z_v for v = 0…N−1, and u_N = e^{−iEτ}∘z_exact
-  toInteraction(rkU, z, (r - 1) * m, ph);
-  toInteraction(rkU + <usize>(r - 1) * vec, z + <usize>r * vec, m, ph);
-  memory.fill(rkP, 0, <usize>r * vec);
-  zgemv(op, d, rkU, rkP, r * m, fr, fi);
-  kernelFlops += 8.0 * <f64>d * <f64>d * <f64>(r * m);
+  // u_v = e^{−iEτ}∘z_v for v = 0…N−1, and u_N = λ·e^{−iEτ}∘z_exact
+  toInteraction(rkU, z, (r - 1) * m, ph, 1.0);
+  toInteraction(rkU + <usize>(r - 1) * vec, z + <usize>r * vec, m, ph, lambda);
   memory.fill(kout, 0, vec);
-  // −i·(e^{iEτ}∘P): P_v feeds order v+1, the last one the exact state (times λ)
-  toRate(kout + vec, rkP, (r - 1) * m, 1.0, ph);
-  toRate(kout + <usize>r * vec, rkP + <usize>(r - 1) * vec, m, lambda, ph);
+  // kout_{v+1} = −i·e^{iEτ}∘(V u_v): u_v feeds order v+1, the last one the exact state
+  zgemvRate(op, d, rkU, kout + vec, r * m, fr, fi, ph);
+  kernelFlops += 8.0 * <f64>d * <f64>d * <f64>(r * m);
 }
 
-/** dst = e^{−iEτ}∘src for `blocks` d-vectors one after another, with ph = e^{iEτ}: conj(p)·x. */
-function toInteraction(dst: usize, src: usize, blocks: i32, ph: usize): void {
-  const flip = f64x2(1.0, -1.0);
+/** dst = scale·e^{−iEτ}∘src for `blocks` d-vectors one after another, with ph = e^{iEτ}: scale·conj(p)·x. */
+function toInteraction(dst: usize, src: usize, blocks: i32, ph: usize, scale: f64): void {
+  const flip = f64x2(scale, -scale), s = f64x2.splat(scale);
   for (let b = 0; b < blocks; b++) {
     const from = src + ((<usize>b * <usize>d) << 4), to = dst + ((<usize>b * <usize>d) << 4);
     for (let a = 0; a < d; a++) {
       const o = <usize>a << 4, x = v128.load(from + o), q = v128.load(ph + o);
-      // (pr·xr + pi·xi, pr·xi − pi·xr) = pr·(xr, xi) + (pi, −pi)·(xi, xr)
-      const pr = v128.shuffle<f64>(q, q, 0, 0), pi = f64x2.mul(v128.shuffle<f64>(q, q, 1, 1), flip);
+      // (pr·xr + pi·xi, pr·xi − pi·xr) = pr·(xr, xi) + (pi, −pi)·(xi, xr), times the scale
+      const pr = f64x2.mul(v128.shuffle<f64>(q, q, 0, 0), s), pi = f64x2.mul(v128.shuffle<f64>(q, q, 1, 1), flip);
       v128.store(to + o, f64x2.add(f64x2.mul(pr, x), f64x2.mul(pi, v128.shuffle<f64>(x, x, 1, 0))));
     }
   }
@@ -984,7 +981,7 @@ function toRate(dst: usize, src: usize, blocks: i32, scale: f64, ph: usize): voi
 function interactionRateSparse(buf: usize, node: i32, z: usize, kout: usize): void {
   const nodeCoefs = buf + ((<usize>node * <usize>(k0 + kv)) << 4);
   const ph = rkPh + <usize>node * (<usize>d << 4); // e^{iEτ} (stagePhases)
-  toInteraction(rkU, z, (r + 1) * m, ph);
+  toInteraction(rkU, z, (r + 1) * m, ph, 1.0);
   memory.fill(rkP, 0, <usize>(r + 1) * vec);
   for (let k = 0; k < kv; k++) {
     const c = nodeCoefs + (<usize>(k0 + k) << 4), t = k0 + k;
