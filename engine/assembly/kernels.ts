@@ -185,6 +185,15 @@ export function packedScratchBytes(d: i32, r: i32): usize {
   put(y + <usize>v * stride, sr, si, ar, ai, ph);
 }
 
+// A multiply-add step of a group's last pair (or of pairs1's one): a lone vector's (x = (re, im), y unused; see finishSingle), or a
+// pair's (x the real parts, y the imaginary ones), as for every other pair.
+@inline function lastRe(single: bool, mr: v128, mi: v128, x: v128, y: v128, acc: v128): v128 {
+  return single ? madd(mr, x, acc) : nmadd(mi, y, madd(mr, x, acc));
+}
+@inline function lastIm(single: bool, mr: v128, mi: v128, x: v128, y: v128, acc: v128): v128 {
+  return single ? madd(mi, x, acc) : madd(mi, x, madd(mr, y, acc));
+}
+
 // One pass over A for four pairs of vectors starting at pair p (8 vectors; 7 when `single`: the last alone).
 @inline function pairs4(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32, single: bool, ph: usize): void {
   const stride = <usize>d << 4;
@@ -208,14 +217,9 @@ export function packedScratchBytes(d: i32, r: i32): usize {
       i1 = madd(mi, x1, madd(mr, y1, i1));
       r2 = nmadd(mi, y2, madd(mr, x2, r2));
       i2 = madd(mi, x2, madd(mr, y2, i2));
-      if (single) {
-        r3 = madd(mr, x3, r3);
-        i3 = madd(mi, x3, i3);
-      } else {
-        const y3 = v128.load(q, 48);
-        r3 = nmadd(mi, y3, madd(mr, x3, r3));
-        i3 = madd(mi, x3, madd(mr, y3, i3));
-      }
+      const y3 = single ? x3 : v128.load(q, 48);
+      r3 = lastRe(single, mr, mi, x3, y3, r3);
+      i3 = lastIm(single, mr, mi, x3, y3, i3);
       base += per;
     }
     const yo = y + (<usize>i << 4);
@@ -243,14 +247,9 @@ export function packedScratchBytes(d: i32, r: i32): usize {
       const x1 = v128.load(base, 16);
       r0 = nmadd(mi, y0, madd(mr, x0, r0));
       i0 = madd(mi, x0, madd(mr, y0, i0));
-      if (single) {
-        r1 = madd(mr, x1, r1);
-        i1 = madd(mi, x1, i1);
-      } else {
-        const y1 = v128.load(q, 16);
-        r1 = nmadd(mi, y1, madd(mr, x1, r1));
-        i1 = madd(mi, x1, madd(mr, y1, i1));
-      }
+      const y1 = single ? x1 : v128.load(q, 16);
+      r1 = lastRe(single, mr, mi, x1, y1, r1);
+      i1 = lastIm(single, mr, mi, x1, y1, i1);
       base += per;
     }
     const yo = y + (<usize>i << 4);
@@ -275,32 +274,19 @@ export function packedScratchBytes(d: i32, r: i32): usize {
       const mr = v128.load64_splat(m), mi = v128.load64_splat(m, 8);
       const nr = v128.load64_splat(m, 16), ni = v128.load64_splat(m, 24);
       const x0 = v128.load(base), x1 = v128.load(base + per);
-      if (single) {
-        r0 = madd(mr, x0, r0);
-        i0 = madd(mi, x0, i0);
-        r1 = madd(nr, x1, r1);
-        i1 = madd(ni, x1, i1);
-      } else {
-        const y0 = v128.load(base + half), y1 = v128.load(base + per + half);
-        r0 = nmadd(mi, y0, madd(mr, x0, r0));
-        i0 = madd(mi, x0, madd(mr, y0, i0));
-        r1 = nmadd(ni, y1, madd(nr, x1, r1));
-        i1 = madd(ni, x1, madd(nr, y1, i1));
-      }
+      const y0 = single ? x0 : v128.load(base + half), y1 = single ? x1 : v128.load(base + per + half);
+      r0 = lastRe(single, mr, mi, x0, y0, r0);
+      i0 = lastIm(single, mr, mi, x0, y0, i0);
+      r1 = lastRe(single, nr, ni, x1, y1, r1);
+      i1 = lastIm(single, nr, ni, x1, y1, i1);
       base += per << 1;
     }
     if (j < d) {
       const m = row + (<usize>j << 4);
       const mr = v128.load64_splat(m), mi = v128.load64_splat(m, 8);
-      const x0 = v128.load(base);
-      if (single) {
-        r0 = madd(mr, x0, r0);
-        i0 = madd(mi, x0, i0);
-      } else {
-        const y0 = v128.load(base + half);
-        r0 = nmadd(mi, y0, madd(mr, x0, r0));
-        i0 = madd(mi, x0, madd(mr, y0, i0));
-      }
+      const x0 = v128.load(base), y0 = single ? x0 : v128.load(base + half);
+      r0 = lastRe(single, mr, mi, x0, y0, r0);
+      i0 = lastIm(single, mr, mi, x0, y0, i0);
     }
     const yo = y + (<usize>i << 4);
     if (single) finishSingle(f64x2.add(r0, r1), f64x2.add(i0, i1), yo, 2 * p, stride, ar, ai, phRow);
