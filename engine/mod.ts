@@ -80,6 +80,8 @@ interface Exports {
   helperBlocks(): number;
   stopHelper(): void;
   peakLoop(iterations: number, x0: number, dy: number): number;
+  /** (cos θ, sin θ) of n arguments at x (f64) into out (n complex), as the engine makes its phases (for tests). */
+  phasesOf(out: number, x: number, n: number): void;
   /** Flops {@link peakLoop} counts per iteration. */
   PEAK_FLOPS_PER_ITERATION: WebAssembly.Global;
   /** 1 in the relaxed-SIMD builds (fused multiply-adds), 0 in the portable one. */

@@ -599,3 +599,37 @@ Deno.test("eigenvalues() (no eigenvectors) of complex Hermitian matrices agree w
     });
   }
 });
+
+Deno.test("the engine's phases agree with Math.cos and Math.sin to 3e-16 at any size of argument, NaN stays NaN", async () => {
+  // the reference: the host's own Math.cos and Math.sin (correctly rounded or within an ulp in V8)
+  const { exports: e } = await testEngine();
+  const random = seeded(11);
+  for (const scale of [1e-8, 1, 10, 1e3, 1e5, 8e5, 1e6, 1e9, 1e15]) {
+    const n = 2001; // odd: the last argument takes the one-at-a-time path
+    e.arenaReset();
+    const x = e.arenaAlloc(8 * n), out = e.arenaAlloc(16 * n);
+    const theta = new Float64Array(e.memory.buffer, x, n);
+    theta.forEach((_, k) => (theta[k] = (2 * random() - 1) * scale));
+    // exact multiples of π/2 and quadrant edges, where the reduction matters most
+    if (scale === 10) {
+      [0, Math.PI / 2, Math.PI, 1.5 * Math.PI, 2 * Math.PI, Math.PI / 4, -Math.PI / 4].forEach((
+        v,
+        k,
+      ) => (theta[k] = v));
+    }
+    e.phasesOf(out, x, n);
+    const phase = new Float64Array(e.memory.buffer, out, 2 * n);
+    for (let k = 0; k < n; k++) {
+      assertClose(phase[2 * k]!, Math.cos(theta[k]!), { abs: 3e-16 }, `cos(${theta[k]})`);
+      assertClose(phase[2 * k + 1]!, Math.sin(theta[k]!), { abs: 3e-16 }, `sin(${theta[k]})`);
+    }
+  }
+  e.arenaReset();
+  const x = e.arenaAlloc(8 * 2), out = e.arenaAlloc(16 * 2);
+  new Float64Array(e.memory.buffer, x, 2).set([NaN, Infinity]);
+  e.phasesOf(out, x, 2);
+  assert(
+    new Float64Array(e.memory.buffer, out, 4).every((v) => Number.isNaN(v)),
+    "NaN and ∞ give NaN phases",
+  );
+});

@@ -1,6 +1,7 @@
 // The ordo engine: Dyson terms and exact propagation. See engine/mod.ts for
 // the TypeScript face.
 export { arenaAlloc, arenaReset } from "./arena";
+export { phasesOf } from "./trig";
 export {
   fusedMultiplyAdd,
   PEAK_FLOPS_PER_ITERATION,

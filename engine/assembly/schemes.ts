@@ -11,6 +11,7 @@
 import { arenaAlloc, arenaReset } from "./arena";
 import { packedScratchBytes, setKernelScratch, zcsrmv, zgemv, zgemvRate, zgemvUpTo } from "./kernels";
 import { eigh, EIGH_WORK_BYTES_PER_LEVEL } from "./eigh";
+import { phaseRow } from "./trig";
 import { arg, argF, runShared, setArg, setArgF, sharing } from "./share";
 
 // 4th-order commutator-free exponential integrator (two exponentials).
@@ -527,10 +528,7 @@ function phases(ph: usize, tau: f64): void {
 
 /** out = e^{i·e·t} elementwise over n energies at e (its arguments explicit: the helper runs it too). */
 function phaseVector(out: usize, e: usize, n: i32, t: f64): void {
-  for (let a = 0; a < n; a++) {
-    NativeMath.sincos(load<f64>(e + (<usize>a << 3)) * t); // one argument reduction for both cos and sin
-    cset(out + (<usize>a << 4), NativeMath.sincos_cos, NativeMath.sincos_sin);
-  }
+  phaseRow(out, e, n, t);
 }
 
 /** m ← Φ∘m with Φ_ab = ph_a·conj(ph_b) (the interaction-picture phase). */
