@@ -164,10 +164,15 @@ export function packedScratchBytes(d: i32, r: i32): usize {
     store<f64>(o, load<f64>(o) + ar * sr - ai * si);
     store<f64>(o, load<f64>(o, 8) + ar * si + ai * sr, 8);
   } else {
-    const wr = ar * sr - ai * si, wi = ar * si + ai * sr, pr = load<f64>(ph), pi = load<f64>(ph, 8);
-    store<f64>(o, pr * wi + pi * wr);
-    store<f64>(o, -pr * wr + pi * wi, 8);
+    putRate(o, ar * sr - ai * si, ar * si + ai * sr, ph);
   }
+}
+
+// y = −i·p·w for one entry, with the phase p at ph: (pr·wi + pi·wr, −pr·wr + pi·wi).
+@inline function putRate(o: usize, wr: f64, wi: f64, ph: usize): void {
+  const pr = load<f64>(ph), pi = load<f64>(ph, 8);
+  store<f64>(o, pr * wi + pi * wr);
+  store<f64>(o, -pr * wr + pi * wi, 8);
 }
 
 // One row i's entries of a pair (lanes: vectors v and v+1) into y (see put).
@@ -185,8 +190,8 @@ export function packedScratchBytes(d: i32, r: i32): usize {
   put(y + <usize>v * stride, sr, si, ar, ai, ph);
 }
 
-// A multiply-add step of a group's last pair (or of pairs1's one): a lone vector's (x = (re, im), y unused; see finishSingle), or a
-// pair's (x the real parts, y the imaginary ones), as for every other pair.
+// A multiply-add step of a group's last pair (or of pairs1's one): a lone vector's (x = (re, im), y unused; see
+// finishSingle), or a pair's (x the real parts, y the imaginary ones), as for every other pair.
 @inline function lastRe(single: bool, mr: v128, mi: v128, x: v128, y: v128, acc: v128): v128 {
   return single ? madd(mr, x, acc) : nmadd(mi, y, madd(mr, x, acc));
 }
@@ -349,7 +354,8 @@ function packedRows(a: usize, d: i32, xp: usize, y: usize, r: i32, ar: f64, ai: 
   const per = <usize>rp << 4, half = <usize>rp << 3;
   let p = 0;
   for (; p + 4 <= pairs; p += 4) {
-    // the group that ends with an odd count's last vector (alone in its pair) takes the single-vector form
+    // the group that ends with an odd count's last vector (alone in its pair) takes the single-vector form (two
+    // calls, so that each inlined copy has its form fixed at compile time)
     if (odd && p + 4 == pairs) pairs4(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, true, ph);
     else pairs4(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, false, ph);
   }
@@ -534,10 +540,8 @@ export function zgemvRate(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64,
     zgemv(a, d, x, y, r, ar, ai);
     for (let v = 0; v < r; v++) {
       for (let i = 0; i < d; i++) {
-        const o = y + <usize>v * stride + (<usize>i << 4), q = ph + (<usize>i << 4);
-        const wr = load<f64>(o), wi = load<f64>(o, 8), pr = load<f64>(q), pi = load<f64>(q, 8);
-        store<f64>(o, pr * wi + pi * wr);
-        store<f64>(o, -pr * wr + pi * wi, 8);
+        const o = y + <usize>v * stride + (<usize>i << 4);
+        putRate(o, load<f64>(o), load<f64>(o, 8), ph + (<usize>i << 4));
       }
     }
     return;

@@ -523,12 +523,7 @@ export function prepare(which: i32, strength: f64, haveEigen: i32): i32 {
 
 /** ph = e^{i·E·τ} elementwise. */
 function phases(ph: usize, tau: f64): void {
-  phaseVector(ph, energies, d, tau);
-}
-
-/** out = e^{i·e·t} elementwise over n energies at e (its arguments explicit: the helper runs it too). */
-function phaseVector(out: usize, e: usize, n: i32, t: f64): void {
-  phaseRow(out, e, n, t);
+  phaseRow(ph, energies, d, tau);
 }
 
 /** m ← Φ∘m with Φ_ab = ph_a·conj(ph_b) (the interaction-picture phase). */
@@ -915,8 +910,9 @@ let startRateValid = false;
 }
 
 /**
- * kout (r+1 vectors) = the stacked derivative at z (series c_0…c_N, then the exact state) at stage time `node`:
- * its coefficients at node `node` of buf, its phases from {@link stagePhases}: kout_0 = 0, kout_n = −i V_I z_{n−1}, kout_exact = −iλ V_I z_exact.
+ * kout (r+1 vectors) = the stacked derivative at z (series c_0…c_N, then the exact state) at stage time `node`
+ * (its coefficients at node `node` of buf, its phases from {@link stagePhases}): kout_0 = 0,
+ * kout_n = −i V_I z_{n−1}, kout_exact = −iλ V_I z_exact.
  */
 function interactionRate(buf: usize, node: i32, z: usize, kout: usize): void {
   if (sparse) {
@@ -1128,7 +1124,7 @@ export function stagePhasesJob(n0: i32, n1: i32): void {
 
 /** ph_i = e^{iE(τ + c_i h)} for nodes n0…n1−1 (energies: n f64). */
 function nodePhases(ph: usize, e: usize, n: i32, tau: f64, h: f64, n0: i32, n1: i32): void {
-  for (let i = n0; i < n1; i++) phaseVector(ph + <usize>i * (<usize>n << 4), e, n, tau + unchecked(RK_C[i]) * h);
+  for (let i = n0; i < n1; i++) phaseRow(ph + <usize>i * (<usize>n << 4), e, n, tau + unchecked(RK_C[i]) * h);
 }
 
 /**
