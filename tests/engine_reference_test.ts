@@ -612,10 +612,7 @@ Deno.test("the engine's phases agree with Math.cos and Math.sin to 3e-16 at any 
     theta.forEach((_, k) => (theta[k] = (2 * random() - 1) * scale));
     // exact multiples of π/2 and quadrant edges, where the reduction matters most
     if (scale === 10) {
-      [0, Math.PI / 2, Math.PI, 1.5 * Math.PI, 2 * Math.PI, Math.PI / 4, -Math.PI / 4].forEach((
-        v,
-        k,
-      ) => (theta[k] = v));
+      theta.set([0, Math.PI / 2, Math.PI, 1.5 * Math.PI, 2 * Math.PI, Math.PI / 4, -Math.PI / 4]);
     }
     e.phasesOf(out, x, n);
     const phase = new Float64Array(e.memory.buffer, out, 2 * n);
