@@ -378,13 +378,26 @@ function reflectPair(
   const bytes = <usize>(j1 - j0) << 4;
   memory.fill(p + (<usize>j0 << 4), 0, bytes);
   memory.fill(v + (<usize>j0 << 4), 0, bytes);
-  const paired = tl != 0.0;
+  const paired = tl != 0.0, first = paired ? k : k + 1;
   // P_j = Σ_i conj(v_k,i)·Z_ij (rows k+1..), R_j = Σ_i conj(v_{k−1},i)·Z_ij (rows k..): conj(x)·z = xr·z +
-  // (xi, −xi)⊙swap(z)
-  for (let i = paired ? k : k + 1; i < n; i++) {
-    const own = i > k, x = own ? at(a, n, i, k) : 0, y = paired ? at(a, n, i, k - 1) : 0;
-    const c1 = f64x2.splat(own ? re(x) : 0.0), c2 = own ? f64x2(im(x), -im(x)) : f64x2.splat(0.0);
-    const d1 = f64x2.splat(paired ? re(y) : 0.0), d2 = paired ? f64x2(im(y), -im(y)) : f64x2.splat(0.0);
+  // (xi, −xi)⊙swap(z); two rows a pass over the columns (each P_j and R_j read and written once per two rows)
+  let i = first;
+  for (; i + 1 < n; i += 2) {
+    const ca1 = part(a, n, i, k, true, 0), ca2 = part(a, n, i, k, true, 1), da1 = part(a, n, i, k - 1, paired, 0);
+    const da2 = part(a, n, i, k - 1, paired, 1), cb1 = part(a, n, i + 1, k, true, 0);
+    const cb2 = part(a, n, i + 1, k, true, 1), db1 = part(a, n, i + 1, k - 1, paired, 0);
+    const db2 = part(a, n, i + 1, k - 1, paired, 1);
+    for (let j = j0; j < j1; j++) {
+      const za = v128.load(at(z, n, i, j)), zb = v128.load(at(z, n, i + 1, j));
+      const zas = v128.shuffle<f64>(za, za, 1, 0), zbs = v128.shuffle<f64>(zb, zb, 1, 0);
+      const o = p + (<usize>j << 4), u = v + (<usize>j << 4);
+      v128.store(o, madd(cb2, zbs, madd(cb1, zb, madd(ca2, zas, madd(ca1, za, v128.load(o))))));
+      v128.store(u, madd(db2, zbs, madd(db1, zb, madd(da2, zas, madd(da1, za, v128.load(u))))));
+    }
+  }
+  if (i < n) {
+    const c1 = part(a, n, i, k, true, 0), c2 = part(a, n, i, k, true, 1);
+    const d1 = part(a, n, i, k - 1, paired, 0), d2 = part(a, n, i, k - 1, paired, 1);
     for (let j = j0; j < j1; j++) {
       const zq = v128.load(at(z, n, i, j)), zs = v128.shuffle<f64>(zq, zq, 1, 0);
       const o = p + (<usize>j << 4), u = v + (<usize>j << 4);
@@ -401,11 +414,25 @@ function reflectPair(
     store<f64>(o, tk * pr);
     store<f64>(o, tk * pi, 8);
   }
-  // Z_ij −= v_k,i·P_j + v_{k−1},i·R_j, with x·P = xr·P + (−xi, xi)⊙swap(P)
-  for (let i = paired ? k : k + 1; i < n; i++) {
-    const own = i > k, x = own ? at(a, n, i, k) : 0, y = paired ? at(a, n, i, k - 1) : 0;
-    const c1 = f64x2.splat(own ? re(x) : 0.0), c2 = own ? f64x2(-im(x), im(x)) : f64x2.splat(0.0);
-    const d1 = f64x2.splat(paired ? re(y) : 0.0), d2 = paired ? f64x2(-im(y), im(y)) : f64x2.splat(0.0);
+  // Z_ij −= v_k,i·P_j + v_{k−1},i·R_j, with x·P = xr·P + (−xi, xi)⊙swap(P); two rows a pass (P_j, R_j and
+  // their swaps loaded once per two rows)
+  i = first;
+  for (; i + 1 < n; i += 2) {
+    const ca1 = part(a, n, i, k, true, 0), ca2 = part(a, n, i, k, true, 2), da1 = part(a, n, i, k - 1, paired, 0);
+    const da2 = part(a, n, i, k - 1, paired, 2), cb1 = part(a, n, i + 1, k, true, 0);
+    const cb2 = part(a, n, i + 1, k, true, 2), db1 = part(a, n, i + 1, k - 1, paired, 0);
+    const db2 = part(a, n, i + 1, k - 1, paired, 2);
+    for (let j = j0; j < j1; j++) {
+      const pj = v128.load(p + (<usize>j << 4)), rj = v128.load(v + (<usize>j << 4));
+      const ps = v128.shuffle<f64>(pj, pj, 1, 0), rs = v128.shuffle<f64>(rj, rj, 1, 0);
+      const qa = at(z, n, i, j), qb = qa + (<usize>n << 4);
+      v128.store(qa, nmadd(da2, rs, nmadd(da1, rj, nmadd(ca2, ps, nmadd(ca1, pj, v128.load(qa))))));
+      v128.store(qb, nmadd(db2, rs, nmadd(db1, rj, nmadd(cb2, ps, nmadd(cb1, pj, v128.load(qb))))));
+    }
+  }
+  if (i < n) {
+    const c1 = part(a, n, i, k, true, 0), c2 = part(a, n, i, k, true, 2);
+    const d1 = part(a, n, i, k - 1, paired, 0), d2 = part(a, n, i, k - 1, paired, 2);
     for (let j = j0; j < j1; j++) {
       const q = at(z, n, i, j), pj = v128.load(p + (<usize>j << 4)), rj = v128.load(v + (<usize>j << 4));
       let w = nmadd(c1, pj, v128.load(q));
@@ -414,6 +441,17 @@ function reflectPair(
       v128.store(q, nmadd(d2, v128.shuffle<f64>(rj, rj, 1, 0), w));
     }
   }
+}
+
+/**
+ * Lanes made of the reflector entry x at row i of A's column c (which holds the reflector below row c): which 0
+ * → (xr, xr), 1 → (xi, −xi), 2 → (−xi, xi); zero at and above row c, and for a reflector not `present`.
+ */
+@inline function part(a: usize, n: i32, i: i32, c: i32, present: bool, which: i32): v128 {
+  if (!present || i <= c) return f64x2.splat(0.0);
+  const x = at(a, n, i, c);
+  if (which == 0) return f64x2.splat(re(x));
+  return which == 1 ? f64x2(im(x), -im(x)) : f64x2(-im(x), im(x));
 }
 
 /**
