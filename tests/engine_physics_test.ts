@@ -1,5 +1,5 @@
 // The engine against published formulas. Each check names its source.
-import { assert } from "./assert.ts";
+import { assert, assertEqual } from "./assert.ts";
 import { assertClose, testEngine } from "./helpers.ts";
 import { solve } from "../engine/mod.ts";
 import {
@@ -177,6 +177,36 @@ Deno.test("exact populations follow the Rabi formula to 1e-10 in all three schem
         `${result.scheme} t=${t}`,
       )
     );
+  }
+});
+
+// The same two-level system with accuracy-driven steps (the embedded Runge–Kutta pair in the interaction
+// picture), at the lowest orders, where the stacked state is shortest: the exact state on Rabi's formula, and
+// the first-order partial sum on the sinc² form above (its |e⟩ amplitude is the first-order one alone).
+Deno.test("accuracy-driven runs of orders 0, 1 and 2 keep Rabi's formula and the first-order sin² form", async () => {
+  const delta = 0.8, g = 0.3, accuracy = 1e-9;
+  const omega = Math.sqrt(delta * delta + 4 * g * g);
+  const rabi = (t: number) => 4 * g * g / (omega * omega) * Math.sin(omega * t / 2) ** 2;
+  for (const order of [0, 1, 2]) {
+    const text = twoLevel(delta, g, 25, { samples: 11, order, coef: "1 + 0*t" });
+    const { result } = await solveText(text, { accuracy });
+    assertEqual(result.method, "runge-kutta-8", `order ${order}: the accuracy-driven pair`);
+    result.times.forEach((t, k) => {
+      assertClose(
+        population(result.exact, 2, k, 1),
+        rabi(t),
+        { abs: 10 * accuracy },
+        `order ${order} t=${t}`,
+      );
+      if (order >= 1) {
+        assertClose(
+          population(partialSum(result, 1), 2, k, 1),
+          sinc2(g, delta, t),
+          { abs: 10 * accuracy },
+          `P1 t=${t}`,
+        );
+      }
+    });
   }
 });
 

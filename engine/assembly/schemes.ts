@@ -1033,15 +1033,17 @@ const SUM_E3: i32 = 3;
 
 /**
  * dst = from + Σ_j (h·w_j)·k_j over the stages j < count with w_j ≠ 0 (weights of `kind`, row i for RK_A; k_j the
- * stage derivatives, `bytes` apart), n complex entries; from may be dst.
+ * stage derivatives, `bytes` apart, their entries from byte `offset` on), n complex entries; from may be dst.
  */
-function stageSum(dst: usize, from: usize, n: usize, h: f64, kind: i32, i: i32, count: i32, bytes: usize): void {
+function stageSum(
+  dst: usize, from: usize, n: usize, h: f64, kind: i32, i: i32, count: i32, bytes: usize, offset: usize,
+): void {
   let src = from, pending = 0;
   let w0 = 0.0, w1 = 0.0, w2 = 0.0, p0: usize = 0, p1: usize = 0, p2: usize = 0;
   for (let j = 0; j < count; j++) {
     const w = sumWeight(kind, i, j);
     if (w == 0) continue;
-    const p = rkStage + <usize>j * bytes, hw = h * w;
+    const p = rkStage + <usize>j * bytes + offset, hw = h * w;
     if (pending == 0) {
       w0 = hw;
       p0 = p;
@@ -1133,11 +1135,33 @@ function nodePhases(ph: usize, e: usize, n: i32, tau: f64, h: f64, n0: i32, n1: 
  */
 function rkStages(h: f64, y0: usize, yout: usize): void {
   const n = <usize>(r + 1) * <usize>dm, bytes = <usize>(r + 1) * vec;
+  if (!constantFirst()) {
+    for (let i = 1; i < RK_STAGES; i++) {
+      stageSum(rkZ, y0, n, h, SUM_A, i, i, bytes, 0);
+      interactionRate(coefFine, i, rkZ, rkStage + <usize>i * bytes);
+    }
+    stageSum(yout, y0, n, h, SUM_B, 0, RK_STAGES, bytes, 0);
+    return;
+  }
+  // A stage's rate reads c_0 (constant), c_1…c_{N−1} and the exact state: c_N feeds no order, so its stage
+  // values are never made, and c_0's are the start's.
+  const inner = <usize>max(r - 2, 0) * <usize>dm, exactAt = <usize>r * vec;
+  memory.copy(rkZ, y0, vec);
   for (let i = 1; i < RK_STAGES; i++) {
-    stageSum(rkZ, y0, n, h, SUM_A, i, i, bytes);
+    if (inner > 0) stageSum(rkZ + vec, y0 + vec, inner, h, SUM_A, i, i, bytes, vec);
+    stageSum(rkZ + exactAt, y0 + exactAt, <usize>dm, h, SUM_A, i, i, bytes, exactAt);
     interactionRate(coefFine, i, rkZ, rkStage + <usize>i * bytes);
   }
-  stageSum(yout, y0, n, h, SUM_B, 0, RK_STAGES, bytes);
+  if (yout != y0) memory.copy(yout, y0, vec);
+  stageSum(yout + vec, y0 + vec, n - <usize>dm, h, SUM_B, 0, RK_STAGES, bytes, vec);
+}
+
+/**
+ * Whether c_0 has a zero rate at every stage (so that sums over the stages leave it as it was): always in the
+ * dense interaction picture; with sparse terms, when H0 is diagonal (an off-diagonal part moves c_0).
+ */
+function constantFirst(): bool {
+  return !sparse || !h0OffDiagonal;
 }
 
 /**
@@ -1157,8 +1181,10 @@ export function rkStep(tau: f64, h: f64): i32 {
   rkStages(h, series, series);
   memory.fill(rkE5, 0, bytes);
   memory.fill(rkE3, 0, bytes);
-  stageSum(rkE5, rkE5, n, h, SUM_E5, 0, RK_STAGES, bytes);
-  stageSum(rkE3, rkE3, n, h, SUM_E3, 0, RK_STAGES, bytes);
+  // (c_0's rates are zero where it is constant: its error vectors stay zero)
+  const skip = constantFirst() ? vec : 0, entries = n - (skip >> 4);
+  stageSum(rkE5 + skip, rkE5 + skip, entries, h, SUM_E5, 0, RK_STAGES, bytes, skip);
+  stageSum(rkE3 + skip, rkE3 + skip, entries, h, SUM_E3, 0, RK_STAGES, bytes, skip);
   // Partial sums' errors accumulate order by order; the exact state's is its own.
   for (let v = 1; v < r; v++) {
     axpy(rkE5 + <usize>v * vec, 1.0, rkE5 + <usize>(v - 1) * vec, <usize>dm);
