@@ -379,32 +379,8 @@ function reflectPair(
   memory.fill(p + (<usize>j0 << 4), 0, bytes);
   memory.fill(v + (<usize>j0 << 4), 0, bytes);
   const paired = tl != 0.0, first = paired ? k : k + 1;
-  // P_j = Σ_i conj(v_k,i)·Z_ij (rows k+1..), R_j = Σ_i conj(v_{k−1},i)·Z_ij (rows k..): conj(x)·z = xr·z +
-  // (xi, −xi)⊙swap(z); two rows a pass over the columns (each P_j and R_j read and written once per two rows)
-  let i = first;
-  for (; i + 1 < n; i += 2) {
-    const ca1 = part(a, n, i, k, true, 0), ca2 = part(a, n, i, k, true, 1), da1 = part(a, n, i, k - 1, paired, 0);
-    const da2 = part(a, n, i, k - 1, paired, 1), cb1 = part(a, n, i + 1, k, true, 0);
-    const cb2 = part(a, n, i + 1, k, true, 1), db1 = part(a, n, i + 1, k - 1, paired, 0);
-    const db2 = part(a, n, i + 1, k - 1, paired, 1);
-    for (let j = j0; j < j1; j++) {
-      const za = v128.load(at(z, n, i, j)), zb = v128.load(at(z, n, i + 1, j));
-      const zas = v128.shuffle<f64>(za, za, 1, 0), zbs = v128.shuffle<f64>(zb, zb, 1, 0);
-      const o = p + (<usize>j << 4), u = v + (<usize>j << 4);
-      v128.store(o, madd(cb2, zbs, madd(cb1, zb, madd(ca2, zas, madd(ca1, za, v128.load(o))))));
-      v128.store(u, madd(db2, zbs, madd(db1, zb, madd(da2, zas, madd(da1, za, v128.load(u))))));
-    }
-  }
-  if (i < n) {
-    const c1 = part(a, n, i, k, true, 0), c2 = part(a, n, i, k, true, 1);
-    const d1 = part(a, n, i, k - 1, paired, 0), d2 = part(a, n, i, k - 1, paired, 1);
-    for (let j = j0; j < j1; j++) {
-      const zq = v128.load(at(z, n, i, j)), zs = v128.shuffle<f64>(zq, zq, 1, 0);
-      const o = p + (<usize>j << 4), u = v + (<usize>j << 4);
-      v128.store(o, madd(c2, zs, madd(c1, zq, v128.load(o))));
-      v128.store(u, madd(d2, zs, madd(d1, zq, v128.load(u))));
-    }
-  }
+  // P_j = Σ_i conj(v_k,i)·Z_ij (rows k+1..), R_j = Σ_i conj(v_{k−1},i)·Z_ij (rows k..)
+  for (let i = first; i < n; i += 2) reflectRows(1, a, n, z, p, v, k, paired, i, j0, j1);
   // R_j ← τ_{k−1}·(R_j − τ_k g P_j), P_j ← τ_k P_j (g = v_{k−1}†v_k)
   for (let j = j0; j < j1; j++) {
     const o = p + (<usize>j << 4), u = v + (<usize>j << 4);
@@ -414,38 +390,44 @@ function reflectPair(
     store<f64>(o, tk * pr);
     store<f64>(o, tk * pi, 8);
   }
-  // Z_ij −= v_k,i·P_j + v_{k−1},i·R_j, with x·P = xr·P + (−xi, xi)⊙swap(P); two rows a pass (P_j, R_j and
-  // their swaps loaded once per two rows)
-  i = first;
-  for (; i + 1 < n; i += 2) {
-    const ca1 = part(a, n, i, k, true, 0), ca2 = part(a, n, i, k, true, 2), da1 = part(a, n, i, k - 1, paired, 0);
-    const da2 = part(a, n, i, k - 1, paired, 2), cb1 = part(a, n, i + 1, k, true, 0);
-    const cb2 = part(a, n, i + 1, k, true, 2), db1 = part(a, n, i + 1, k - 1, paired, 0);
-    const db2 = part(a, n, i + 1, k - 1, paired, 2);
-    for (let j = j0; j < j1; j++) {
-      const pj = v128.load(p + (<usize>j << 4)), rj = v128.load(v + (<usize>j << 4));
+  // Z_ij −= v_k,i·P_j + v_{k−1},i·R_j
+  for (let i = first; i < n; i += 2) reflectRows(2, a, n, z, p, v, k, paired, i, j0, j1);
+}
+
+/**
+ * Rows i and i+1 of a pass of {@link reflectPair} over columns j0…j1−1 (each P_j and R_j read and written once
+ * per two rows): pass 1 adds their terms to P_j and R_j (conj(x)·z = xr·z + (xi, −xi)⊙swap(z)), pass 2 takes
+ * them from Z (x·P = xr·P + (−xi, xi)⊙swap(P)). A last row alone (i + 1 = n) goes with a copy of itself with zero
+ * factors, which adds nothing.
+ */
+@inline function reflectRows(
+  pass: i32, a: usize, n: i32, z: usize, p: usize, v: usize, k: i32, paired: bool, i: i32, j0: i32, j1: i32,
+): void {
+  const two = i + 1 < n, b = two ? i + 1 : i;
+  const ca1 = part(a, n, i, k, true, 0), ca2 = part(a, n, i, k, true, pass);
+  const da1 = part(a, n, i, k - 1, paired, 0), da2 = part(a, n, i, k - 1, paired, pass);
+  const cb1 = part(a, n, b, k, two, 0), cb2 = part(a, n, b, k, two, pass);
+  const db1 = part(a, n, b, k - 1, paired && two, 0), db2 = part(a, n, b, k - 1, paired && two, pass);
+  for (let j = j0; j < j1; j++) {
+    const o = p + (<usize>j << 4), u = v + (<usize>j << 4), qa = at(z, n, i, j), qb = at(z, n, b, j);
+    if (pass == 1) {
+      const za = v128.load(qa), zb = v128.load(qb);
+      const zas = v128.shuffle<f64>(za, za, 1, 0), zbs = v128.shuffle<f64>(zb, zb, 1, 0);
+      v128.store(o, madd(cb2, zbs, madd(cb1, zb, madd(ca2, zas, madd(ca1, za, v128.load(o))))));
+      v128.store(u, madd(db2, zbs, madd(db1, zb, madd(da2, zas, madd(da1, za, v128.load(u))))));
+    } else {
+      const pj = v128.load(o), rj = v128.load(u);
       const ps = v128.shuffle<f64>(pj, pj, 1, 0), rs = v128.shuffle<f64>(rj, rj, 1, 0);
-      const qa = at(z, n, i, j), qb = qa + (<usize>n << 4);
       v128.store(qa, nmadd(da2, rs, nmadd(da1, rj, nmadd(ca2, ps, nmadd(ca1, pj, v128.load(qa))))));
       v128.store(qb, nmadd(db2, rs, nmadd(db1, rj, nmadd(cb2, ps, nmadd(cb1, pj, v128.load(qb))))));
-    }
-  }
-  if (i < n) {
-    const c1 = part(a, n, i, k, true, 0), c2 = part(a, n, i, k, true, 2);
-    const d1 = part(a, n, i, k - 1, paired, 0), d2 = part(a, n, i, k - 1, paired, 2);
-    for (let j = j0; j < j1; j++) {
-      const q = at(z, n, i, j), pj = v128.load(p + (<usize>j << 4)), rj = v128.load(v + (<usize>j << 4));
-      let w = nmadd(c1, pj, v128.load(q));
-      w = nmadd(c2, v128.shuffle<f64>(pj, pj, 1, 0), w);
-      w = nmadd(d1, rj, w);
-      v128.store(q, nmadd(d2, v128.shuffle<f64>(rj, rj, 1, 0), w));
     }
   }
 }
 
 /**
  * Lanes made of the reflector entry x at row i of A's column c (which holds the reflector below row c): which 0
- * → (xr, xr), 1 → (xi, −xi), 2 → (−xi, xi); zero at and above row c, and for a reflector not `present`.
+ * → (xr, xr), 1 → (xi, −xi) (conj(x)'s, pass 1), 2 → (−xi, xi) (x's, pass 2); zero at and above row c, and for
+ * a reflector not `present`.
  */
 @inline function part(a: usize, n: i32, i: i32, c: i32, present: bool, which: i32): v128 {
   if (!present || i <= c) return f64x2.splat(0.0);
