@@ -67,6 +67,27 @@ function peakOnce(engine: Engine, iterations = 5_000_000): number {
     (time(() => engine.exports.peakLoop(iterations, 1e-9, 1e-12)) * 1e6);
 }
 
+/** The machine's CPU time so far (all cores, in clock ticks): its total and the part stolen by a hypervisor. */
+function cpuTimes(): { total: number; steal: number } | undefined {
+  try {
+    const fields = Deno.readTextFileSync("/proc/stat").split("\n")[0]!.trim().split(/\s+/).slice(1).map(
+      Number,
+    );
+    // user nice system idle iowait irq softirq steal (guest times are already in user and nice)
+    const total = fields.slice(0, 8).reduce((a, b) => a + b, 0);
+    return { total, steal: fields[7] ?? 0 };
+  } catch {
+    return undefined; // no /proc/stat (not Linux): nothing to say
+  }
+}
+
+/** The share of CPU time stolen since `mark`, as a percentage, or undefined where it cannot be read. */
+function stolenSince(mark: { total: number; steal: number } | undefined): string | undefined {
+  const now = cpuTimes();
+  if (!mark || !now || now.total <= mark.total) return undefined;
+  return `${(100 * (now.steal - mark.steal) / (now.total - mark.total)).toFixed(0)}%`;
+}
+
 function table(rows: string[][]): string {
   const widths = rows[0]!.map((_, c) => Math.max(...rows.map((r) => r[c]!.length)));
   return rows.map((r) => r.map((cell, c) => cell.padEnd(widths[c]!)).join("  ")).join("\n");
@@ -84,18 +105,33 @@ const log = (s: string) => console.error(`bench: ${s}`);
  */
 export async function benchCommand(): Promise<number> {
   const engine = await loadEngine();
-  const rows: Row[] = [
+  const run = cpuTimes();
+  const head: Row[] = [
     ["measurement", "value", "baseline (same run)", "ratio", "target"],
     samplingRow(),
     ...engineRows(engine),
-    ...kernelRows(engine),
+  ];
+  const loop = cpuTimes();
+  const kernels = kernelRows(engine);
+  const loopSteal = stolenSince(loop);
+  const middle: Row[] = [
     ...propagatorRows(engine),
     ...(await sparseRows()),
     await memoryRow(),
     ...await startupRows(log),
-    ...await scipyRows(log),
   ];
-  console.log(table(rows));
+  const comparison = cpuTimes();
+  const scipy = await scipyRows(log);
+  const comparisonSteal = stolenSince(comparison);
+  console.log(table([...head, ...kernels, ...middle, ...scipy]));
+  const whole = stolenSince(run);
+  if (whole !== undefined) {
+    console.log(
+      `\nCPU time taken by the hypervisor (steal, /proc/stat) during this run: ${whole}; during the stepping-loop and ` +
+        `kernel rows: ${loopSteal}; during the SciPy comparison: ${comparisonSteal}. Above a few percent, timings ` +
+        "swing from run to run (a virtual machine sharing its cores).",
+    );
+  }
   console.log(
     "\nbaselines: the mathjs scheme is timed over a few steps (300 for d=2, 4 for d=64) and scaled per step;",
   );
