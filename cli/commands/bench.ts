@@ -67,8 +67,11 @@ function peakOnce(engine: Engine, iterations = 5_000_000): number {
     (time(() => engine.exports.peakLoop(iterations, 1e-9, 1e-12)) * 1e6);
 }
 
-/** The machine's CPU time so far (all cores, in clock ticks): its total and the part stolen by a hypervisor. */
-function cpuTimes(): { total: number; steal: number } | undefined {
+/** CPU time of all cores, in clock ticks: its total and the part stolen by a hypervisor. */
+type CpuTimes = { total: number; steal: number };
+
+/** The machine's CPU time so far, or undefined where /proc/stat cannot be read. */
+function cpuTimes(): CpuTimes | undefined {
   try {
     const fields = Deno.readTextFileSync("/proc/stat").split("\n")[0]!.trim().split(/\s+/).slice(1).map(
       Number,
@@ -82,7 +85,7 @@ function cpuTimes(): { total: number; steal: number } | undefined {
 }
 
 /** The share of CPU time stolen since `mark`, as a percentage, or undefined where it cannot be read. */
-function stolenSince(mark: { total: number; steal: number } | undefined): string | undefined {
+function stolenSince(mark: CpuTimes | undefined): string | undefined {
   const now = cpuTimes();
   if (!mark || !now || now.total <= mark.total) return undefined;
   return `${(100 * (now.steal - mark.steal) / (now.total - mark.total)).toFixed(0)}%`;

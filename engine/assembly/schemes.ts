@@ -1134,26 +1134,21 @@ function nodePhases(ph: usize, e: usize, n: i32, tau: f64, h: f64, n0: i32, n1: 
  * in place, the coefficients of the 12 stage times in the fine buffer and their phases made by stagePhases.
  */
 function rkStages(h: f64, y0: usize, yout: usize): void {
-  const n = <usize>(r + 1) * <usize>dm, bytes = <usize>(r + 1) * vec;
-  if (!constantFirst()) {
-    for (let i = 1; i < RK_STAGES; i++) {
-      stageSum(rkZ, y0, n, h, SUM_A, i, i, bytes, 0);
-      interactionRate(coefFine, i, rkZ, rkStage + <usize>i * bytes);
-    }
-    stageSum(yout, y0, n, h, SUM_B, 0, RK_STAGES, bytes, 0);
-    return;
-  }
-  // A stage's rate reads c_0 (constant), c_1…c_{N−1} and the exact state: c_N feeds no order, so its stage
-  // values are never made, and c_0's are the start's.
-  const inner = <usize>max(r - 2, 0) * <usize>dm, exactAt = <usize>r * vec;
-  memory.copy(rkZ, y0, vec);
+  const n = <usize>(r + 1) * <usize>dm, bytes = <usize>(r + 1) * vec, exactAt = <usize>r * vec;
+  // The stage values a rate reads: the series from c_lo to c_{hi−1}, and the exact state. Where c_0 is constant
+  // its stage values are the start's and c_N feeds no order, so neither is summed (lo = 1, hi = N); otherwise
+  // every vector is.
+  const lean = constantFirst(), lo = lean ? 1 : 0, hi = lean ? r - 1 : r;
+  const from = <usize>lo * vec, orders = <usize>max(hi - lo, 0) * <usize>dm;
+  if (lean) memory.copy(rkZ, y0, vec);
   for (let i = 1; i < RK_STAGES; i++) {
-    if (inner > 0) stageSum(rkZ + vec, y0 + vec, inner, h, SUM_A, i, i, bytes, vec);
+    if (orders > 0) stageSum(rkZ + from, y0 + from, orders, h, SUM_A, i, i, bytes, from);
     stageSum(rkZ + exactAt, y0 + exactAt, <usize>dm, h, SUM_A, i, i, bytes, exactAt);
     interactionRate(coefFine, i, rkZ, rkStage + <usize>i * bytes);
   }
-  if (yout != y0) memory.copy(yout, y0, vec);
-  stageSum(yout + vec, y0 + vec, n - <usize>dm, h, SUM_B, 0, RK_STAGES, bytes, vec);
+  // the step's end: every vector from c_lo on (c_0, where it is constant, copied)
+  if (lean && yout != y0) memory.copy(yout, y0, vec);
+  stageSum(yout + from, y0 + from, n - <usize>lo * <usize>dm, h, SUM_B, 0, RK_STAGES, bytes, from);
 }
 
 /**
