@@ -4,11 +4,11 @@
 // iteration, checked before they are used (when a check fails: the QL
 // rotations, accumulated into a real orthogonal matrix Q kept transposed, each
 // rotation combining two contiguous rows of Qᵀ, two lanes at a time). The
-// reflectors are accumulated backwards (each on its trailing block only), and
-// the eigenvectors are the product of the two at the end, each entry a dot
-// product along contiguous rows of Z and Qᵀ.
-// see: Golub & Van Loan, Matrix Computations, ch. 5.1 (backward accumulation)
-// and ch. 8; the QL iteration is the classic tql2/tqli form.
+// tridiagonal's eigenvectors (rows of Qᵀ), phased, then take the reflectors
+// one after another, four vectors at a time (back-transformation), and Z is
+// their transpose.
+// see: Golub & Van Loan, Matrix Computations, ch. 5.1 (applying Householder
+// matrices) and ch. 8; the QL iteration is the classic tql2/tqli form.
 
 import { madd, nmadd } from "./kernels";
 import { arg, argF, blockSize, runShared, setArg, setArgF, sharing } from "./share";
@@ -34,19 +34,15 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
   const taus = sub + (<usize>n << 4);    // n f64 (reflector factors)
   const pending = taus + (<usize>n << 3); // 2n complex (the reduction's pending update), then 2n complex scratch
   tridiagonalize(a, n, v, p, sub, taus, pending);
-  accumulateReflectors(a, n, z, p, v, taus);
-  // Diagonal, and the phase change D that makes the subdiagonal real: Z ← Z·D.
+  // Z's second half keeps the reflectors (packed) until the end; A's lower triangle is free after that.
+  const packed = z + (<usize>n * n << 3);
+  packReflectors(a, n, packed);
+  // Diagonal, and the phase change D that makes the subdiagonal real (D_i into p).
   let dr = 1.0, di = 0.0;
   for (let i = 0; i < n; i++) {
     store<f64>(w + (<usize>i << 3), re(at(a, n, i, i)));
-    if (i > 0) {
-      for (let r = 0; r < n; r++) {
-        const q = at(z, n, r, i);
-        const zr = re(q), zi = im(q);
-        store<f64>(q, zr * dr - zi * di);
-        store<f64>(q, zr * di + zi * dr, 8);
-      }
-    }
+    store<f64>(p + (<usize>i << 4), dr);
+    store<f64>(p + (<usize>i << 4), di, 8);
     if (i < n - 1) {
       const o = sub + (<usize>i << 4);
       const er = re(o), ei = im(o), m = Math.hypot(er, ei);
@@ -60,8 +56,7 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
   }
   if (n > 0) store<f64>(e + (<usize>(n - 1) << 3), 0.0);
   // A is free now: its first half holds Qᵀ, the tridiagonal's eigenvectors as rows (row-major); its second half
-  // is inverse iteration's scratch, or the QL path's log of sweeps' rotations not yet applied (and, once they all
-  // are, the helper's rows).
+  // is inverse iteration's scratch, or the QL path's log of sweeps' rotations not yet applied.
   const qt = a, log = a + (<usize>n * n << 3);
   inverseUsed = n >= INVERSE_FROM && inverseIteration(w, e, n, qt, log);
   if (!inverseUsed) {
@@ -72,7 +67,11 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
     if (tql(w, e, n, qt, log, n * n) != 0) return 1;
   }
   sortAscending(w, qt, n);
-  multiplyByRotations(z, qt, n, v, log); // v and p: 2n complex, one after the other
+  // The eigenvectors of A are H_0⋯H_{n−3}·D·q_c (q_c row c of Qᵀ): each row of Qᵀ becomes D·q_c in place (complex,
+  // filling all of A), then takes the reflectors, and Z is the transpose.
+  phaseRows(a, n, p);
+  backTransform(a, n, packed, taus);
+  transposeInto(z, a, n);
   return 0;
 }
 
@@ -152,8 +151,7 @@ function lateUpdate(a: usize, n: i32, k: i32, vq: usize, wq: usize, j0: i32, j1:
 
 /** Below this dimension the eigensolver works alone (a shared part would cost more than it saves). */
 const EIGH_SHARE_FROM = 96;
-export const JOB_REFLECT_COLUMNS = 2;
-export const JOB_ROTATE_ROWS = 3;
+export const JOB_REFLECT_VECTORS = 2;
 export const JOB_LOG_ROWS = 4;
 export const JOB_MATVEC_ROWS = 5;
 
@@ -319,207 +317,138 @@ function matvecPairs(
   }
 }
 
-/**
- * Z = H_0·H_1⋯H_{n−3}, accumulated backwards, two reflectors a pass: Z ← H_{k−1}·H_k·Z touches only the trailing
- * block k.. (uses p and v, n complex each). With P = v_k†Z and R = v_{k−1}†Z (one pass over the block),
- * H_{k−1}H_k Z = Z − τ_k v_k P − τ_{k−1} v_{k−1} (R − τ_k (v_{k−1}†v_k) P) (a second pass): half the passes of
- * one reflector at a time.
- */
-function accumulateReflectors(a: usize, n: i32, z: usize, p: usize, v: usize, taus: usize): void {
-  memory.fill(z, 0, <usize>n * n << 4);
-  for (let i = 0; i < n; i++) store<f64>(at(z, n, i, i), 1.0);
-  let k = n - 3;
-  for (; k >= 0; k -= 2) {
-    const tk = load<f64>(taus + (<usize>k << 3));
-    // the lone last reflector (k = 0) pairs with nothing: its partner's factor is 0
-    const tl = k > 0 ? load<f64>(taus + (<usize>(k - 1) << 3)) : 0.0;
-    if (tk == 0.0 && tl == 0.0) continue;
-    // g = v_{k−1}†v_k over rows k+1.. (v_k is zero above)
-    let gr = 0.0, gi = 0.0;
-    if (k > 0) {
-      for (let i = k + 1; i < n; i++) {
-        const x = at(a, n, i, k - 1), y = at(a, n, i, k);
-        gr += re(x) * re(y) + im(x) * im(y);
-        gi += re(x) * im(y) - im(x) * re(y);
+// ---------------------------------------------------------------- back-transformation
+// The eigenvectors of the tridiagonal, D·q_c, take the reflectors one after another (H_{n−3} first), four vectors
+// at a time: the reflector's entries are read once for the four, which stay in cache across all reflectors.
+// Eigenvectors are independent here, so the helper may take some of them with no step in between.
+// see: Golub & Van Loan, Matrix Computations, §5.1.4 (applying Householder matrices), §8.3.1.
+
+/** Entries of the packed reflectors before v_k's (v_j holds n−j−1 entries). */
+@inline function reflectorStart(n: i32, k: i32): usize {
+  return <usize>k * <usize>(n - 1) - ((<usize>k * <usize>(k - 1)) >> 1);
+}
+
+/** v_k (rows k+1… of A's column k), k = 0…n−3, one after another at `packed` (fewer than n²/2 complex). */
+function packReflectors(a: usize, n: i32, packed: usize): void {
+  for (let k = 0; k < n - 2; k++) {
+    const to = packed + (reflectorStart(n, k) << 4);
+    for (let i = k + 1; i < n; i++) v128.store(to + (<usize>(i - k - 1) << 4), v128.load(at(a, n, i, k)));
+  }
+}
+
+/** Row c of Qᵀ (n f64 at the start of a) ← D·q_c (n complex, row c of a), in place: from the last entry back. */
+function phaseRows(a: usize, n: i32, phase: usize): void {
+  for (let c = n - 1; c >= 0; c--) {
+    for (let i = n - 1; i >= 0; i--) {
+      const e = <usize>c * <usize>n + <usize>i; // entry e's complex slot (16e) lies at or after its real one (8e)
+      const q = f64x2.splat(load<f64>(a + (e << 3)));
+      v128.store(a + (e << 4), f64x2.mul(q, v128.load(phase + (<usize>i << 4))));
+    }
+  }
+}
+
+/** dst (n×n complex) = srcᵀ, in tiles of 4 × 4 entries. */
+function transposeInto(dst: usize, src: usize, n: i32): void {
+  const stride = <usize>n << 4;
+  for (let i0 = 0; i0 < n; i0 += 4) {
+    const i1 = min(i0 + 4, n);
+    for (let j0 = 0; j0 < n; j0 += 4) {
+      const j1 = min(j0 + 4, n);
+      for (let i = i0; i < i1; i++) {
+        for (let j = j0; j < j1; j++) v128.store(dst + <usize>j * stride + (<usize>i << 4), v128.load(src + <usize>i * stride + (<usize>j << 4)));
       }
     }
-    const lo = k > 0 ? k : 1; // the first row (and column) the pair touches
-    // the trailing block's columns are independent: the helper may take some of them
-    if (sharing() && n - lo >= EIGH_SHARE_FROM) {
-      setArg(0, <u64>a);
-      setArg(1, <u64>n | (<u64>k << 32));
-      setArg(2, <u64>z);
-      setArg(3, <u64>p | (<u64>v << 32));
-      setArgF(4, tk);
-      setArgF(5, tl);
-      setArgF(6, tk * gr);
-      setArgF(7, tk * gi);
-      runShared(JOB_REFLECT_COLUMNS, lo, n, blockSize(n - lo, 2, 4), reflectColumnsJob);
-    } else {
-      reflectPair(a, n, z, p, v, k, tk, tl, tk * gr, tk * gi, lo, n);
-    }
   }
 }
 
-/** Blocks of {@link accumulateReflectors}. */
-export function reflectColumnsJob(j0: i32, j1: i32): void {
-  const nk = arg(1), pv = arg(3);
-  reflectPair(<usize>arg(0), <i32>(nk & 0xffffffff), <usize>arg(2), <usize>(pv & 0xffffffff), <usize>(pv >> 32),
-    <i32>(nk >> 32), argF(4), argF(5), argF(6), argF(7), j0, j1);
-}
-
-/**
- * Columns j0…j1−1 of Z ← H_{k−1}·H_k·Z over the pair's rows (k.. , or 1.. for H_0 alone with tl = 0): P_j in p,
- * R_j in v for those columns; (tgr, tgi) = τ_k·v_{k−1}†v_k.
- */
-function reflectPair(
-  a: usize, n: i32, z: usize, p: usize, v: usize, k: i32, tk: f64, tl: f64, tgr: f64, tgi: f64, j0: i32, j1: i32,
-): void {
-  const bytes = <usize>(j1 - j0) << 4;
-  memory.fill(p + (<usize>j0 << 4), 0, bytes);
-  memory.fill(v + (<usize>j0 << 4), 0, bytes);
-  const paired = tl != 0.0, first = paired ? k : k + 1;
-  // P_j = Σ_i conj(v_k,i)·Z_ij (rows k+1..), R_j = Σ_i conj(v_{k−1},i)·Z_ij (rows k..)
-  for (let i = first; i < n; i += 2) reflectRows(1, a, n, z, p, v, k, paired, i, j0, j1);
-  // R_j ← τ_{k−1}·(R_j − τ_k g P_j), P_j ← τ_k P_j (g = v_{k−1}†v_k)
-  for (let j = j0; j < j1; j++) {
-    const o = p + (<usize>j << 4), u = v + (<usize>j << 4);
-    const pr = re(o), pi = im(o);
-    store<f64>(u, tl * (re(u) - (tgr * pr - tgi * pi)));
-    store<f64>(u, tl * (im(u) - (tgr * pi + tgi * pr)), 8);
-    store<f64>(o, tk * pr);
-    store<f64>(o, tk * pi, 8);
-  }
-  // Z_ij −= v_k,i·P_j + v_{k−1},i·R_j
-  for (let i = first; i < n; i += 2) reflectRows(2, a, n, z, p, v, k, paired, i, j0, j1);
-}
-
-/**
- * Rows i and i+1 of a pass of {@link reflectPair} over columns j0…j1−1 (each P_j and R_j read and written once
- * per two rows): pass 1 adds their terms to P_j and R_j (conj(x)·z = xr·z + (xi, −xi)⊙swap(z)), pass 2 takes
- * them from Z (x·P = xr·P + (−xi, xi)⊙swap(P)). A last row alone (i + 1 = n) goes with a copy of itself with zero
- * factors, which adds nothing.
- */
-@inline function reflectRows(
-  pass: i32, a: usize, n: i32, z: usize, p: usize, v: usize, k: i32, paired: bool, i: i32, j0: i32, j1: i32,
-): void {
-  const two = i + 1 < n, b = two ? i + 1 : i;
-  const ca1 = part(a, n, i, k, true, 0), ca2 = part(a, n, i, k, true, pass);
-  const da1 = part(a, n, i, k - 1, paired, 0), da2 = part(a, n, i, k - 1, paired, pass);
-  const cb1 = part(a, n, b, k, two, 0), cb2 = part(a, n, b, k, two, pass);
-  const db1 = part(a, n, b, k - 1, paired && two, 0), db2 = part(a, n, b, k - 1, paired && two, pass);
-  for (let j = j0; j < j1; j++) {
-    const o = p + (<usize>j << 4), u = v + (<usize>j << 4), qa = at(z, n, i, j), qb = at(z, n, b, j);
-    if (pass == 1) {
-      const za = v128.load(qa), zb = v128.load(qb);
-      const zas = v128.shuffle<f64>(za, za, 1, 0), zbs = v128.shuffle<f64>(zb, zb, 1, 0);
-      v128.store(o, madd(cb2, zbs, madd(cb1, zb, madd(ca2, zas, madd(ca1, za, v128.load(o))))));
-      v128.store(u, madd(db2, zbs, madd(db1, zb, madd(da2, zas, madd(da1, za, v128.load(u))))));
-    } else {
-      const pj = v128.load(o), rj = v128.load(u);
-      const ps = v128.shuffle<f64>(pj, pj, 1, 0), rs = v128.shuffle<f64>(rj, rj, 1, 0);
-      v128.store(qa, nmadd(da2, rs, nmadd(da1, rj, nmadd(ca2, ps, nmadd(ca1, pj, v128.load(qa))))));
-      v128.store(qb, nmadd(db2, rs, nmadd(db1, rj, nmadd(cb2, ps, nmadd(cb1, pj, v128.load(qb))))));
-    }
-  }
-}
-
-/**
- * Lanes made of the reflector entry x at row i of A's column c (which holds the reflector below row c): which 0
- * → (xr, xr), 1 → (xi, −xi) (conj(x)'s, pass 1), 2 → (−xi, xi) (x's, pass 2); zero at and above row c, and for
- * a reflector not `present`.
- */
-@inline function part(a: usize, n: i32, i: i32, c: i32, present: bool, which: i32): v128 {
-  if (!present || i <= c) return f64x2.splat(0.0);
-  const x = at(a, n, i, c);
-  if (which == 0) return f64x2.splat(re(x));
-  return which == 1 ? f64x2(im(x), -im(x)) : f64x2(-im(x), im(x));
-}
-
-/**
- * Z ← Z·Q with Q real orthogonal, given as Qᵀ (row-major): out_rc = Σ_k Z_rk·Qᵀ_ck, two rows of Z and four
- * columns of Q at a time (eight sums in registers, each entry of Z and Qᵀ read once per block), each pair of rows
- * through a 2n-complex buffer (rows for this thread, helperRows for the helper's blocks).
- */
-function multiplyByRotations(z: usize, qt: usize, n: i32, rows: usize, helperRows: usize): void {
+/** Rows 0…n−1 of zt (n complex each) ← H_0⋯H_{n−3}·row, shared with the helper from {@link EIGH_SHARE_FROM} on. */
+function backTransform(zt: usize, n: i32, packed: usize, taus: usize): void {
   if (sharing() && n >= EIGH_SHARE_FROM) {
-    setArg(0, <u64>z);
-    setArg(1, <u64>qt);
-    setArg(2, <u64>n);
-    setArg(3, <u64>helperRows);
-    setArg(4, <u64>rows);
-    runShared(JOB_ROTATE_ROWS, 0, n, blockSize(n, 2, 2), rotateRowsOwn);
+    setArg(0, <u64>zt);
+    setArg(1, <u64>n);
+    setArg(2, <u64>packed);
+    setArg(3, <u64>taus);
+    runShared(JOB_REFLECT_VECTORS, 0, n, blockSize(n, 8, 4), reflectVectorsJob);
     return;
   }
-  rotateRows(z, qt, n, rows, 0, n);
+  reflectVectors(zt, n, packed, taus, 0, n);
 }
 
-/** The helper's blocks of {@link multiplyByRotations}, through its own row buffer. */
-export function rotateRowsJob(r0: i32, r1: i32): void {
-  rotateRows(<usize>arg(0), <usize>arg(1), <i32>arg(2), <usize>arg(3), r0, r1);
+/** Blocks of {@link backTransform}. */
+export function reflectVectorsJob(c0: i32, c1: i32): void {
+  reflectVectors(<usize>arg(0), <i32>arg(1), <usize>arg(2), <usize>arg(3), c0, c1);
 }
 
-/** The caller's blocks of {@link multiplyByRotations}, through the caller's row buffer. */
-function rotateRowsOwn(r0: i32, r1: i32): void {
-  rotateRows(<usize>arg(0), <usize>arg(1), <i32>arg(2), <usize>arg(4), r0, r1);
+/** Rows c0…c1−1 of zt ← H_0⋯H_{n−3}·row (H_k = I − τ_k v_k v_k†), four rows at a time. */
+function reflectVectors(zt: usize, n: i32, packed: usize, taus: usize, c0: i32, c1: i32): void {
+  const stride = <usize>n << 4;
+  let c = c0;
+  for (; c + 4 <= c1; c += 4) reflectFour(zt + <usize>c * stride, stride, n, packed, taus);
+  for (; c < c1; c++) reflectOne(zt + <usize>c * stride, n, packed, taus);
 }
 
-/** Rows r0…r1−1 of Z ← Z·Q (Qᵀ at qt), through buf (2n complex). */
-function rotateRows(z: usize, qt: usize, n: i32, buf: usize, r0: i32, r1: i32): void {
-  const zs = <usize>n << 4, qs = <usize>n << 3;
-  const zero = f64x2.splat(0.0);
-  let r = r0;
-  for (; r + 2 <= r1; r += 2) {
-    const za = z + <usize>r * zs, zb = za + zs;
-    let c = 0;
-    for (; c + 4 <= n; c += 4) {
-      const q0 = qt + <usize>c * qs, q1 = q0 + qs, q2 = q1 + qs, q3 = q2 + qs;
-      let a0 = zero, a1 = zero, a2 = zero, a3 = zero, b0 = zero, b1 = zero, b2 = zero, b3 = zero;
-      for (let k = 0; k < n; k++) {
-        const xa = v128.load(za + (<usize>k << 4)), xb = v128.load(zb + (<usize>k << 4)), o = <usize>k << 3;
-        const s0 = v128.load64_splat(q0 + o), s1 = v128.load64_splat(q1 + o);
-        const s2 = v128.load64_splat(q2 + o), s3 = v128.load64_splat(q3 + o);
-        a0 = madd(xa, s0, a0);
-        b0 = madd(xb, s0, b0);
-        a1 = madd(xa, s1, a1);
-        b1 = madd(xb, s1, b1);
-        a2 = madd(xa, s2, a2);
-        b2 = madd(xb, s2, b2);
-        a3 = madd(xa, s3, a3);
-        b3 = madd(xb, s3, b3);
-      }
-      const oa = buf + (<usize>c << 4), ob = oa + zs;
-      v128.store(oa, a0);
-      v128.store(oa, a1, 16);
-      v128.store(oa, a2, 32);
-      v128.store(oa, a3, 48);
-      v128.store(ob, b0);
-      v128.store(ob, b1, 16);
-      v128.store(ob, b2, 32);
-      v128.store(ob, b3, 48);
+/**
+ * Four rows (row0, then `stride` apart) ← H_k·rows for k = n−3 down to 0: with w = v_k†z (Σ conj(v)·z = a +
+ * (b_im, −b_re) with a = Σ vr·z, b = Σ vi·z) and u = τ_k·w, z −= v_k·u (v·u = vr·u + vi·(−ui, ur)).
+ */
+function reflectFour(row0: usize, stride: usize, n: i32, packed: usize, taus: usize): void {
+  const flip = f64x2(1.0, -1.0), turn = f64x2(-1.0, 1.0);
+  const row1 = row0 + stride, row2 = row1 + stride, row3 = row2 + stride;
+  for (let k = n - 3; k >= 0; k--) {
+    const tau = load<f64>(taus + (<usize>k << 3));
+    if (tau == 0.0) continue;
+    const v = packed + (reflectorStart(n, k) << 4), first = <usize>(k + 1) << 4, end = <usize>(n - k - 1) << 4;
+    let a0 = f64x2.splat(0), b0 = f64x2.splat(0), a1 = f64x2.splat(0), b1 = f64x2.splat(0);
+    let a2 = f64x2.splat(0), b2 = f64x2.splat(0), a3 = f64x2.splat(0), b3 = f64x2.splat(0);
+    for (let o: usize = 0; o < end; o += 16) {
+      const vr = v128.load64_splat(v + o), vi = v128.load64_splat(v + o, 8), off = first + o;
+      const z0 = v128.load(row0 + off), z1 = v128.load(row1 + off), z2 = v128.load(row2 + off), z3 = v128.load(row3 + off);
+      a0 = madd(vr, z0, a0);
+      b0 = madd(vi, z0, b0);
+      a1 = madd(vr, z1, a1);
+      b1 = madd(vi, z1, b1);
+      a2 = madd(vr, z2, a2);
+      b2 = madd(vi, z2, b2);
+      a3 = madd(vr, z3, a3);
+      b3 = madd(vi, z3, b3);
     }
-    for (; c < n; c++) {
-      const q0 = qt + <usize>c * qs;
-      let a0 = zero, b0 = zero;
-      for (let k = 0; k < n; k++) {
-        const s0 = v128.load64_splat(q0 + (<usize>k << 3));
-        a0 = madd(v128.load(za + (<usize>k << 4)), s0, a0);
-        b0 = madd(v128.load(zb + (<usize>k << 4)), s0, b0);
-      }
-      v128.store(buf + (<usize>c << 4), a0);
-      v128.store(buf + zs + (<usize>c << 4), b0);
+    // w = a + (b_im, −b_re)
+    const t = f64x2.splat(tau);
+    const u0 = f64x2.mul(t, madd(v128.shuffle<f64>(b0, b0, 1, 0), flip, a0));
+    const u1 = f64x2.mul(t, madd(v128.shuffle<f64>(b1, b1, 1, 0), flip, a1));
+    const u2 = f64x2.mul(t, madd(v128.shuffle<f64>(b2, b2, 1, 0), flip, a2));
+    const u3 = f64x2.mul(t, madd(v128.shuffle<f64>(b3, b3, 1, 0), flip, a3));
+    const s0 = f64x2.mul(v128.shuffle<f64>(u0, u0, 1, 0), turn), s1 = f64x2.mul(v128.shuffle<f64>(u1, u1, 1, 0), turn);
+    const s2 = f64x2.mul(v128.shuffle<f64>(u2, u2, 1, 0), turn), s3 = f64x2.mul(v128.shuffle<f64>(u3, u3, 1, 0), turn);
+    for (let o: usize = 0; o < end; o += 16) {
+      const vr = v128.load64_splat(v + o), vi = v128.load64_splat(v + o, 8), off = first + o;
+      v128.store(row0 + off, nmadd(vi, s0, nmadd(vr, u0, v128.load(row0 + off))));
+      v128.store(row1 + off, nmadd(vi, s1, nmadd(vr, u1, v128.load(row1 + off))));
+      v128.store(row2 + off, nmadd(vi, s2, nmadd(vr, u2, v128.load(row2 + off))));
+      v128.store(row3 + off, nmadd(vi, s3, nmadd(vr, u3, v128.load(row3 + off))));
     }
-    memory.copy(za, buf, zs << 1); // the two rows are contiguous in Z and in buf
   }
-  for (; r < r1; r++) {
-    const za = z + <usize>r * zs;
-    for (let c = 0; c < n; c++) {
-      const q0 = qt + <usize>c * qs;
-      let a0 = zero;
-      for (let k = 0; k < n; k++) a0 = madd(v128.load(za + (<usize>k << 4)), v128.load64_splat(q0 + (<usize>k << 3)), a0);
-      v128.store(buf + (<usize>c << 4), a0);
+}
+
+/** One row ← H_k·row for k = n−3 down to 0 (as {@link reflectFour}). */
+function reflectOne(row: usize, n: i32, packed: usize, taus: usize): void {
+  const flip = f64x2(1.0, -1.0), turn = f64x2(-1.0, 1.0);
+  for (let k = n - 3; k >= 0; k--) {
+    const tau = load<f64>(taus + (<usize>k << 3));
+    if (tau == 0.0) continue;
+    const v = packed + (reflectorStart(n, k) << 4), first = <usize>(k + 1) << 4, end = <usize>(n - k - 1) << 4;
+    let a0 = f64x2.splat(0), b0 = f64x2.splat(0);
+    for (let o: usize = 0; o < end; o += 16) {
+      const z = v128.load(row + first + o);
+      a0 = madd(v128.load64_splat(v + o), z, a0);
+      b0 = madd(v128.load64_splat(v + o, 8), z, b0);
     }
-    memory.copy(za, buf, zs);
+    const u = f64x2.mul(f64x2.splat(tau), madd(v128.shuffle<f64>(b0, b0, 1, 0), flip, a0));
+    const s = f64x2.mul(v128.shuffle<f64>(u, u, 1, 0), turn);
+    for (let o: usize = 0; o < end; o += 16) {
+      const q = row + first + o;
+      v128.store(q, nmadd(v128.load64_splat(v + o, 8), s, nmadd(v128.load64_splat(v + o), u, v128.load(q))));
+    }
   }
 }
 
@@ -603,6 +532,15 @@ function logRows(qt: usize, n: i32, log: usize, used: i32, j0: i32, j1: i32): vo
   }
 }
 
+/**
+ * √(x² + y²): directly where neither square can overflow or lose the result to underflow (within an ulp or two of
+ * Math.hypot, several times faster), else Math.hypot's scaled form.
+ */
+@inline function radius(x: f64, y: f64): f64 {
+  const big = max(Math.abs(x), Math.abs(y));
+  return big < 1e150 && big > 1e-150 ? Math.sqrt(x * x + y * y) : Math.hypot(x, y);
+}
+
 // Implicit QL with Wilkinson-type shifts on the real symmetric tridiagonal
 // (d, e), e[i] coupling i and i+1; each sweep's rotations go to the log (room for `capacity` f64), applied to Q
 // when it is full and at the end. With q = 0, eigenvalues only (no log, no Q).
@@ -624,7 +562,7 @@ function tql(d: usize, e: usize, n: i32, q: usize, log: usize, capacity: i32): i
       if (m != l) {
         if (iter++ == 60) return 1;
         let g = (dget(d, l + 1) - dget(d, l)) / (2.0 * dget(e, l));
-        let r = Math.hypot(g, 1.0);
+        let r = radius(g, 1.0);
         g = dget(d, m) - dget(d, l) + dget(e, l) / (g + (g >= 0 ? Math.abs(r) : -Math.abs(r)));
         let s = 1.0, c = 1.0, p = 0.0;
         if (q != 0 && used + 2 + 2 * (m - l) > capacity) {
@@ -635,7 +573,7 @@ function tql(d: usize, e: usize, n: i32, q: usize, log: usize, capacity: i32): i
         let i = m - 1;
         for (; i >= l; i--) {
           const f = s * dget(e, i), b = c * dget(e, i);
-          r = Math.hypot(f, g);
+          r = radius(f, g);
           dset(e, i + 1, r);
           if (r == 0.0) {
             dset(d, i + 1, dget(d, i + 1) - p);

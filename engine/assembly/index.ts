@@ -59,12 +59,10 @@ import { JOB_STAGE_PHASES, stagePhasesJob } from "./schemes";
 import {
   JOB_LOG_ROWS,
   JOB_MATVEC_ROWS,
-  JOB_REFLECT_COLUMNS,
-  JOB_ROTATE_ROWS,
+  JOB_REFLECT_VECTORS,
   logRowsJob,
   matvecRowsJob,
-  reflectColumnsJob,
-  rotateRowsJob,
+  reflectVectorsJob,
 } from "./eigh";
 export { helperBlocks, helperFailed, stopHelper, useHelper } from "./share";
 
@@ -76,8 +74,7 @@ export function helperLoop(): void {
     for (let s = claim(job); s >= 0; s = claim(job)) {
       const kind = jobKind(), e = blockEnd(s);
       if (kind == JOB_PACKED_ROWS) packedRowsJob(s, e);
-      else if (kind == JOB_REFLECT_COLUMNS) reflectColumnsJob(s, e);
-      else if (kind == JOB_ROTATE_ROWS) rotateRowsJob(s, e);
+      else if (kind == JOB_REFLECT_VECTORS) reflectVectorsJob(s, e);
       else if (kind == JOB_LOG_ROWS) logRowsJob(s, e);
       else if (kind == JOB_MATVEC_ROWS) matvecRowsJob(s, e);
       else if (kind == JOB_STAGE_PHASES) stagePhasesJob(s, e);
