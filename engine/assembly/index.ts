@@ -55,7 +55,7 @@ export {
 // ------------------------------------------------------------------ the helper thread's loop
 import { awaitJob, blockDone, blockEnd, claim, countHelperBlock, currentJob, jobKind, join } from "./share";
 import { JOB_PACKED_ROWS, packedRowsJob } from "./kernels";
-import { JOB_STAGE_PHASES, stagePhasesJob } from "./schemes";
+import { JOB_ORDERS, JOB_STAGE_PHASES, ordersJob, stagePhasesJob } from "./schemes";
 import {
   JOB_LOG_ROWS,
   JOB_MATVEC_ROWS,
@@ -78,6 +78,7 @@ export function helperLoop(): void {
       else if (kind == JOB_LOG_ROWS) logRowsJob(s, e);
       else if (kind == JOB_MATVEC_ROWS) matvecRowsJob(s, e);
       else if (kind == JOB_STAGE_PHASES) stagePhasesJob(s, e);
+      else if (kind == JOB_ORDERS) ordersJob(s, e);
       countHelperBlock();
       blockDone(); // last: the caller may post the next job once every block is done
     }

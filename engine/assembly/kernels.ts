@@ -264,6 +264,50 @@ export function packedScratchBytes(d: i32, r: i32): usize {
   }
 }
 
+// One pass over A for two pairs of vectors starting at pair p, two rows at a time (each packed load serves both
+// rows: eight sums in flight, three µ-ops a complex multiply-add); a last odd row goes alone (pairs2).
+@inline function pairs2Rows(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32, single: bool, ph: usize): void {
+  const stride = <usize>d << 4;
+  const off = <usize>p << 4;
+  let i = i0;
+  for (; i + 2 <= i1; i += 2) {
+    const row = a + <usize>i * stride, next = row + stride;
+    let r0 = f64x2.splat(0), i0 = f64x2.splat(0), r1 = f64x2.splat(0), i1 = f64x2.splat(0);
+    let s0 = f64x2.splat(0), t0 = f64x2.splat(0), s1 = f64x2.splat(0), t1 = f64x2.splat(0);
+    let base = xp + off;
+    for (let j = 0; j < d; j++) {
+      const o = <usize>j << 4, m = row + o, n = next + o;
+      const mr = v128.load64_splat(m), mi = v128.load64_splat(m, 8);
+      const nr = v128.load64_splat(n), ni = v128.load64_splat(n, 8);
+      const q = base + half;
+      const x0 = v128.load(base), y0 = v128.load(q);
+      const x1 = v128.load(base, 16);
+      const y1 = single ? x1 : v128.load(q, 16);
+      r0 = nmadd(mi, y0, madd(mr, x0, r0));
+      i0 = madd(mi, x0, madd(mr, y0, i0));
+      s0 = nmadd(ni, y0, madd(nr, x0, s0));
+      t0 = madd(ni, x0, madd(nr, y0, t0));
+      r1 = lastRe(single, mr, mi, x1, y1, r1);
+      i1 = lastIm(single, mr, mi, x1, y1, i1);
+      s1 = lastRe(single, nr, ni, x1, y1, s1);
+      t1 = lastIm(single, nr, ni, x1, y1, t1);
+      base += per;
+    }
+    const yo = y + (<usize>i << 4), yn = yo + 16;
+    const phRow: usize = ph == 0 ? 0 : ph + (<usize>i << 4), phNext: usize = ph == 0 ? 0 : phRow + 16;
+    finishPair(r0, i0, yo, 2 * p, r, stride, ar, ai, phRow);
+    finishPair(s0, t0, yn, 2 * p, r, stride, ar, ai, phNext);
+    if (single) {
+      finishSingle(r1, i1, yo, 2 * p + 2, stride, ar, ai, phRow);
+      finishSingle(s1, t1, yn, 2 * p + 2, stride, ar, ai, phNext);
+    } else {
+      finishPair(r1, i1, yo, 2 * p + 2, r, stride, ar, ai, phRow);
+      finishPair(s1, t1, yn, 2 * p + 2, r, stride, ar, ai, phNext);
+    }
+  }
+  if (i < i1) pairs2(a, d, xp, per, half, p, y, r, ar, ai, i, i1, single, ph);
+}
+
 // One pass over A for one pair of vectors starting at pair p.
 @inline function pairs1(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32, single: bool, ph: usize): void {
   const stride = <usize>d << 4;
@@ -314,20 +358,7 @@ export function zgemvPacked(a: usize, d: i32, x: usize, y: usize, r: i32, ar: f6
 function packedUpTo(
   a: usize, d: i32, x: usize, y: usize, r: i32, ar: f64, ai: f64, scratch: usize, rows: i32, ph: usize,
 ): void {
-  const rp = (r + 1) & ~1, pairs = rp >> 1;
-  const per = <usize>rp << 4, half = <usize>rp << 3;
-  const stride = <usize>d << 4;
-  const even = r & ~1;
-  for (let j = 0; j < d; j++) {
-    const row = scratch + <usize>j * per;
-    for (let v = 0; v < even; v++) {
-      const q = x + <usize>v * stride + (<usize>j << 4);
-      store<f64>(row + (<usize>v << 3), load<f64>(q));
-      store<f64>(row + half + (<usize>v << 3), load<f64>(q, 8));
-    }
-    // an odd count's last vector alone, as (re, im) in its pair's real slot
-    if (even < r) v128.store(row + (<usize>even << 3), v128.load(x + <usize>even * stride + (<usize>j << 4)));
-  }
+  packRows(x, d, r, scratch, 0, d);
   if (sharing() && <i64>d * <i64>d * <i64>r >= SHARE_FROM) {
     // rows in blocks, claimed by this thread and the helper
     setArg(0, <u64>a);
@@ -346,11 +377,29 @@ function packedUpTo(
   packedRows(a, d, scratch, y, r, ar, ai, 0, rows, ph);
 }
 
+/** Entries j0…j1−1 of X (r d-vectors at x) into the packed layout at xp (see {@link zgemvPacked}). */
+export function packRows(x: usize, d: i32, r: i32, xp: usize, j0: i32, j1: i32): void {
+  const rp = (r + 1) & ~1;
+  const per = <usize>rp << 4, half = <usize>rp << 3;
+  const stride = <usize>d << 4;
+  const even = r & ~1;
+  for (let j = j0; j < j1; j++) {
+    const row = xp + <usize>j * per;
+    for (let v = 0; v < even; v++) {
+      const q = x + <usize>v * stride + (<usize>j << 4);
+      store<f64>(row + (<usize>v << 3), load<f64>(q));
+      store<f64>(row + half + (<usize>v << 3), load<f64>(q, 8));
+    }
+    // an odd count's last vector alone, as (re, im) in its pair's real slot
+    if (even < r) v128.store(row + (<usize>even << 3), v128.load(x + <usize>even * stride + (<usize>j << 4)));
+  }
+}
+
 /**
  * Rows i0…i1−1 of Y += α·A·X with X already packed at xp (see {@link zgemvPacked}); with phases ph ≠ 0, of the
  * rate form Y = −i·e^{iEτ}∘(α·A·X) instead (see {@link zgemvRate}).
  */
-function packedRows(a: usize, d: i32, xp: usize, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32, ph: usize): void {
+export function packedRows(a: usize, d: i32, xp: usize, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32, ph: usize): void {
   const rp = (r + 1) & ~1, pairs = rp >> 1, odd = (r & 1) != 0;
   const per = <usize>rp << 4, half = <usize>rp << 3;
   let p = 0;
@@ -361,8 +410,8 @@ function packedRows(a: usize, d: i32, xp: usize, y: usize, r: i32, ar: f64, ai: 
     else pairs4(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, false, ph);
   }
   if (p + 2 <= pairs) {
-    if (odd && p + 2 == pairs) pairs2(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, true, ph);
-    else pairs2(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, false, ph);
+    if (odd && p + 2 == pairs) pairs2Rows(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, true, ph);
+    else pairs2Rows(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, false, ph);
     p += 2;
   }
   if (p < pairs) {

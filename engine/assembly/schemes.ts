@@ -9,10 +9,19 @@
 // see: Van Loan, IEEE TAC 23 (1978).
 
 import { arenaAlloc, arenaReset } from "./arena";
-import { packedScratchBytes, setKernelScratch, zcsrmv, zgemv, zgemvRate, zgemvUpTo } from "./kernels";
+import {
+  packedRows,
+  packedScratchBytes,
+  packRows,
+  setKernelScratch,
+  zcsrmv,
+  zgemv,
+  zgemvRate,
+  zgemvUpTo,
+} from "./kernels";
 import { eigh, EIGH_WORK_BYTES_PER_LEVEL } from "./eigh";
 import { phaseRow } from "./trig";
-import { arg, argF, runShared, setArg, setArgF, sharing } from "./share";
+import { arg, argF, blockDone, claim, post, runShared, setArg, setArgF, sharing, waitAll } from "./share";
 
 // 4th-order commutator-free exponential integrator (two exponentials).
 // see: Blanes & Moan, Appl. Numer. Math. 56 (2006); Alvermann & Fehske, J. Comput. Phys. 230 (2011).
@@ -178,6 +187,12 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32, c
   rkE5 = arenaAlloc(<usize>(r + 1) * vec);
   rkE3 = arenaAlloc(<usize>(r + 1) * vec);
   rkPh = arenaAlloc(<usize>RK_STAGES * (<usize>d << 4));
+  // the two halves of the series' stages (splitOrders): their packed values, the first half's products, the
+  // parameters
+  rkXa = arenaAlloc(packedScratchBytes(d, r * m));
+  rkXb = arenaAlloc(packedScratchBytes(d, r * m));
+  rkTmp = arenaAlloc(<usize>(r + 1) * vec);
+  rkJob = arenaAlloc(<usize>ORDERS_WORDS << 3);
   startRateValid = false;
   csrTable = arenaAlloc(<usize>max(<i32>kt, 1) * 48);
   sparseCoefs = arenaAlloc(<usize>max(<i32>kt, 1) << 4);
@@ -187,7 +202,7 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32, c
   setKernelScratch(kernelScratch, kernelScratch == 0 ? 0 : scratchBytes);
   adaptive = false;
   tiny = TINY;
-  return coefCoarse == 0 || work == 0 || rkE3 == 0 || rkPh == 0 ? ERR_MEMORY : ERR_OK;
+  return coefCoarse == 0 || work == 0 || rkE3 == 0 || rkPh == 0 || rkJob == 0 ? ERR_MEMORY : ERR_OK;
 }
 
 /** Buffer addresses for TypeScript. */
@@ -898,6 +913,10 @@ let rkP: usize = 0;
 let rkE5: usize = 0;
 let rkE3: usize = 0;
 let rkPh: usize = 0; // the stage times' phases (stagePhases)
+let rkXa: usize = 0; // the halves' packed stage values (orderStages)
+let rkXb: usize = 0;
+let rkTmp: usize = 0; // the first half's products, before they go to their places
+let rkJob: usize = 0; // the halves' parameters (ORDERS_WORDS words)
 // Stage 0 (the derivative at the step's start) is kept across a rejection and for recorded times inside a step.
 let startRateValid = false;
 
@@ -940,15 +959,20 @@ function interactionRate(buf: usize, node: i32, z: usize, kout: usize): void {
 
 /** dst = scale·e^{−iEτ}∘src for `blocks` d-vectors one after another, with ph = e^{iEτ}: scale·conj(p)·x. */
 function toInteraction(dst: usize, src: usize, blocks: i32, ph: usize, scale: f64): void {
-  const flip = f64x2(scale, -scale), s = f64x2.splat(scale);
   for (let b = 0; b < blocks; b++) {
-    const from = src + ((<usize>b * <usize>d) << 4), to = dst + ((<usize>b * <usize>d) << 4);
-    for (let a = 0; a < d; a++) {
-      const o = <usize>a << 4, x = v128.load(from + o), q = v128.load(ph + o);
-      // (pr·xr + pi·xi, pr·xi − pi·xr) = pr·(xr, xi) + (pi, −pi)·(xi, xr), times the scale
-      const pr = f64x2.mul(v128.shuffle<f64>(q, q, 0, 0), s), pi = f64x2.mul(v128.shuffle<f64>(q, q, 1, 1), flip);
-      v128.store(to + o, f64x2.add(f64x2.mul(pr, x), f64x2.mul(pi, v128.shuffle<f64>(x, x, 1, 0))));
-    }
+    const at = (<usize>b * <usize>d) << 4;
+    phaseIn(dst + at, src + at, d, ph, scale);
+  }
+}
+
+/** dst = scale·conj(p)∘src for n entries, with the phases p at ph. */
+function phaseIn(dst: usize, src: usize, n: i32, ph: usize, scale: f64): void {
+  const flip = f64x2(scale, -scale), s = f64x2.splat(scale);
+  for (let a = 0; a < n; a++) {
+    const o = <usize>a << 4, x = v128.load(src + o), q = v128.load(ph + o);
+    // (pr·xr + pi·xi, pr·xi − pi·xr) = pr·(xr, xi) + (pi, −pi)·(xi, xr), times the scale
+    const pr = f64x2.mul(v128.shuffle<f64>(q, q, 0, 0), s), pi = f64x2.mul(v128.shuffle<f64>(q, q, 1, 1), flip);
+    v128.store(dst + o, f64x2.add(f64x2.mul(pr, x), f64x2.mul(pi, v128.shuffle<f64>(x, x, 1, 0))));
   }
 }
 
@@ -1037,13 +1061,14 @@ const SUM_E3: i32 = 3;
  */
 function stageSum(
   dst: usize, from: usize, n: usize, h: f64, kind: i32, i: i32, count: i32, bytes: usize, offset: usize,
+  stages: usize = rkStage,
 ): void {
   let src = from, pending = 0;
   let w0 = 0.0, w1 = 0.0, w2 = 0.0, p0: usize = 0, p1: usize = 0, p2: usize = 0;
   for (let j = 0; j < count; j++) {
     const w = sumWeight(kind, i, j);
     if (w == 0) continue;
-    const p = rkStage + <usize>j * bytes + offset, hw = h * w;
+    const p = stages + <usize>j * bytes + offset, hw = h * w;
     if (pending == 0) {
       w0 = hw;
       p0 = p;
@@ -1151,6 +1176,188 @@ function rkStages(h: f64, y0: usize, yout: usize): void {
   stageSum(yout + from, y0 + from, n - <usize>lo * <usize>dm, h, SUM_B, 0, RK_STAGES, bytes, from);
 }
 
+// ------------------------------------------- the stages in two halves of the series (dense, one coupling term)
+// The stacked rate splits by orders: order n's rate reads only order n−1's stage values, and the exact state's only
+// its own. The first half (the exact state and the rates of orders 1…g, from c_0…c_{g−1}) runs on the caller;
+// the second (orders g+1…N, from c_g…c_{N−1}) is one job a helper may take. The second half's only input from
+// the first is order g's rate, stage by stage: the first half publishes how many stages it has done, and the
+// second waits for stage i−1 before its stage i (the first never waits for the second). Each half is a product
+// of about half the vectors with the whole coupling, so the helper takes part in every stage with one
+// barrier a step, where rows of each product shared between threads cost a barrier a stage and every stage's
+// values crossing between the processors' caches. Without a helper the caller does both halves in turn, with the
+// same arithmetic: results do not depend on whether a helper took part.
+
+/** Levels from which the series' stages are split in two (the dense runs a helper takes part in). */
+const SPLIT_FROM: i32 = 64;
+
+/** Whether the Runge–Kutta stages go in two halves: dense, one coupling term, from SPLIT_FROM levels. */
+function splitOrders(): bool {
+  return !sparse && kv == 1 && d >= SPLIT_FROM && r >= 2;
+}
+
+const ORDERS_WORDS = 22;
+const O_D = 0;
+const O_M = 1;
+const O_R = 2;
+const O_G = 3; // the first half's orders: rates of orders 1…g (and the exact state's)
+const O_STAGES = 4;
+const O_Y0 = 5;
+const O_Z = 6;
+const O_UA = 7; // each half's interaction-picture stage values and their packed form
+const O_UB = 8;
+const O_XA = 9;
+const O_XB = 10;
+const O_TMP = 11;
+const O_PH = 12;
+const O_OP = 13;
+const O_COEFS = 14; // the fine buffer's coefficients of the coupling at node 0, and the bytes between nodes
+const O_NODE = 15;
+const O_H = 16;
+const O_LAMBDA = 17;
+const O_FIRST = 18; // the first stage whose rate is made (0, or 1 with stage 0 in place)
+const O_DONE = 19; // stages the first half has done (i64, atomic)
+const O_NEXT = 20; // the second half's next stage to take, and its stages done (i64, atomic)
+const O_TAKEN = 21;
+
+export const JOB_ORDERS = 8;
+
+@inline function oset(k: i32, x: u64): void { store<u64>(rkJob + (<usize>k << 3), x); }
+@inline function oget(p: usize, k: i32): u64 { return load<u64>(p + (<usize>k << 3)); }
+
+/** The helper's side of {@link orderStages}: the second half (the parameters' address in argument slot 0). */
+export function ordersJob(i0: i32, i1: i32): void {
+  secondHalf(<usize>arg(0), false);
+}
+
+/**
+ * The second half's stages, each taken first (a stage is taken only once the one before it is done): the
+ * helper takes them in turn until one is gone (the caller took over: the helper is no longer needed); the caller
+ * (`caller`), its own half done, takes whatever is left, waiting only for a stage the helper holds.
+ */
+function secondHalf(p: usize, caller: bool): void {
+  const next = p + (O_NEXT << 3), taken = p + (O_TAKEN << 3);
+  let spins = 0;
+  for (;;) {
+    const done = atomic.load<i64>(taken);
+    if (done >= <i64>RK_STAGES) return;
+    if (atomic.load<i64>(next) == done && atomic.cmpxchg<i64>(next, done, done + 1) == done) {
+      stageOfHalf(p, 1, <i32>done);
+      atomic.store<i64>(taken, done + 1);
+      spins = 0;
+    } else if (!caller) {
+      return; // the caller has taken the next stage
+    } else if (++spins > 100000) {
+      atomic.wait<i64>(taken, done, 100000); // the helper holds a stage: a short sleep, then look again
+    }
+  }
+}
+
+/**
+ * The stages of one Runge–Kutta step of h in two halves of the series (see {@link splitOrders}), then the step's
+ * end yout = y0 + h Σ b_j k_j; stage 0 (the derivative at y0) made first where `makeStart`, else in place.
+ */
+function orderStages(h: f64, y0: usize, yout: usize, makeStart: bool): void {
+  const n = <usize>(r + 1) * <usize>dm, bytes = <usize>(r + 1) * vec;
+  // the first half: the exact state and about half the orders (the larger share: the caller never waits)
+  const g = (r + 1) / 2 - 1;
+  oset(O_D, <u64>d);
+  oset(O_M, <u64>m);
+  oset(O_R, <u64>r);
+  oset(O_G, <u64>g);
+  oset(O_STAGES, <u64>rkStage);
+  oset(O_Y0, <u64>y0);
+  oset(O_Z, <u64>rkZ);
+  oset(O_UA, <u64>rkU);
+  oset(O_UB, <u64>rkP);
+  oset(O_XA, <u64>rkXa);
+  oset(O_XB, <u64>rkXb);
+  oset(O_TMP, <u64>rkTmp);
+  oset(O_PH, <u64>rkPh);
+  oset(O_OP, <u64>vTerms);
+  oset(O_COEFS, <u64>(coefFine + (<usize>k0 << 4)));
+  oset(O_NODE, <u64>(<usize>(k0 + kv) << 4));
+  store<f64>(rkJob + (O_H << 3), h);
+  store<f64>(rkJob + (O_LAMBDA << 3), lambda);
+  const first = makeStart ? 0 : 1;
+  oset(O_FIRST, <u64>first);
+  atomic.store<i64>(rkJob + (O_DONE << 3), first);
+  atomic.store<i64>(rkJob + (O_NEXT << 3), first);
+  atomic.store<i64>(rkJob + (O_TAKEN << 3), first);
+  kernelFlops += 8.0 * <f64>d * <f64>d * <f64>(r * m) * <f64>(RK_STAGES - first);
+  if (sharing()) {
+    setArg(0, <u64>rkJob);
+    const job = post(JOB_ORDERS, 0, 1, 1);
+    for (let s = first; s < RK_STAGES; s++) stageOfHalf(rkJob, 0, s);
+    // the second half's stages the helper has not taken (all of them when it never came)
+    if (claim(job) >= 0) blockDone();
+    secondHalf(rkJob, true);
+    waitAll(job); // the helper has left the job (it reads the parameters until then)
+  } else {
+    for (let s = first; s < RK_STAGES; s++) stageOfHalf(rkJob, 0, s);
+    for (let s = first; s < RK_STAGES; s++) stageOfHalf(rkJob, 1, s);
+  }
+  // the step's end: c_1…c_N and the exact state (c_0 is constant: copied where the end is not the start)
+  if (yout != y0) memory.copy(yout, y0, vec);
+  stageSum(yout + vec, y0 + vec, n - <usize>dm, h, SUM_B, 0, RK_STAGES, bytes, vec);
+}
+
+/**
+ * Stage s of one half of {@link orderStages} (part 0: the exact state's rate and orders 1…g, from c_0…c_{g−1};
+ * part 1: orders g+1…N, from c_g…c_{N−1}), from the parameters at p only (the helper's instance has its own
+ * globals).
+ */
+function stageOfHalf(p: usize, part: i32, s: i32): void {
+  const n = <i32>oget(p, O_D), mm = <i32>oget(p, O_M), rr = <i32>oget(p, O_R), g = <i32>oget(p, O_G);
+  const column = <usize>n << 4, v = <usize>mm * column, bytes = <usize>(rr + 1) * v;
+  const stages = <usize>oget(p, O_STAGES), y0 = <usize>oget(p, O_Y0), z = <usize>oget(p, O_Z);
+  const u = <usize>oget(p, part == 0 ? O_UA : O_UB), xp = <usize>oget(p, part == 0 ? O_XA : O_XB);
+  const ph = <usize>oget(p, O_PH), op = <usize>oget(p, O_OP), tmp = <usize>oget(p, O_TMP);
+  const coefs = <usize>oget(p, O_COEFS), node = <usize>oget(p, O_NODE);
+  const h = load<f64>(p + (O_H << 3)), lambda = load<f64>(p + (O_LAMBDA << 3)), done = p + (O_DONE << 3);
+  // this half's inputs: c_lo…c_{hi−1} (and, in the first half, the exact state last)
+  const lo = part == 0 ? 0 : g, hi = part == 0 ? g : rr - 1;
+  const inputs = (hi - lo + (part == 0 ? 1 : 0)) * mm;
+  {
+    if (part == 1 && s > 0 && g > 0) {
+      // order g's rate up to stage s − 1 (the first half's), for c_g's stage values
+      let spins = 0;
+      while (atomic.load<i64>(done) < <i64>s) {
+        if (++spins > 100000) atomic.wait<i64>(done, atomic.load<i64>(done), 100000);
+      }
+    }
+    const phase = ph + <usize>s * column;
+    let slot = 0;
+    for (let src = lo; src <= hi; src++) {
+      // src = hi is the exact state (vector rr) in the first half, and nothing in the second
+      if (src == hi && part == 1) break;
+      const vector = src == hi ? rr : src, scale = src == hi ? lambda : 1.0;
+      for (let c = 0; c < mm; c++) {
+        const off = <usize>vector * v + <usize>c * column;
+        let value = y0 + off;
+        if (vector > 0 && s > 0) {
+          // the stage values y0 + h Σ_{j<s} a_sj k_j (c_0's are the start's)
+          stageSum(z + off, y0 + off, <usize>n, h, SUM_A, s, s, bytes, off, stages);
+          value = z + off;
+        }
+        phaseIn(u + <usize>slot * column, value, n, phase, scale);
+        slot++;
+      }
+    }
+    packRows(u, n, inputs, xp, 0, n);
+    const kout = stages + <usize>s * bytes, c = coefs + <usize>s * node;
+    if (part == 0) {
+      // −i·e^{iEτ}∘(f·W u) for c_0…c_{g−1} and the exact state, then to their places: orders 1…g, the exact state
+      packedRows(op, n, xp, tmp, inputs, cre(c), cim(c), 0, n, phase);
+      memory.fill(kout, 0, v);
+      if (g > 0) memory.copy(kout + v, tmp, <usize>g * v);
+      memory.copy(kout + <usize>rr * v, tmp + <usize>g * v, v);
+      atomic.store<i64>(done, <i64>(s + 1));
+    } else {
+      packedRows(op, n, xp, kout + <usize>(g + 1) * v, inputs, cre(c), cim(c), 0, n, phase);
+    }
+  }
+}
+
 /**
  * Whether c_0 has a zero rate at every stage (so that sums over the stages leave it as it was): always in the
  * dense interaction picture; with sparse terms, when H0 is diagonal (an off-diagonal part moves c_0).
@@ -1172,8 +1379,12 @@ export function rkStep(tau: f64, h: f64): i32 {
   const bytes = <usize>(r + 1) * vec, n = <usize>(r + 1) * <usize>dm;
   memory.copy(save, series, bytes + vec);
   stagePhases(tau, h);
-  if (!startRateValid) interactionRate(coefFine, 0, series, rkStage);
-  rkStages(h, series, series);
+  if (splitOrders()) {
+    orderStages(h, series, series, !startRateValid);
+  } else {
+    if (!startRateValid) interactionRate(coefFine, 0, series, rkStage);
+    rkStages(h, series, series);
+  }
   memory.fill(rkE5, 0, bytes);
   memory.fill(rkE3, 0, bytes);
   // (c_0's rates are zero where it is constant: its error vectors stay zero)
@@ -1209,7 +1420,8 @@ export function rkStep(tau: f64, h: f64): i32 {
  */
 export function rkSample(tau: f64, h: f64): i32 {
   stagePhases(tau, h);
-  rkStages(h, save, comp);
+  if (splitOrders()) orderStages(h, save, comp, false);
+  else rkStages(h, save, comp);
   return ERR_OK;
 }
 
