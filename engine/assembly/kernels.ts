@@ -308,38 +308,65 @@ export function packedScratchBytes(d: i32, r: i32): usize {
   if (i < i1) pairs2(a, d, xp, per, half, p, y, r, ar, ai, i, i1, single, ph);
 }
 
-// One pass over A for one pair of vectors starting at pair p.
+// One pass over A for one pair of vectors starting at pair p, four rows at a time (eight sums in flight, each
+// packed load serving the four rows); the last rows one at a time. Every row's sums run over j in order, as in the
+// passes for more pairs: a vector's result does not depend on how many others share its pass.
 @inline function pairs1(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32, single: bool, ph: usize): void {
   const stride = <usize>d << 4;
   const off = <usize>p << 4;
-  for (let i = i0; i < i1; i++) {
-    const row = a + <usize>i * stride, phRow: usize = ph == 0 ? 0 : ph + (<usize>i << 4);
-    let r0 = f64x2.splat(0), i0 = f64x2.splat(0), r1 = f64x2.splat(0), i1 = f64x2.splat(0);
+  let i = i0;
+  for (; i + 4 <= i1; i += 4) {
+    const m0 = a + <usize>i * stride, m1 = m0 + stride, m2 = m1 + stride, m3 = m2 + stride;
+    let re0 = f64x2.splat(0), im0 = f64x2.splat(0), re1 = f64x2.splat(0), im1 = f64x2.splat(0);
+    let re2 = f64x2.splat(0), im2 = f64x2.splat(0), re3 = f64x2.splat(0), im3 = f64x2.splat(0);
     let base = xp + off;
-    // two accumulator sets over even/odd j shorten the dependency chains
-    let j = 0;
-    for (; j + 1 < d; j += 2) {
-      const m = row + (<usize>j << 4);
-      const mr = v128.load64_splat(m), mi = v128.load64_splat(m, 8);
-      const nr = v128.load64_splat(m, 16), ni = v128.load64_splat(m, 24);
-      const x0 = v128.load(base), x1 = v128.load(base + per);
-      const y0 = single ? x0 : v128.load(base + half), y1 = single ? x1 : v128.load(base + per + half);
-      r0 = lastRe(single, mr, mi, x0, y0, r0);
-      i0 = lastIm(single, mr, mi, x0, y0, i0);
-      r1 = lastRe(single, nr, ni, x1, y1, r1);
-      i1 = lastIm(single, nr, ni, x1, y1, i1);
-      base += per << 1;
-    }
-    if (j < d) {
-      const m = row + (<usize>j << 4);
-      const mr = v128.load64_splat(m), mi = v128.load64_splat(m, 8);
-      const x0 = v128.load(base), y0 = single ? x0 : v128.load(base + half);
-      r0 = lastRe(single, mr, mi, x0, y0, r0);
-      i0 = lastIm(single, mr, mi, x0, y0, i0);
+    for (let j = 0; j < d; j++) {
+      const o = <usize>j << 4;
+      const x = v128.load(base), w = single ? x : v128.load(base + half);
+      const ar0 = v128.load64_splat(m0 + o), ai0 = v128.load64_splat(m0 + o, 8);
+      const ar1 = v128.load64_splat(m1 + o), ai1 = v128.load64_splat(m1 + o, 8);
+      re0 = lastRe(single, ar0, ai0, x, w, re0);
+      im0 = lastIm(single, ar0, ai0, x, w, im0);
+      re1 = lastRe(single, ar1, ai1, x, w, re1);
+      im1 = lastIm(single, ar1, ai1, x, w, im1);
+      const ar2 = v128.load64_splat(m2 + o), ai2 = v128.load64_splat(m2 + o, 8);
+      const ar3 = v128.load64_splat(m3 + o), ai3 = v128.load64_splat(m3 + o, 8);
+      re2 = lastRe(single, ar2, ai2, x, w, re2);
+      im2 = lastIm(single, ar2, ai2, x, w, im2);
+      re3 = lastRe(single, ar3, ai3, x, w, re3);
+      im3 = lastIm(single, ar3, ai3, x, w, im3);
+      base += per;
     }
     const yo = y + (<usize>i << 4);
-    if (single) finishSingle(f64x2.add(r0, r1), f64x2.add(i0, i1), yo, 2 * p, stride, ar, ai, phRow);
-    else finishPair(f64x2.add(r0, r1), f64x2.add(i0, i1), yo, 2 * p, r, stride, ar, ai, phRow);
+    const ph0: usize = ph == 0 ? 0 : ph + (<usize>i << 4);
+    const ph1: usize = ph == 0 ? 0 : ph0 + 16, ph2: usize = ph == 0 ? 0 : ph0 + 32, ph3: usize = ph == 0 ? 0 : ph0 + 48;
+    if (single) {
+      finishSingle(re0, im0, yo, 2 * p, stride, ar, ai, ph0);
+      finishSingle(re1, im1, yo + 16, 2 * p, stride, ar, ai, ph1);
+      finishSingle(re2, im2, yo + 32, 2 * p, stride, ar, ai, ph2);
+      finishSingle(re3, im3, yo + 48, 2 * p, stride, ar, ai, ph3);
+    } else {
+      finishPair(re0, im0, yo, 2 * p, r, stride, ar, ai, ph0);
+      finishPair(re1, im1, yo + 16, 2 * p, r, stride, ar, ai, ph1);
+      finishPair(re2, im2, yo + 32, 2 * p, r, stride, ar, ai, ph2);
+      finishPair(re3, im3, yo + 48, 2 * p, r, stride, ar, ai, ph3);
+    }
+  }
+  for (; i < i1; i++) {
+    const row = a + <usize>i * stride, phRow: usize = ph == 0 ? 0 : ph + (<usize>i << 4);
+    let re0 = f64x2.splat(0), im0 = f64x2.splat(0);
+    let base = xp + off;
+    for (let j = 0; j < d; j++) {
+      const m = row + (<usize>j << 4);
+      const x = v128.load(base), w = single ? x : v128.load(base + half);
+      const mr = v128.load64_splat(m), mi = v128.load64_splat(m, 8);
+      re0 = lastRe(single, mr, mi, x, w, re0);
+      im0 = lastIm(single, mr, mi, x, w, im0);
+      base += per;
+    }
+    const yo = y + (<usize>i << 4);
+    if (single) finishSingle(re0, im0, yo, 2 * p, stride, ar, ai, phRow);
+    else finishPair(re0, im0, yo, 2 * p, r, stride, ar, ai, phRow);
   }
 }
 

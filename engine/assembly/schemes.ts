@@ -1190,9 +1190,20 @@ function rkStages(h: f64, y0: usize, yout: usize): void {
 /** Levels from which the series' stages are split in two (the dense runs a helper takes part in). */
 const SPLIT_FROM: i32 = 64;
 
-/** Whether the Runge–Kutta stages go in two halves: dense, one coupling term, from SPLIT_FROM levels. */
+/**
+ * The first half's vectors: the exact state and c_0…c_{g−1}, about half of the N + 1 and an even count (see
+ * {@link stageOfHalf}): 2·⌈(N+1)/4⌉, 4 of 7 at N = 6.
+ */
+function firstOrders(): i32 {
+  return 2 * ((r + 3) / 4);
+}
+
+/**
+ * Whether the Runge–Kutta stages go in two halves: dense, one coupling term, from SPLIT_FROM levels, and orders
+ * left for the second half.
+ */
 function splitOrders(): bool {
-  return !sparse && kv == 1 && d >= SPLIT_FROM && r >= 2;
+  return !sparse && kv == 1 && d >= SPLIT_FROM && firstOrders() < r;
 }
 
 const ORDERS_WORDS = 22;
@@ -1259,7 +1270,7 @@ function secondHalf(p: usize, caller: bool): void {
 function orderStages(h: f64, y0: usize, yout: usize, makeStart: bool): void {
   const n = <usize>(r + 1) * <usize>dm, bytes = <usize>(r + 1) * vec;
   // the first half: the exact state and about half the orders (the larger share: the caller never waits)
-  const g = (r + 1) / 2 - 1;
+  const g = firstOrders() - 1;
   oset(O_D, <u64>d);
   oset(O_M, <u64>m);
   oset(O_R, <u64>r);
@@ -1293,8 +1304,8 @@ function orderStages(h: f64, y0: usize, yout: usize, makeStart: bool): void {
     secondHalf(rkJob, true);
     waitAll(job); // the helper has left the job (it reads the parameters until then)
   } else {
-    for (let s = first; s < RK_STAGES; s++) stageOfHalf(rkJob, 0, s);
-    for (let s = first; s < RK_STAGES; s++) stageOfHalf(rkJob, 1, s);
+    // alone: both halves in one product a stage (the same numbers, one pass over the coupling)
+    for (let s = first; s < RK_STAGES; s++) stageOfHalf(rkJob, 2, s);
   }
   // the step's end: c_1…c_N and the exact state (c_0 is constant: copied where the end is not the start)
   if (yout != y0) memory.copy(yout, y0, vec);
@@ -1303,57 +1314,68 @@ function orderStages(h: f64, y0: usize, yout: usize, makeStart: bool): void {
 
 /**
  * Stage s of one half of {@link orderStages} (part 0: the exact state's rate and orders 1…g, from c_0…c_{g−1};
- * part 1: orders g+1…N, from c_g…c_{N−1}), from the parameters at p only (the helper's instance has its own
- * globals).
+ * part 1: orders g+1…N, from c_g…c_{N−1}; part 2: both, as one product), from the parameters at p only (the
+ * helper's instance has its own globals). The first half's vectors are an even count (g + 1 even), so a product
+ * of both halves pairs each vector with the same partner as the halves' products do: the same arithmetic.
  */
 function stageOfHalf(p: usize, part: i32, s: i32): void {
   const n = <i32>oget(p, O_D), mm = <i32>oget(p, O_M), rr = <i32>oget(p, O_R), g = <i32>oget(p, O_G);
   const column = <usize>n << 4, v = <usize>mm * column, bytes = <usize>(rr + 1) * v;
-  const stages = <usize>oget(p, O_STAGES), y0 = <usize>oget(p, O_Y0), z = <usize>oget(p, O_Z);
-  const u = <usize>oget(p, part == 0 ? O_UA : O_UB), xp = <usize>oget(p, part == 0 ? O_XA : O_XB);
+  const stages = <usize>oget(p, O_STAGES);
+  const u = <usize>oget(p, part == 1 ? O_UB : O_UA), xp = <usize>oget(p, part == 1 ? O_XB : O_XA);
   const ph = <usize>oget(p, O_PH), op = <usize>oget(p, O_OP), tmp = <usize>oget(p, O_TMP);
-  const coefs = <usize>oget(p, O_COEFS), node = <usize>oget(p, O_NODE);
-  const h = load<f64>(p + (O_H << 3)), lambda = load<f64>(p + (O_LAMBDA << 3)), done = p + (O_DONE << 3);
-  // this half's inputs: c_lo…c_{hi−1} (and, in the first half, the exact state last)
-  const lo = part == 0 ? 0 : g, hi = part == 0 ? g : rr - 1;
-  const inputs = (hi - lo + (part == 0 ? 1 : 0)) * mm;
-  {
-    if (part == 1 && s > 0 && g > 0) {
-      // order g's rate up to stage s − 1 (the first half's), for c_g's stage values
-      let spins = 0;
-      while (atomic.load<i64>(done) < <i64>s) {
-        if (++spins > 100000) atomic.wait<i64>(done, atomic.load<i64>(done), 100000);
-      }
+  const coefs = <usize>oget(p, O_COEFS), node = <usize>oget(p, O_NODE), done = p + (O_DONE << 3);
+  if (part == 1 && s > 0 && g > 0) {
+    // order g's rate up to stage s − 1 (the first half's), for c_g's stage values
+    let spins = 0;
+    while (atomic.load<i64>(done) < <i64>s) {
+      if (++spins > 100000) atomic.wait<i64>(done, atomic.load<i64>(done), 100000);
     }
-    const phase = ph + <usize>s * column;
-    let slot = 0;
-    for (let src = lo; src <= hi; src++) {
-      // src = hi is the exact state (vector rr) in the first half, and nothing in the second
-      if (src == hi && part == 1) break;
-      const vector = src == hi ? rr : src, scale = src == hi ? lambda : 1.0;
-      for (let c = 0; c < mm; c++) {
-        const off = <usize>vector * v + <usize>c * column;
-        let value = y0 + off;
-        if (vector > 0 && s > 0) {
-          // the stage values y0 + h Σ_{j<s} a_sj k_j (c_0's are the start's)
-          stageSum(z + off, y0 + off, <usize>n, h, SUM_A, s, s, bytes, off, stages);
-          value = z + off;
-        }
-        phaseIn(u + <usize>slot * column, value, n, phase, scale);
-        slot++;
+  }
+  const first = (g + 1) * mm, second = (rr - 1 - g) * mm;
+  if (part != 1) stageValues(p, 0, s, u);
+  if (part != 0) stageValues(p, 1, s, part == 2 ? u + <usize>first * column : u);
+  const inputs = part == 0 ? first : part == 1 ? second : first + second;
+  packRows(u, n, inputs, xp, 0, n);
+  const kout = stages + <usize>s * bytes, c = coefs + <usize>s * node, phase = ph + <usize>s * column;
+  if (part == 1) {
+    packedRows(op, n, xp, kout + <usize>(g + 1) * v, inputs, cre(c), cim(c), 0, n, phase);
+    return;
+  }
+  // −i·e^{iEτ}∘(f·W u) for c_0…c_{g−1} and the exact state (and c_g…c_{N−1}), then to their places: orders 1…g,
+  // the exact state (orders g+1…N)
+  packedRows(op, n, xp, tmp, inputs, cre(c), cim(c), 0, n, phase);
+  memory.fill(kout, 0, v);
+  memory.copy(kout + v, tmp, <usize>g * v);
+  memory.copy(kout + <usize>rr * v, tmp + <usize>g * v, v);
+  if (part == 2) memory.copy(kout + <usize>(g + 1) * v, tmp + <usize>first * column, <usize>second * column);
+  else atomic.store<i64>(done, <i64>(s + 1));
+}
+
+/**
+ * Stage s's interaction-picture values of one half's inputs (part 0: c_0…c_{g−1}, then the exact state times λ;
+ * part 1: c_g…c_{N−1}) into u, one d-vector after another: e^{−iEτ}∘(y0 + h Σ_{j<s} a_sj k_j), c_0's the start's.
+ */
+function stageValues(p: usize, part: i32, s: i32, u: usize): void {
+  const n = <i32>oget(p, O_D), mm = <i32>oget(p, O_M), rr = <i32>oget(p, O_R), g = <i32>oget(p, O_G);
+  const column = <usize>n << 4, v = <usize>mm * column, bytes = <usize>(rr + 1) * v;
+  const stages = <usize>oget(p, O_STAGES), y0 = <usize>oget(p, O_Y0), z = <usize>oget(p, O_Z);
+  const h = load<f64>(p + (O_H << 3)), lambda = load<f64>(p + (O_LAMBDA << 3));
+  const phase = <usize>oget(p, O_PH) + <usize>s * column;
+  const lo = part == 0 ? 0 : g, count = part == 0 ? g + 1 : rr - 1 - g;
+  let slot = 0;
+  for (let k = 0; k < count; k++) {
+    // the first half's last input is the exact state (vector rr)
+    const exactState = part == 0 && k == g, vector = exactState ? rr : lo + k;
+    for (let c = 0; c < mm; c++) {
+      const off = <usize>vector * v + <usize>c * column;
+      let value = y0 + off;
+      if (vector > 0 && s > 0) {
+        stageSum(z + off, y0 + off, <usize>n, h, SUM_A, s, s, bytes, off, stages);
+        value = z + off;
       }
-    }
-    packRows(u, n, inputs, xp, 0, n);
-    const kout = stages + <usize>s * bytes, c = coefs + <usize>s * node;
-    if (part == 0) {
-      // −i·e^{iEτ}∘(f·W u) for c_0…c_{g−1} and the exact state, then to their places: orders 1…g, the exact state
-      packedRows(op, n, xp, tmp, inputs, cre(c), cim(c), 0, n, phase);
-      memory.fill(kout, 0, v);
-      if (g > 0) memory.copy(kout + v, tmp, <usize>g * v);
-      memory.copy(kout + <usize>rr * v, tmp + <usize>g * v, v);
-      atomic.store<i64>(done, <i64>(s + 1));
-    } else {
-      packedRows(op, n, xp, kout + <usize>(g + 1) * v, inputs, cre(c), cim(c), 0, n, phase);
+      phaseIn(u + <usize>slot * column, value, n, phase, exactState ? lambda : 1.0);
+      slot++;
     }
   }
 }
