@@ -1355,29 +1355,41 @@ function stageOfHalf(p: usize, part: i32, s: i32): void {
 /**
  * Stage s's interaction-picture values of one half's inputs (part 0: c_0…c_{g−1}, then the exact state times λ;
  * part 1: c_g…c_{N−1}) into u, one d-vector after another: e^{−iEτ}∘(y0 + h Σ_{j<s} a_sj k_j), c_0's the start's.
+ * Inputs next to each other in the stacked state are summed and phased in one call (long runs of entries).
  */
 function stageValues(p: usize, part: i32, s: i32, u: usize): void {
   const n = <i32>oget(p, O_D), mm = <i32>oget(p, O_M), rr = <i32>oget(p, O_R), g = <i32>oget(p, O_G);
+  const column = <usize>n << 4, v = <usize>mm * column;
+  const lambda = load<f64>(p + (O_LAMBDA << 3));
+  if (part == 1) {
+    valuesOf(p, s, g, rr - 1 - g, u, 1.0);
+    return;
+  }
+  valuesOf(p, s, 0, g, u, 1.0);
+  valuesOf(p, s, rr, 1, u + <usize>g * v, lambda);
+}
+
+/** u = scale·e^{−iEτ}∘(stage s's values of the stacked vectors from..from+count−1), c_0's the start's. */
+function valuesOf(p: usize, s: i32, from: i32, count: i32, u: usize, scale: f64): void {
+  const n = <i32>oget(p, O_D), mm = <i32>oget(p, O_M), rr = <i32>oget(p, O_R);
   const column = <usize>n << 4, v = <usize>mm * column, bytes = <usize>(rr + 1) * v;
   const stages = <usize>oget(p, O_STAGES), y0 = <usize>oget(p, O_Y0), z = <usize>oget(p, O_Z);
-  const h = load<f64>(p + (O_H << 3)), lambda = load<f64>(p + (O_LAMBDA << 3));
-  const phase = <usize>oget(p, O_PH) + <usize>s * column;
-  const lo = part == 0 ? 0 : g, count = part == 0 ? g + 1 : rr - 1 - g;
-  let slot = 0;
-  for (let k = 0; k < count; k++) {
-    // the first half's last input is the exact state (vector rr)
-    const exactState = part == 0 && k == g, vector = exactState ? rr : lo + k;
-    for (let c = 0; c < mm; c++) {
-      const off = <usize>vector * v + <usize>c * column;
-      let value = y0 + off;
-      if (vector > 0 && s > 0) {
-        stageSum(z + off, y0 + off, <usize>n, h, SUM_A, s, s, bytes, off, stages);
-        value = z + off;
-      }
-      phaseIn(u + <usize>slot * column, value, n, phase, exactState ? lambda : 1.0);
-      slot++;
+  const h = load<f64>(p + (O_H << 3)), phase = <usize>oget(p, O_PH) + <usize>s * column;
+  let first = from, to = u;
+  if (from == 0 || s == 0) {
+    // c_0's values (all of them at stage 0) are the start's
+    const start = s == 0 ? count : 1;
+    for (let b = 0; b < start * mm; b++) {
+      phaseIn(to + <usize>b * column, y0 + <usize>from * v + <usize>b * column, n, phase, scale);
     }
+    first += start;
+    to += <usize>start * v;
   }
+  const rest = from + count - first;
+  if (rest <= 0) return;
+  const off = <usize>first * v, entries = <usize>rest * <usize>mm * <usize>n;
+  stageSum(z + off, y0 + off, entries, h, SUM_A, s, s, bytes, off, stages);
+  for (let b = 0; b < rest * mm; b++) phaseIn(to + <usize>b * column, z + off + <usize>b * column, n, phase, scale);
 }
 
 /**
