@@ -74,6 +74,145 @@ Deno.test("a driven d = 128 run with the helper thread is bit-for-bit the run on
   }
 });
 
+Deno.test("the series in two halves (orders 2, 3, 5, 8; one and three columns at d = 64): the same bits with and without the helper, norms kept", async () => {
+  const alone = await loadEngine(), shared = await loadEngine(undefined, { helper: true });
+  try {
+    const base = drivenModel(dense(64), 1), d = 64;
+    for (const order of [2, 3, 5, 8]) {
+      const initial = new Float64Array(6 * d);
+      [0, 5, 17].forEach((level, c) => (initial[2 * (c * d + level)] = 1));
+      for (
+        const model of [
+          { ...base, order, accuracy: 1e-6, samples: 3 },
+          { ...base, order, accuracy: 1e-6, samples: 3, columns: 3, initial },
+        ]
+      ) {
+        const one = solve(alone, model), columns = model.columns ?? 1;
+        const before = shared.exports.helperBlocks();
+        let two = solve(shared, model);
+        for (let k = 0; k < 20 && shared.exports.helperBlocks() === before; k++) two = solve(shared, model);
+        assert(shared.exports.helperBlocks() > before, `order ${order}: the helper took no part in 20 runs`);
+        assert(same(two, one), `order ${order}, ${columns} column(s): the helper changed the result`);
+        // the exact state of each column stays a unit vector (the evolution is unitary: a fact of quantum
+        // mechanics), at every sample
+        for (let k = 0; k < model.samples; k++) {
+          for (let c = 0; c < columns; c++) {
+            let norm = 0;
+            for (let a = 0; a < 2 * d; a++) norm += two.exact[(k * columns + c) * 2 * d + a]! ** 2;
+            assertClose(norm, 1, { abs: 1e-6 }, `order ${order}, sample ${k}, column ${c}: norm`);
+          }
+        }
+      }
+    }
+  } finally {
+    alone.close();
+    shared.close();
+  }
+});
+
+// First and second order of time-dependent perturbation theory for a constant coupling W switched on at t = 0, in
+// H0's eigenbasis (H0 = diag E, c0 = |0⟩): c1_a = −i W_a0 ∫₀ᵀ e^{iω_a0 t} dt and c2_a = −Σ_b W_ab W_b0
+// ∫₀ᵀ e^{iω_ab t} ∫₀ᵗ e^{iω_b0 s} ds dt, ω_ab = E_a − E_b (Sakurai, Modern Quantum Mechanics, §5.7; the integrals
+// in closed form).
+function dysonClosedForm(energies: number[], w: Float64Array, t: number) {
+  const d = energies.length;
+  type C = [number, number];
+  const mul = (a: C, b: C): C => [a[0] * b[0] - a[1] * b[1], a[0] * b[1] + a[1] * b[0]];
+  const div = (a: C, b: C): C => {
+    const m = b[0] * b[0] + b[1] * b[1];
+    return [(a[0] * b[0] + a[1] * b[1]) / m, (a[1] * b[0] - a[0] * b[1]) / m];
+  };
+  const cis = (x: number): C => [Math.cos(x), Math.sin(x)];
+  // ∫₀ᵀ e^{ixt} dt, and ∫₀ᵀ t e^{ixt} dt
+  const once = (x: number): C => (x === 0 ? [t, 0] : div([Math.cos(x * t) - 1, Math.sin(x * t)], [0, x]));
+  const ramp = (x: number): C =>
+    x === 0
+      ? [t * t / 2, 0]
+      : div([t * Math.cos(x * t) - once(x)[0], t * Math.sin(x * t) - once(x)[1]], [0, x]);
+  const twice = (a: number, b: number): C => {
+    if (b === 0) return ramp(a);
+    const e = once(a + b), f = once(a);
+    return div([e[0] - f[0], e[1] - f[1]], [0, b]);
+  };
+  const entry = (i: number, j: number): C => [w[2 * (i * d + j)]!, w[2 * (i * d + j) + 1]!];
+  const first: C[] = [], second: C[] = [];
+  for (let a = 0; a < d; a++) {
+    first.push(mul([0, -1], mul(entry(a, 0), once(energies[a]! - energies[0]!))));
+    let sum: C = [0, 0];
+    for (let b = 0; b < d; b++) {
+      const term = mul(
+        mul(entry(a, b), entry(b, 0)),
+        twice(energies[a]! - energies[b]!, energies[b]! - energies[0]!),
+      );
+      sum = [sum[0] - term[0], sum[1] - term[1]];
+    }
+    second.push(sum);
+  }
+  // ψ_n = e^{−iEt} c_n
+  const back = (c: C[]) => c.map((x, a) => mul(cis(-energies[a]! * t), x));
+  return { first: back(first), second: back(second) };
+}
+
+Deno.test("the series in two halves (d = 64, orders 2 and 3, alone and with the helper): first and second order as their closed forms", async () => {
+  const d = 64, t = 5, random = seeded(21);
+  const energies = Array.from({ length: d }, () => 4 * random() - 2);
+  const h0 = new Float64Array(2 * d * d);
+  energies.forEach((e, a) => (h0[2 * (a * d + a)] = e));
+  const w = randomHermitian(d, random, 0.02);
+  const initial = new Float64Array(2 * d);
+  initial[0] = 1;
+  const reference = dysonClosedForm(energies, w, t);
+  const alone = await loadEngine(), shared = await loadEngine(undefined, { helper: true });
+  try {
+    for (const order of [2, 3]) {
+      const model = {
+        dim: d,
+        unperturbed: [{ matrix: h0, coefficient: { kind: "constant" as const, re: 1, im: 0 } }],
+        // a coefficient given as samples (so that the run takes the driven interaction-picture steps), all 1
+        perturbation: [{
+          matrix: w,
+          coefficient: {
+            kind: "sampled" as const,
+            sample: (ts: Float64Array, out: Float64Array) =>
+              ts.forEach((_, k) => ((out[2 * k] = 1), (out[2 * k + 1] = 0))),
+          },
+        }],
+        strength: 1,
+        initial,
+        tStart: 0,
+        tEnd: t,
+        steps: 1,
+        samples: 2,
+        order,
+        accuracy: 1e-10,
+      };
+      for (const [name, engine] of [["alone", alone], ["with the helper", shared]] as const) {
+        const result = solve(engine, model);
+        for (const [n, expected] of [[1, reference.first], [2, reference.second]] as const) {
+          const term = result.terms[n]!;
+          expected.forEach(([re, im], a) => {
+            assertClose(
+              term[2 * d + 2 * a]!,
+              re,
+              { abs: 1e-9 },
+              `order ${order} ${name}: term ${n}, level ${a} (re)`,
+            );
+            assertClose(
+              term[2 * d + 2 * a + 1]!,
+              im,
+              { abs: 1e-9 },
+              `order ${order} ${name}: term ${n}, level ${a} (im)`,
+            );
+          });
+        }
+      }
+    }
+  } finally {
+    alone.close();
+    shared.close();
+  }
+});
+
 Deno.test("a helper that joins a run already going (waitForHelper: false) changes no number; d = 64 shares", async () => {
   const model = { ...drivenModel(dense(64), 1), accuracy: 1e-6, samples: 3 };
   assert(wantsHelper(model), "d = 64 dense is worth a helper");

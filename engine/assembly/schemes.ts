@@ -1184,8 +1184,9 @@ function rkStages(h: f64, y0: usize, yout: usize): void {
 // second waits for stage i−1 before its stage i (the first never waits for the second). Each half is a product
 // of about half the vectors with the whole coupling, so the helper takes part in every stage with one
 // barrier a step, where rows of each product shared between threads cost a barrier a stage and every stage's
-// values crossing between the processors' caches. Without a helper the caller does both halves in turn, with the
-// same arithmetic: results do not depend on whether a helper took part.
+// values crossing between the processors' caches. Without a helper the caller takes one product a stage of both
+// halves' vectors, which pairs each vector as the halves' products do: results do not depend on whether a helper
+// took part.
 
 /** Levels from which the series' stages are split in two (the dense runs a helper takes part in). */
 const SPLIT_FROM: i32 = 64;
@@ -1206,7 +1207,7 @@ function splitOrders(): bool {
   return !sparse && kv == 1 && d >= SPLIT_FROM && firstOrders() < r;
 }
 
-const ORDERS_WORDS = 22;
+const ORDERS_WORDS = 21;
 const O_D = 0;
 const O_M = 1;
 const O_R = 2;
@@ -1225,10 +1226,9 @@ const O_COEFS = 14; // the fine buffer's coefficients of the coupling at node 0,
 const O_NODE = 15;
 const O_H = 16;
 const O_LAMBDA = 17;
-const O_FIRST = 18; // the first stage whose rate is made (0, or 1 with stage 0 in place)
-const O_DONE = 19; // stages the first half has done (i64, atomic)
-const O_NEXT = 20; // the second half's next stage to take, and its stages done (i64, atomic)
-const O_TAKEN = 21;
+const O_DONE = 18; // stages the first half has done (i64, atomic)
+const O_NEXT = 19; // the second half's next stage to take, and its stages done (i64, atomic)
+const O_TAKEN = 20;
 
 export const JOB_ORDERS = 8;
 
@@ -1290,7 +1290,6 @@ function orderStages(h: f64, y0: usize, yout: usize, makeStart: bool): void {
   store<f64>(rkJob + (O_H << 3), h);
   store<f64>(rkJob + (O_LAMBDA << 3), lambda);
   const first = makeStart ? 0 : 1;
-  oset(O_FIRST, <u64>first);
   atomic.store<i64>(rkJob + (O_DONE << 3), first);
   atomic.store<i64>(rkJob + (O_NEXT << 3), first);
   atomic.store<i64>(rkJob + (O_TAKEN << 3), first);
