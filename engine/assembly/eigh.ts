@@ -11,7 +11,7 @@
 // matrices) and ch. 8; the QL iteration is the classic tql2/tqli form.
 
 import { madd, nmadd } from "./kernels";
-import { arg, argF, blockSize, runShared, setArg, setArgF, sharing } from "./share";
+import { arg, blockSize, runShared, setArg, sharing } from "./share";
 
 @inline function re(p: usize): f64 { return load<f64>(p); }
 @inline function im(p: usize): f64 { return load<f64>(p, 8); }

@@ -1155,21 +1155,27 @@ function nodePhases(ph: usize, e: usize, n: i32, tau: f64, h: f64, n0: i32, n1: 
 }
 
 /**
- * One Runge–Kutta step of h: yout (r+1 vectors) = y0 + h Σ b_j k_j, with stage 0 (the derivative at y0) already
- * in place, the coefficients of the 12 stage times in the fine buffer and their phases made by stagePhases.
+ * One Runge–Kutta step of h: yout (r+1 vectors) = y0 + h Σ b_j k_j, with the coefficients of the 12 stage times in
+ * the fine buffer and their phases made by stagePhases; stage 0 (the derivative at y0) made first where
+ * `makeStart`, else already in place. Dense runs that split go in two halves of the series ({@link orderStages}).
  */
-function rkStages(h: f64, y0: usize, yout: usize): void {
+function rkStages(h: f64, y0: usize, yout: usize, makeStart: bool): void {
   const n = <usize>(r + 1) * <usize>dm, bytes = <usize>(r + 1) * vec, exactAt = <usize>r * vec;
   // The stage values a rate reads: the series from c_lo to c_{hi−1}, and the exact state. Where c_0 is constant
   // its stage values are the start's and c_N feeds no order, so neither is summed (lo = 1, hi = N); otherwise
   // every vector is.
   const lean = constantFirst(), lo = lean ? 1 : 0, hi = lean ? r - 1 : r;
   const from = <usize>lo * vec, orders = <usize>max(hi - lo, 0) * <usize>dm;
-  if (lean) memory.copy(rkZ, y0, vec);
-  for (let i = 1; i < RK_STAGES; i++) {
-    if (orders > 0) stageSum(rkZ + from, y0 + from, orders, h, SUM_A, i, i, bytes, from);
-    stageSum(rkZ + exactAt, y0 + exactAt, <usize>dm, h, SUM_A, i, i, bytes, exactAt);
-    interactionRate(coefFine, i, rkZ, rkStage + <usize>i * bytes);
+  if (splitOrders()) {
+    orderStages(h, y0, makeStart);
+  } else {
+    if (makeStart) interactionRate(coefFine, 0, y0, rkStage);
+    if (lean) memory.copy(rkZ, y0, vec);
+    for (let i = 1; i < RK_STAGES; i++) {
+      if (orders > 0) stageSum(rkZ + from, y0 + from, orders, h, SUM_A, i, i, bytes, from);
+      stageSum(rkZ + exactAt, y0 + exactAt, <usize>dm, h, SUM_A, i, i, bytes, exactAt);
+      interactionRate(coefFine, i, rkZ, rkStage + <usize>i * bytes);
+    }
   }
   // the step's end: every vector from c_lo on (c_0, where it is constant, copied)
   if (lean && yout != y0) memory.copy(yout, y0, vec);
@@ -1264,11 +1270,10 @@ function secondHalf(p: usize, caller: bool): void {
 }
 
 /**
- * The stages of one Runge–Kutta step of h in two halves of the series (see {@link splitOrders}), then the step's
- * end yout = y0 + h Σ b_j k_j; stage 0 (the derivative at y0) made first where `makeStart`, else in place.
+ * The stage derivatives of one Runge–Kutta step of h in two halves of the series (see {@link splitOrders}); stage 0
+ * (the derivative at y0) made first where `makeStart`, else in place. The step's end is {@link rkStages}'s.
  */
-function orderStages(h: f64, y0: usize, yout: usize, makeStart: bool): void {
-  const n = <usize>(r + 1) * <usize>dm, bytes = <usize>(r + 1) * vec;
+function orderStages(h: f64, y0: usize, makeStart: bool): void {
   // the first half: the exact state and about half the orders (the larger share: the caller never waits)
   const g = firstOrders() - 1;
   oset(O_D, <u64>d);
@@ -1306,9 +1311,6 @@ function orderStages(h: f64, y0: usize, yout: usize, makeStart: bool): void {
     // alone: both halves in one product a stage (the same numbers, one pass over the coupling)
     for (let s = first; s < RK_STAGES; s++) stageOfHalf(rkJob, 2, s);
   }
-  // the step's end: c_1…c_N and the exact state (c_0 is constant: copied where the end is not the start)
-  if (yout != y0) memory.copy(yout, y0, vec);
-  stageSum(yout + vec, y0 + vec, n - <usize>dm, h, SUM_B, 0, RK_STAGES, bytes, vec);
 }
 
 /**
@@ -1412,12 +1414,7 @@ export function rkStep(tau: f64, h: f64): i32 {
   const bytes = <usize>(r + 1) * vec, n = <usize>(r + 1) * <usize>dm;
   memory.copy(save, series, bytes + vec);
   stagePhases(tau, h);
-  if (splitOrders()) {
-    orderStages(h, series, series, !startRateValid);
-  } else {
-    if (!startRateValid) interactionRate(coefFine, 0, series, rkStage);
-    rkStages(h, series, series);
-  }
+  rkStages(h, series, series, !startRateValid);
   memory.fill(rkE5, 0, bytes);
   memory.fill(rkE3, 0, bytes);
   // (c_0's rates are zero where it is constant: its error vectors stay zero)
@@ -1453,8 +1450,7 @@ export function rkStep(tau: f64, h: f64): i32 {
  */
 export function rkSample(tau: f64, h: f64): i32 {
   stagePhases(tau, h);
-  if (splitOrders()) orderStages(h, save, comp, false);
-  else rkStages(h, save, comp);
+  rkStages(h, save, comp, false);
   return ERR_OK;
 }
 
