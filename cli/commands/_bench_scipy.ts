@@ -90,7 +90,8 @@ function distance(a: Answer, b: Answer): number {
 }
 
 const minimum = (xs: number[]) => Math.min(...xs);
-const median = (xs: number[]) => xs.slice().sort((a, b) => a - b)[Math.floor(xs.length / 2)]!;
+/** The middle value (the upper one of an even count). */
+export const median = (xs: number[]) => xs.slice().sort((a, b) => a - b)[Math.floor(xs.length / 2)]!;
 
 /** SciPy's timings under each thread setting: the faster setting (by median), and what it was. */
 class ScipyTimes {

@@ -187,11 +187,9 @@ export function init(dim: i32, order: i32, nH0: i32, nV: i32, chunkSteps: i32, c
   rkE5 = arenaAlloc(<usize>(r + 1) * vec);
   rkE3 = arenaAlloc(<usize>(r + 1) * vec);
   rkPh = arenaAlloc(<usize>RK_STAGES * (<usize>d << 4));
-  // the two halves of the series' stages (splitOrders): their packed values, the first half's products, the
-  // parameters
+  // the two halves of the series' stages (splitOrders): their packed values, the parameters
   rkXa = arenaAlloc(packedScratchBytes(d, r * m));
   rkXb = arenaAlloc(packedScratchBytes(d, r * m));
-  rkTmp = arenaAlloc(<usize>(r + 1) * vec);
   rkJob = arenaAlloc(<usize>ORDERS_WORDS << 3);
   startRateValid = false;
   csrTable = arenaAlloc(<usize>max(<i32>kt, 1) * 48);
@@ -915,7 +913,6 @@ let rkE3: usize = 0;
 let rkPh: usize = 0; // the stage times' phases (stagePhases)
 let rkXa: usize = 0; // the halves' packed stage values (orderStages)
 let rkXb: usize = 0;
-let rkTmp: usize = 0; // the first half's products, before they go to their places
 let rkJob: usize = 0; // the halves' parameters (ORDERS_WORDS words)
 // Stage 0 (the derivative at the step's start) is kept across a rejection and for recorded times inside a step.
 let startRateValid = false;
@@ -1213,7 +1210,7 @@ function splitOrders(): bool {
   return !sparse && kv == 1 && d >= SPLIT_FROM && firstOrders() < r;
 }
 
-const ORDERS_WORDS = 21;
+const ORDERS_WORDS = 18;
 const O_D = 0;
 const O_M = 1;
 const O_R = 2;
@@ -1221,20 +1218,17 @@ const O_G = 3; // the first half's orders: rates of orders 1…g (and the exact 
 const O_STAGES = 4;
 const O_Y0 = 5;
 const O_Z = 6;
-const O_UA = 7; // each half's interaction-picture stage values and their packed form
-const O_UB = 8;
-const O_XA = 9;
-const O_XB = 10;
-const O_TMP = 11;
-const O_PH = 12;
-const O_OP = 13;
-const O_COEFS = 14; // the fine buffer's coefficients of the coupling at node 0, and the bytes between nodes
-const O_NODE = 15;
-const O_H = 16;
-const O_LAMBDA = 17;
-const O_DONE = 18; // stages the first half has done (i64, atomic)
-const O_NEXT = 19; // the second half's next stage to take, and its stages done (i64, atomic)
-const O_TAKEN = 20;
+const O_XA = 7; // each half's packed interaction-picture stage values
+const O_XB = 8;
+const O_PH = 9;
+const O_OP = 10;
+const O_COEFS = 11; // the fine buffer's coefficients of the coupling at node 0, and the bytes between nodes
+const O_NODE = 12;
+const O_H = 13;
+const O_LAMBDA = 14;
+const O_DONE = 15; // stages the first half has done (i64, atomic)
+const O_NEXT = 16; // the second half's next stage to take, and its stages done (i64, atomic)
+const O_TAKEN = 17;
 
 export const JOB_ORDERS = 8;
 
@@ -1283,11 +1277,8 @@ function orderStages(h: f64, y0: usize, makeStart: bool): void {
   oset(O_STAGES, <u64>rkStage);
   oset(O_Y0, <u64>y0);
   oset(O_Z, <u64>rkZ);
-  oset(O_UA, <u64>rkU);
-  oset(O_UB, <u64>rkP);
   oset(O_XA, <u64>rkXa);
   oset(O_XB, <u64>rkXb);
-  oset(O_TMP, <u64>rkTmp);
   oset(O_PH, <u64>rkPh);
   oset(O_OP, <u64>vTerms);
   oset(O_COEFS, <u64>(coefFine + (<usize>k0 << 4)));
@@ -1314,17 +1305,18 @@ function orderStages(h: f64, y0: usize, makeStart: bool): void {
 }
 
 /**
- * Stage s of one half of {@link orderStages} (part 0: the exact state's rate and orders 1…g, from c_0…c_{g−1};
- * part 1: orders g+1…N, from c_g…c_{N−1}; part 2: both, as one product), from the parameters at p only (the
- * helper's instance has its own globals). The first half's vectors are an even count (g + 1 even), so a product
- * of both halves pairs each vector with the same partner as the halves' products do: the same arithmetic.
+ * Stage s of one half of {@link orderStages} (part 0: the exact state's rate and orders 1…g, from the exact state
+ * and c_0…c_{g−1}; part 1: orders g+1…N, from c_g…c_{N−1}; part 2: both, as one product), from the parameters at p
+ * only (the helper's instance has its own globals). The first half's vectors are an even count (g + 1 even), so a
+ * product of both halves pairs each vector with the same partner as the halves' products do: the same arithmetic.
+ * The exact state goes first: the products' outputs then lie in the stage derivative's order (the exact state's
+ * rate in c_0's place, which has none, moved to its own after the product).
  */
 function stageOfHalf(p: usize, part: i32, s: i32): void {
   const n = <i32>oget(p, O_D), mm = <i32>oget(p, O_M), rr = <i32>oget(p, O_R), g = <i32>oget(p, O_G);
   const column = <usize>n << 4, v = <usize>mm * column, bytes = <usize>(rr + 1) * v;
-  const stages = <usize>oget(p, O_STAGES);
-  const u = <usize>oget(p, part == 1 ? O_UB : O_UA), xp = <usize>oget(p, part == 1 ? O_XB : O_XA);
-  const ph = <usize>oget(p, O_PH), op = <usize>oget(p, O_OP), tmp = <usize>oget(p, O_TMP);
+  const stages = <usize>oget(p, O_STAGES), xp = <usize>oget(p, part == 1 ? O_XB : O_XA);
+  const ph = <usize>oget(p, O_PH), op = <usize>oget(p, O_OP);
   const coefs = <usize>oget(p, O_COEFS), node = <usize>oget(p, O_NODE), done = p + (O_DONE << 3);
   if (part == 1 && s > 0 && g > 0) {
     // order g's rate up to stage s − 1 (the first half's), for c_g's stage values
@@ -1334,63 +1326,72 @@ function stageOfHalf(p: usize, part: i32, s: i32): void {
     }
   }
   const first = (g + 1) * mm, second = (rr - 1 - g) * mm;
-  if (part != 1) stageValues(p, 0, s, u);
-  if (part != 0) stageValues(p, 1, s, part == 2 ? u + <usize>first * column : u);
   const inputs = part == 0 ? first : part == 1 ? second : first + second;
-  packRows(u, n, inputs, xp, 0, n);
-  const kout = stages + <usize>s * bytes, c = coefs + <usize>s * node, phase = ph + <usize>s * column;
-  if (part == 1) {
-    packedRows(op, n, xp, kout + <usize>(g + 1) * v, inputs, cre(c), cim(c), 0, n, phase);
-    return;
+  if (part != 1) {
+    packValues(p, s, rr, 1, xp, 0, inputs, load<f64>(p + (O_LAMBDA << 3)));
+    packValues(p, s, 0, g, xp, mm, inputs, 1.0);
   }
-  // −i·e^{iEτ}∘(f·W u) for c_0…c_{g−1} and the exact state (and c_g…c_{N−1}), then to their places: orders 1…g,
-  // the exact state (orders g+1…N)
-  packedRows(op, n, xp, tmp, inputs, cre(c), cim(c), 0, n, phase);
+  if (part != 0) packValues(p, s, g, rr - 1 - g, xp, part == 2 ? first : 0, inputs, 1.0);
+  const kout = stages + <usize>s * bytes, c = coefs + <usize>s * node, phase = ph + <usize>s * column;
+  // −i·e^{iEτ}∘(f·W u): orders g+1…N (part 1), or the exact state's and orders 1…g (…N)
+  const out = part == 1 ? kout + <usize>(g + 1) * v : kout;
+  packedRows(op, n, xp, out, inputs, cre(c), cim(c), 0, n, phase);
+  if (part == 1) return;
+  memory.copy(kout + <usize>rr * v, kout, v);
   memory.fill(kout, 0, v);
-  memory.copy(kout + v, tmp, <usize>g * v);
-  memory.copy(kout + <usize>rr * v, tmp + <usize>g * v, v);
-  if (part == 2) memory.copy(kout + <usize>(g + 1) * v, tmp + <usize>first * column, <usize>second * column);
-  else atomic.store<i64>(done, <i64>(s + 1));
+  if (part == 0) atomic.store<i64>(done, <i64>(s + 1));
 }
 
 /**
- * Stage s's interaction-picture values of one half's inputs (part 0: c_0…c_{g−1}, then the exact state times λ;
- * part 1: c_g…c_{N−1}) into u, one d-vector after another: e^{−iEτ}∘(y0 + h Σ_{j<s} a_sj k_j), c_0's the start's.
- * Inputs next to each other in the stacked state are summed and phased in one call (long runs of entries).
+ * Stage s's interaction-picture values of the stacked vectors from…from+count−1 (mm d-vectors each), times `scale`,
+ * packed for a product of `inputs` d-vectors (see packRows), the run's first d-vector in slot `slot`: e^{−iEτ}∘(y0 +
+ * h Σ_{j<s} a_sj k_j), c_0's the start's. Orders next to each other are summed in one call (long runs of entries).
  */
-function stageValues(p: usize, part: i32, s: i32, u: usize): void {
-  const n = <i32>oget(p, O_D), mm = <i32>oget(p, O_M), rr = <i32>oget(p, O_R), g = <i32>oget(p, O_G);
-  const column = <usize>n << 4, v = <usize>mm * column;
-  const lambda = load<f64>(p + (O_LAMBDA << 3));
-  if (part == 1) {
-    valuesOf(p, s, g, rr - 1 - g, u, 1.0);
-    return;
-  }
-  valuesOf(p, s, 0, g, u, 1.0);
-  valuesOf(p, s, rr, 1, u + <usize>g * v, lambda);
-}
-
-/** u = scale·e^{−iEτ}∘(stage s's values of the stacked vectors from..from+count−1), c_0's the start's. */
-function valuesOf(p: usize, s: i32, from: i32, count: i32, u: usize, scale: f64): void {
+function packValues(p: usize, s: i32, from: i32, count: i32, xp: usize, slot: i32, inputs: i32, scale: f64): void {
   const n = <i32>oget(p, O_D), mm = <i32>oget(p, O_M), rr = <i32>oget(p, O_R);
   const column = <usize>n << 4, v = <usize>mm * column, bytes = <usize>(rr + 1) * v;
   const stages = <usize>oget(p, O_STAGES), y0 = <usize>oget(p, O_Y0), z = <usize>oget(p, O_Z);
   const h = load<f64>(p + (O_H << 3)), phase = <usize>oget(p, O_PH) + <usize>s * column;
-  let first = from, to = u;
+  let first = from, to = slot;
   if (from == 0 || s == 0) {
     // c_0's values (all of them at stage 0) are the start's
     const start = s == 0 ? count : 1;
-    for (let b = 0; b < start * mm; b++) {
-      phaseIn(to + <usize>b * column, y0 + <usize>from * v + <usize>b * column, n, phase, scale);
-    }
+    phasePack(xp, to, inputs, y0 + <usize>from * v, start * mm, n, phase, scale);
     first += start;
-    to += <usize>start * v;
+    to += start * mm;
   }
   const rest = from + count - first;
   if (rest <= 0) return;
-  const off = <usize>first * v, entries = <usize>rest * <usize>mm * <usize>n;
-  stageSum(z + off, y0 + off, entries, h, SUM_A, s, s, bytes, off, stages);
-  for (let b = 0; b < rest * mm; b++) phaseIn(to + <usize>b * column, z + off + <usize>b * column, n, phase, scale);
+  const off = <usize>first * v;
+  stageSum(z + off, y0 + off, <usize>rest * <usize>mm * <usize>n, h, SUM_A, s, s, bytes, off, stages);
+  phasePack(xp, to, inputs, z + off, rest * mm, n, phase, scale);
+}
+
+/**
+ * Slots slot…slot+count−1 of a packed product of `inputs` d-vectors (see packRows) ← scale·conj(p)∘src_b for the
+ * d-vectors src_b one after another at src (the operations of phaseIn, so the same values as phasing, then packing).
+ */
+function phasePack(xp: usize, slot: i32, inputs: i32, src: usize, count: i32, n: i32, ph: usize, scale: f64): void {
+  const rp = (inputs + 1) & ~1, per = <usize>rp << 4, half = <usize>rp << 3, column = <usize>n << 4;
+  // an odd count's last vector sits alone, as (re, im) in its pair's real slot
+  const lone = (inputs & 1) != 0 && slot + count == inputs, paired = lone ? count - 1 : count;
+  const flip = f64x2(scale, -scale), sc = f64x2.splat(scale), to = xp + (<usize>slot << 3);
+  for (let a = 0; a < n; a++) {
+    const o = <usize>a << 4, q = v128.load(ph + o), row = to + <usize>a * per;
+    const pr = f64x2.mul(v128.shuffle<f64>(q, q, 0, 0), sc), pi = f64x2.mul(v128.shuffle<f64>(q, q, 1, 1), flip);
+    let from = src + o;
+    for (let b = 0; b < paired; b++) {
+      const x = v128.load(from), u = f64x2.add(f64x2.mul(pr, x), f64x2.mul(pi, v128.shuffle<f64>(x, x, 1, 0)));
+      const at = row + (<usize>b << 3);
+      store<f64>(at, f64x2.extract_lane(u, 0));
+      store<f64>(at + half, f64x2.extract_lane(u, 1));
+      from += column;
+    }
+    if (lone) {
+      const x = v128.load(from);
+      v128.store(row + (<usize>paired << 3), f64x2.add(f64x2.mul(pr, x), f64x2.mul(pi, v128.shuffle<f64>(x, x, 1, 0))));
+    }
+  }
 }
 
 /**
