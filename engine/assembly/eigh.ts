@@ -17,13 +17,13 @@ import { arg, blockSize, runShared, setArg, sharing } from "./share";
 @inline function im(p: usize): f64 { return load<f64>(p, 8); }
 @inline function at(m: usize, n: i32, i: i32, j: i32): usize { return m + ((<usize>i * n + j) << 4); }
 
-/** Bytes of work space {@link eigh} and {@link eigenvaluesOnly} need per level (16n f64). */
-export const EIGH_WORK_BYTES_PER_LEVEL: i32 = 128;
+/** Bytes of work space {@link eigh} and {@link eigenvaluesOnly} need per level (22n f64). */
+export const EIGH_WORK_BYTES_PER_LEVEL: i32 = 176;
 
 /**
  * Eigen-decomposition A = Z·diag(w)·Z† of a Hermitian n×n matrix.
  * A is destroyed. w: n f64 (ascending). Z: n×n complex, column k is the
- * eigenvector of w[k]. work: at least 16n f64. Returns 0, or 1 when the QL
+ * eigenvector of w[k]. work: at least 22n f64. Returns 0, or 1 when the QL
  * iteration did not converge.
  */
 export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
@@ -70,14 +70,14 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
   // The eigenvectors of A are H_0⋯H_{n−3}·D·q_c (q_c row c of Qᵀ): each row of Qᵀ becomes D·q_c in place (complex,
   // filling all of A), then takes the reflectors, and Z is the transpose.
   phaseRows(a, n, p);
-  backTransform(a, n, packed, taus);
+  backTransform(a, n, packed, taus, z);
   transposeInto(z, a, n);
   return 0;
 }
 
 /**
  * Eigenvalues only (ascending, into w) of a Hermitian n×n matrix: the same reduction and QL, without
- * eigenvectors (no reflector accumulation, no rotations kept). A is destroyed; work: at least 16n f64. Returns 0,
+ * eigenvectors (no reflector accumulation, no rotations kept). A is destroyed; work: at least 22n f64. Returns 0,
  * or 1 when the QL iteration did not converge.
  */
 export function eigenvaluesOnly(a: usize, n: i32, w: usize, work: usize): i32 {
@@ -103,7 +103,7 @@ export function eigenvaluesOnly(a: usize, n: i32, w: usize, work: usize): i32 {
 
 /**
  * The Householder reduction: A's diagonal and the complex subdiagonal (sub) of the tridiagonal, the reflectors'
- * vectors in A's columns and their factors in taus (v, p: n complex each; pending: 4n complex, scratch). Only A's
+ * vectors in A's columns and their factors in taus (v, p: n complex each; pending: 7n complex, scratch). Only A's
  * lower triangle is read and kept up to date (A is Hermitian): each of its entries serves two products, its row's
  * and, conjugated, its column's.
  *
@@ -117,9 +117,10 @@ function tridiagonalize(a: usize, n: i32, v: usize, p: usize, sub: usize, taus: 
   // update not yet applied
   let vq = pending, wq = pending + (<usize>n << 4), cv = v, cp = p;
   const scatter = pending + (<usize>n << 5); // 2n complex: the column products of the two halves of a step
+  const triples = pending + (<usize>n << 6); // 3n complex: each step's (wq_i, vq_i, v_i) side by side
   for (let k = 0; k < n - 2; k++) {
     if (k > 0) lateUpdate(a, n, k, vq, wq, k, k + 1); // column k, rows k..
-    reduceColumn(a, n, k, cv, cp, sub, taus, vq, wq, k > 0, scatter);
+    reduceColumn(a, n, k, cv, cp, sub, taus, vq, wq, k > 0, scatter, triples);
     const tv = vq, tw = wq;
     vq = cv;
     wq = cp;
@@ -162,7 +163,7 @@ export const JOB_MATVEC_ROWS = 5;
  */
 function reduceColumn(
   a: usize, n: i32, k: i32, v: usize, p: usize, sub: usize, taus: usize, vq: usize, wq: usize, late: bool,
-  scatter: usize,
+  scatter: usize, triples: usize,
 ): void {
   let xnorm2 = 0.0;
   for (let i = k + 1; i < n; i++) {
@@ -198,21 +199,28 @@ function reduceColumn(
   const first = scatter, second = scatter + (<usize>n << 4), bytes = <usize>(n - k - 1) << 4;
   memory.fill(first + (<usize>(k + 1) << 4), 0, bytes);
   memory.fill(second + (<usize>(k + 1) << 4), 0, bytes);
+  // (wq_i, vq_i, v_i) side by side, so that one index reaches the three in the pass below
+  for (let i = k + 1; i < n; i++) {
+    const o = <usize>i << 4, t = triples + <usize>i * 48;
+    if (late) {
+      v128.store(t, v128.load(wq + o));
+      v128.store(t, v128.load(vq + o), 16);
+    }
+    v128.store(t, v128.load(v + o), 32);
+  }
   const pairs = (n - k) >> 1, half = (pairs + 1) >> 1;
   if (sharing() && n - k - 1 >= EIGH_SHARE_FROM) {
     // (the argument slots only once a helper has joined: its instance may still write them before)
     setArg(0, <u64>a);
     setArg(1, <u64>n | (<u64>k << 32));
-    setArg(2, <u64>v);
+    setArg(2, <u64>triples);
     setArg(3, <u64>p);
     setArg(4, <u64>first | (<u64>second << 32));
-    setArg(5, <u64>vq);
-    setArg(6, <u64>wq);
-    setArg(7, late ? 1 : 0);
+    setArg(5, late ? 1 : 0);
     runShared(JOB_MATVEC_ROWS, 0, pairs, half, matvecRowsJob);
   } else {
-    matvecPairs(a, n, k, v, p, vq, wq, late, 0, half, first);
-    if (half < pairs) matvecPairs(a, n, k, v, p, vq, wq, late, half, pairs, second);
+    matvecPairs(a, n, k, triples, p, late, 0, half, first);
+    if (half < pairs) matvecPairs(a, n, k, triples, p, late, half, pairs, second);
   }
   let beta = 0.0;
   for (let i = k + 1; i < n; i++) {
@@ -243,28 +251,27 @@ function reduceColumn(
 /**
  * Rows i0…i1−1 of the trailing block's lower triangle (columns k+1…i): with `late`, A22 −= vq wq† + wq vq† first;
  * then the row products Σ_{j≤i} a_ij·v_j into p_i, and the column products conj(a_ij)·v_i (j < i) added to
- * scatter_j (A22 = A22†: together they make A22·v).
+ * scatter_j (A22 = A22†: together they make A22·v). triples: (wq_j, vq_j, v_j) at 48j.
  */
 function matvecRows(
-  a: usize, n: i32, k: i32, v: usize, p: usize, vq: usize, wq: usize, late: bool, i0: i32, i1: i32,
-  scatter: usize,
+  a: usize, n: i32, k: i32, triples: usize, p: usize, late: bool, i0: i32, i1: i32, scatter: usize,
 ): void {
   const flip = f64x2(-1.0, 1.0);
   for (let i = i0; i < i1; i++) {
     // (A22·v)_i two lanes at a time: Σ a·vr + swap(a)·vi, then (re − im', im + re') from the two sums
     let accA = f64x2.splat(0), accB = f64x2.splat(0);
     // conj(a)·v_i = a⊙(vr, −vr) + swap(a)⊙(vi, vi)
-    const x = v + (<usize>i << 4);
+    const own = triples + <usize>i * 48, x = own + 32;
     const s1 = f64x2(re(x), -re(x)), s2 = f64x2.splat(im(x));
-    const row = at(a, n, i, 0);
+    const row = at(a, n, i, 0), start = <usize>(k + 1) << 4, diagonal = row + (<usize>i << 4);
+    let q = row + start, c = scatter + start, t = triples + <usize>(k + 1) * 48;
     if (late) {
       // vq_i·conj(wq_j) = (vr, −vr)⊙wq_j + (vi, vi)⊙swap(wq_j), and likewise wq_i·conj(vq_j)
-      const vi = vq + (<usize>i << 4), wi = wq + (<usize>i << 4);
+      const vi = own + 16, wi = own;
       const c1 = f64x2(re(vi), -re(vi)), c2 = f64x2.splat(im(vi));
       const d1 = f64x2(re(wi), -re(wi)), d2 = f64x2.splat(im(wi));
-      for (let j = k + 1; j <= i; j++) {
-        const o = <usize>j << 4;
-        const wj = v128.load(wq + o), vj = v128.load(vq + o), q = row + o;
+      for (;; q += 16, c += 16, t += 48) {
+        const wj = v128.load(t), vj = v128.load(t, 16);
         let m = v128.load(q);
         m = nmadd(c1, wj, m);
         m = nmadd(c2, v128.shuffle<f64>(wj, wj, 1, 0), m);
@@ -272,23 +279,18 @@ function matvecRows(
         m = nmadd(d2, v128.shuffle<f64>(vj, vj, 1, 0), m);
         v128.store(q, m);
         const w = v128.shuffle<f64>(m, m, 1, 0);
-        accA = madd(m, v128.load64_splat(v + o), accA);
-        accB = madd(w, v128.load64_splat(v + o, 8), accB);
-        if (j < i) {
-          const c = scatter + o;
-          v128.store(c, madd(w, s2, madd(m, s1, v128.load(c))));
-        }
+        accA = madd(m, v128.load64_splat(t, 32), accA);
+        accB = madd(w, v128.load64_splat(t, 40), accB);
+        if (q == diagonal) break;
+        v128.store(c, madd(w, s2, madd(m, s1, v128.load(c))));
       }
     } else {
-      for (let j = k + 1; j <= i; j++) {
-        const o = <usize>j << 4;
-        const m = v128.load(row + o), w = v128.shuffle<f64>(m, m, 1, 0);
-        accA = madd(m, v128.load64_splat(v + o), accA);
-        accB = madd(w, v128.load64_splat(v + o, 8), accB);
-        if (j < i) {
-          const c = scatter + o;
-          v128.store(c, madd(w, s2, madd(m, s1, v128.load(c))));
-        }
+      for (;; q += 16, c += 16, t += 48) {
+        const m = v128.load(q), w = v128.shuffle<f64>(m, m, 1, 0);
+        accA = madd(m, v128.load64_splat(t, 32), accA);
+        accB = madd(w, v128.load64_splat(t, 40), accB);
+        if (q == diagonal) break;
+        v128.store(c, madd(w, s2, madd(m, s1, v128.load(c))));
       }
     }
     const sum = f64x2.add(accA, f64x2.mul(accB, flip));
@@ -302,18 +304,18 @@ function matvecRows(
  */
 export function matvecRowsJob(t0: i32, t1: i32): void {
   const nk = arg(1), buffers = arg(4);
-  matvecPairs(<usize>arg(0), <i32>(nk & 0xffffffff), <i32>(nk >> 32), <usize>arg(2), <usize>arg(3), <usize>arg(5),
-    <usize>arg(6), arg(7) != 0, t0, t1, <usize>(t0 == 0 ? buffers & 0xffffffff : buffers >> 32));
+  matvecPairs(<usize>arg(0), <i32>(nk & 0xffffffff), <i32>(nk >> 32), <usize>arg(2), <usize>arg(3), arg(5) != 0,
+    t0, t1, <usize>(t0 == 0 ? buffers & 0xffffffff : buffers >> 32));
 }
 
 /** Pairs t0…t1−1 of a reduction step (see {@link matvecRowsJob}), their column products into `scatter`. */
 function matvecPairs(
-  a: usize, n: i32, k: i32, v: usize, p: usize, vq: usize, wq: usize, late: bool, t0: i32, t1: i32, scatter: usize,
+  a: usize, n: i32, k: i32, triples: usize, p: usize, late: bool, t0: i32, t1: i32, scatter: usize,
 ): void {
   for (let t = t0; t < t1; t++) {
     const short = k + 1 + t, long = n - 1 - t;
-    matvecRows(a, n, k, v, p, vq, wq, late, short, short + 1, scatter);
-    if (long != short) matvecRows(a, n, k, v, p, vq, wq, late, long, long + 1, scatter);
+    matvecRows(a, n, k, triples, p, late, short, short + 1, scatter);
+    if (long != short) matvecRows(a, n, k, triples, p, late, long, long + 1, scatter);
   }
 }
 
@@ -361,48 +363,75 @@ function transposeInto(dst: usize, src: usize, n: i32): void {
   }
 }
 
-/** Rows 0…n−1 of zt (n complex each) ← H_0⋯H_{n−3}·row, shared with the helper from {@link EIGH_SHARE_FROM} on. */
-function backTransform(zt: usize, n: i32, packed: usize, taus: usize): void {
+/**
+ * Rows 0…n−1 of zt (n complex each) ← H_0⋯H_{n−3}·row, shared with the helper from {@link EIGH_SHARE_FROM} on;
+ * scratch: room for eight groups of four rows (512n bytes; Z's first half, free until the end).
+ */
+function backTransform(zt: usize, n: i32, packed: usize, taus: usize, scratch: usize): void {
   if (sharing() && n >= EIGH_SHARE_FROM) {
     setArg(0, <u64>zt);
     setArg(1, <u64>n);
     setArg(2, <u64>packed);
     setArg(3, <u64>taus);
+    setArg(4, <u64>scratch);
     runShared(JOB_REFLECT_VECTORS, 0, n, blockSize(n, 8, 4), reflectVectorsJob);
     return;
   }
-  reflectVectors(zt, n, packed, taus, 0, n);
+  reflectVectors(zt, n, packed, taus, 0, n, scratch);
 }
 
-/** Blocks of {@link backTransform}. */
+/** Blocks of {@link backTransform}, each with its own group's room in the scratch (at most eight blocks). */
 export function reflectVectorsJob(c0: i32, c1: i32): void {
-  reflectVectors(<usize>arg(0), <i32>arg(1), <usize>arg(2), <usize>arg(3), c0, c1);
+  const n = <i32>arg(1), block = <usize>(c0 / blockSize(n, 8, 4));
+  reflectVectors(<usize>arg(0), n, <usize>arg(2), <usize>arg(3), c0, c1, <usize>arg(4) + block * (<usize>n << 6));
 }
 
-/** Rows c0…c1−1 of zt ← H_0⋯H_{n−3}·row (H_k = I − τ_k v_k v_k†), four rows at a time. */
-function reflectVectors(zt: usize, n: i32, packed: usize, taus: usize, c0: i32, c1: i32): void {
+/**
+ * Rows c0…c1−1 of zt ← H_0⋯H_{n−3}·row (H_k = I − τ_k v_k v_k†), four rows at a time, in `group` (64n bytes):
+ * the four rows' entries side by side there (one index reaches all four), then back in their rows.
+ */
+function reflectVectors(zt: usize, n: i32, packed: usize, taus: usize, c0: i32, c1: i32, group: usize): void {
   const stride = <usize>n << 4;
   let c = c0;
-  for (; c + 4 <= c1; c += 4) reflectFour(zt + <usize>c * stride, stride, n, packed, taus);
+  // (below 8 levels the group would not fit in Z's first half: one row at a time)
+  for (; n >= 8 && c + 4 <= c1; c += 4) {
+    const row = zt + <usize>c * stride;
+    for (let i = 0; i < n; i++) {
+      const o = <usize>i << 4, g = group + (<usize>i << 6);
+      v128.store(g, v128.load(row + o));
+      v128.store(g, v128.load(row + stride + o), 16);
+      v128.store(g, v128.load(row + 2 * stride + o), 32);
+      v128.store(g, v128.load(row + 3 * stride + o), 48);
+    }
+    reflectFour(group, n, packed, taus);
+    for (let i = 0; i < n; i++) {
+      const o = <usize>i << 4, g = group + (<usize>i << 6);
+      v128.store(row + o, v128.load(g));
+      v128.store(row + stride + o, v128.load(g, 16));
+      v128.store(row + 2 * stride + o, v128.load(g, 32));
+      v128.store(row + 3 * stride + o, v128.load(g, 48));
+    }
+  }
   for (; c < c1; c++) reflectOne(zt + <usize>c * stride, n, packed, taus);
 }
 
 /**
- * Four rows (row0, then `stride` apart) ← H_k·rows for k = n−3 down to 0: with w = v_k†z (Σ conj(v)·z = a +
- * (b_im, −b_re) with a = Σ vr·z, b = Σ vi·z) and u = τ_k·w, z −= v_k·u (v·u = vr·u + vi·(−ui, ur)).
+ * Four vectors (entry i of each side by side at group + 64i) ← H_k·vectors for k = n−3 down to 0: with w = v_k†z
+ * (Σ conj(v)·z = a + (b_im, −b_re) with a = Σ vr·z, b = Σ vi·z) and u = τ_k·w, z −= v_k·u (v·u = vr·u +
+ * vi·(−ui, ur)).
  */
-function reflectFour(row0: usize, stride: usize, n: i32, packed: usize, taus: usize): void {
+function reflectFour(group: usize, n: i32, packed: usize, taus: usize): void {
   const flip = f64x2(1.0, -1.0), turn = f64x2(-1.0, 1.0);
-  const row1 = row0 + stride, row2 = row1 + stride, row3 = row2 + stride;
   for (let k = n - 3; k >= 0; k--) {
     const tau = load<f64>(taus + (<usize>k << 3));
     if (tau == 0.0) continue;
-    const v = packed + (reflectorStart(n, k) << 4), first = <usize>(k + 1) << 4, end = <usize>(n - k - 1) << 4;
+    const v = packed + (reflectorStart(n, k) << 4), end = v + (<usize>(n - k - 1) << 4);
+    const first = group + (<usize>(k + 1) << 6);
     let a0 = f64x2.splat(0), b0 = f64x2.splat(0), a1 = f64x2.splat(0), b1 = f64x2.splat(0);
     let a2 = f64x2.splat(0), b2 = f64x2.splat(0), a3 = f64x2.splat(0), b3 = f64x2.splat(0);
-    for (let o: usize = 0; o < end; o += 16) {
-      const vr = v128.load64_splat(v + o), vi = v128.load64_splat(v + o, 8), off = first + o;
-      const z0 = v128.load(row0 + off), z1 = v128.load(row1 + off), z2 = v128.load(row2 + off), z3 = v128.load(row3 + off);
+    for (let q = v, z = first; q < end; q += 16, z += 64) {
+      const vr = v128.load64_splat(q), vi = v128.load64_splat(q, 8);
+      const z0 = v128.load(z), z1 = v128.load(z, 16), z2 = v128.load(z, 32), z3 = v128.load(z, 48);
       a0 = madd(vr, z0, a0);
       b0 = madd(vi, z0, b0);
       a1 = madd(vr, z1, a1);
@@ -420,12 +449,12 @@ function reflectFour(row0: usize, stride: usize, n: i32, packed: usize, taus: us
     const u3 = f64x2.mul(t, madd(v128.shuffle<f64>(b3, b3, 1, 0), flip, a3));
     const s0 = f64x2.mul(v128.shuffle<f64>(u0, u0, 1, 0), turn), s1 = f64x2.mul(v128.shuffle<f64>(u1, u1, 1, 0), turn);
     const s2 = f64x2.mul(v128.shuffle<f64>(u2, u2, 1, 0), turn), s3 = f64x2.mul(v128.shuffle<f64>(u3, u3, 1, 0), turn);
-    for (let o: usize = 0; o < end; o += 16) {
-      const vr = v128.load64_splat(v + o), vi = v128.load64_splat(v + o, 8), off = first + o;
-      v128.store(row0 + off, nmadd(vi, s0, nmadd(vr, u0, v128.load(row0 + off))));
-      v128.store(row1 + off, nmadd(vi, s1, nmadd(vr, u1, v128.load(row1 + off))));
-      v128.store(row2 + off, nmadd(vi, s2, nmadd(vr, u2, v128.load(row2 + off))));
-      v128.store(row3 + off, nmadd(vi, s3, nmadd(vr, u3, v128.load(row3 + off))));
+    for (let q = v, z = first; q < end; q += 16, z += 64) {
+      const vr = v128.load64_splat(q), vi = v128.load64_splat(q, 8);
+      v128.store(z, nmadd(vi, s0, nmadd(vr, u0, v128.load(z))));
+      v128.store(z, nmadd(vi, s1, nmadd(vr, u1, v128.load(z, 16))), 16);
+      v128.store(z, nmadd(vi, s2, nmadd(vr, u2, v128.load(z, 32))), 32);
+      v128.store(z, nmadd(vi, s3, nmadd(vr, u3, v128.load(z, 48))), 48);
     }
   }
 }
