@@ -17,13 +17,13 @@ import { arg, blockSize, runShared, setArg, sharing } from "./share";
 @inline function im(p: usize): f64 { return load<f64>(p, 8); }
 @inline function at(m: usize, n: i32, i: i32, j: i32): usize { return m + ((<usize>i * n + j) << 4); }
 
-/** Bytes of work space {@link eigh} and {@link eigenvaluesOnly} need per level (22n f64). */
-export const EIGH_WORK_BYTES_PER_LEVEL: i32 = 176;
+/** Bytes of work space {@link eigh} and {@link eigenvaluesOnly} need per level (26n f64). */
+export const EIGH_WORK_BYTES_PER_LEVEL: i32 = 208;
 
 /**
  * Eigen-decomposition A = Z·diag(w)·Z† of a Hermitian n×n matrix.
  * A is destroyed. w: n f64 (ascending). Z: n×n complex, column k is the
- * eigenvector of w[k]. work: at least 22n f64. Returns 0, or 1 when the QL
+ * eigenvector of w[k]. work: at least 26n f64. Returns 0, or 1 when the QL
  * iteration did not converge.
  */
 export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
@@ -77,7 +77,7 @@ export function eigh(a: usize, n: i32, w: usize, z: usize, work: usize): i32 {
 
 /**
  * Eigenvalues only (ascending, into w) of a Hermitian n×n matrix: the same reduction and QL, without
- * eigenvectors (no reflector accumulation, no rotations kept). A is destroyed; work: at least 22n f64. Returns 0,
+ * eigenvectors (no reflector accumulation, no rotations kept). A is destroyed; work: at least 26n f64. Returns 0,
  * or 1 when the QL iteration did not converge.
  */
 export function eigenvaluesOnly(a: usize, n: i32, w: usize, work: usize): i32 {
@@ -103,7 +103,7 @@ export function eigenvaluesOnly(a: usize, n: i32, w: usize, work: usize): i32 {
 
 /**
  * The Householder reduction: A's diagonal and the complex subdiagonal (sub) of the tridiagonal, the reflectors'
- * vectors in A's columns and their factors in taus (v, p: n complex each; pending: 7n complex, scratch). Only A's
+ * vectors in A's columns and their factors in taus (v, p: n complex each; pending: 9n complex, scratch). Only A's
  * lower triangle is read and kept up to date (A is Hermitian): each of its entries serves two products, its row's
  * and, conjugated, its column's.
  *
@@ -116,8 +116,9 @@ function tridiagonalize(a: usize, n: i32, v: usize, p: usize, sub: usize, taus: 
   // this step's (v, p) and the last step's (vq, wq) swap buffers every step; from step 1 on, (vq, wq) holds an
   // update not yet applied
   let vq = pending, wq = pending + (<usize>n << 4), cv = v, cp = p;
-  const scatter = pending + (<usize>n << 5); // 2n complex: the column products of the two halves of a step
-  const triples = pending + (<usize>n << 6); // 3n complex: each step's (wq_i, vq_i, v_i) side by side
+  // MATVEC_PARTS × n complex: the column products of each part of a step; then 3n complex: each step's
+  // (wq_i, vq_i, v_i) side by side
+  const scatter = pending + (<usize>n << 5), triples = scatter + <usize>MATVEC_PARTS * (<usize>n << 4);
   for (let k = 0; k < n - 2; k++) {
     if (k > 0) lateUpdate(a, n, k, vq, wq, k, k + 1); // column k, rows k..
     reduceColumn(a, n, k, cv, cp, sub, taus, vq, wq, k > 0, scatter, triples);
@@ -155,6 +156,8 @@ const EIGH_SHARE_FROM = 96;
 export const JOB_REFLECT_VECTORS = 2;
 export const JOB_LOG_ROWS = 4;
 export const JOB_MATVEC_ROWS = 5;
+/** Parts of each reduction step's rows (claimed by either thread), each with its own column products. */
+const MATVEC_PARTS = 4;
 
 /**
  * Step k of the reduction: the reflector I − τvv† that zeroes column k below the subdiagonal, kept in A's column
@@ -192,13 +195,11 @@ function reduceColumn(
     store<f64>(v0, im(v0) - ali, 8);
     tau = 2.0 / (2.0 * xnorm * (xnorm + ax0));
   }
-  // p = τ·A22·v (A22 brought up to date on the way): the row products in p, the column products in two scatter
-  // buffers, one for each half of the step's rows (the same halves and order whichever thread takes them: the
-  // sums never depend on the helper), added at the end; then β = (τ/2)·v†p. The rows go in pairs, a short one and
-  // a long one (k+1+t and n−1−t: n−k entries of the triangle each), so that the halves are equal work.
-  const first = scatter, second = scatter + (<usize>n << 4), bytes = <usize>(n - k - 1) << 4;
-  memory.fill(first + (<usize>(k + 1) << 4), 0, bytes);
-  memory.fill(second + (<usize>(k + 1) << 4), 0, bytes);
+  // p = τ·A22·v (A22 brought up to date on the way): the row products in p, the column products in a scatter
+  // buffer for each of MATVEC_PARTS parts of the step's rows (the same parts and order whichever thread takes
+  // them: the sums never depend on the helper), added at the end; then β = (τ/2)·v†p. The rows go in pairs, a short
+  // one and a long one (k+1+t and n−1−t: n−k entries of the triangle each), so that the parts are equal work; the
+  // parts are small enough that a slower thread takes fewer of them.
   // (wq_i, vq_i, v_i) side by side, so that one index reaches the three in the pass below
   for (let i = k + 1; i < n; i++) {
     const o = <usize>i << 4, t = triples + <usize>i * 48;
@@ -208,24 +209,34 @@ function reduceColumn(
     }
     v128.store(t, v128.load(v + o), 32);
   }
-  const pairs = (n - k) >> 1, half = (pairs + 1) >> 1;
+  const pairs = (n - k) >> 1, size = (pairs + MATVEC_PARTS - 1) / MATVEC_PARTS;
   if (sharing() && n - k - 1 >= EIGH_SHARE_FROM) {
     // (the argument slots only once a helper has joined: its instance may still write them before)
     setArg(0, <u64>a);
     setArg(1, <u64>n | (<u64>k << 32));
     setArg(2, <u64>triples);
     setArg(3, <u64>p);
-    setArg(4, <u64>first | (<u64>second << 32));
+    setArg(4, <u64>scatter);
     setArg(5, late ? 1 : 0);
-    runShared(JOB_MATVEC_ROWS, 0, pairs, half, matvecRowsJob);
+    setArg(6, <u64>size);
+    runShared(JOB_MATVEC_ROWS, 0, pairs, size, matvecRowsJob);
   } else {
-    matvecPairs(a, n, k, triples, p, late, 0, half, first);
-    if (half < pairs) matvecPairs(a, n, k, triples, p, late, half, pairs, second);
+    for (let t = 0; t < pairs; t += size) {
+      matvecPairs(a, n, k, triples, p, late, t, min(t + size, pairs), scatter + <usize>(t / size) * (<usize>n << 4));
+    }
   }
+  // the parts' column products, in the parts' order (the sums never depend on which thread took which part)
+  const used = (pairs + size - 1) / size, entries = <usize>(n - k - 1) << 4, from = <usize>(k + 1) << 4;
+  for (let b = used; b < MATVEC_PARTS; b++) memory.fill(scatter + <usize>b * (<usize>n << 4) + from, 0, entries);
   let beta = 0.0;
   for (let i = k + 1; i < n; i++) {
-    const o = p + (<usize>i << 4), vi = v + (<usize>i << 4), c = first + (<usize>i << 4), h = second + (<usize>i << 4);
-    const pr = tau * (re(o) + re(c) + re(h)), pi = tau * (im(o) + im(c) + im(h));
+    const o = p + (<usize>i << 4), vi = v + (<usize>i << 4), c = scatter + (<usize>i << 4), part = <usize>n << 4;
+    let sr = re(o), si = im(o);
+    for (let b = 0; b < MATVEC_PARTS; b++) {
+      sr += re(c + <usize>b * part);
+      si += im(c + <usize>b * part);
+    }
+    const pr = tau * sr, pi = tau * si;
     store<f64>(o, pr);
     store<f64>(o, pi, 8);
     beta += re(vi) * pr + im(vi) * pi;
@@ -300,18 +311,22 @@ function matvecRows(
 
 /**
  * Pairs t0…t1−1 of a reduction step (arguments as {@link reduceColumn} posts them): rows k+1+t and n−1−t, their
- * column products into the first scatter buffer for the first half (t0 = 0), else the second.
+ * column products into their part's scatter buffer.
  */
 export function matvecRowsJob(t0: i32, t1: i32): void {
-  const nk = arg(1), buffers = arg(4);
-  matvecPairs(<usize>arg(0), <i32>(nk & 0xffffffff), <i32>(nk >> 32), <usize>arg(2), <usize>arg(3), arg(5) != 0,
-    t0, t1, <usize>(t0 == 0 ? buffers & 0xffffffff : buffers >> 32));
+  const nk = arg(1), n = <i32>(nk & 0xffffffff), part = <usize>(t0 / <i32>arg(6));
+  matvecPairs(<usize>arg(0), n, <i32>(nk >> 32), <usize>arg(2), <usize>arg(3), arg(5) != 0, t0, t1,
+    <usize>arg(4) + part * (<usize>n << 4));
 }
 
-/** Pairs t0…t1−1 of a reduction step (see {@link matvecRowsJob}), their column products into `scatter`. */
+/**
+ * Pairs t0…t1−1 of a reduction step (see {@link matvecRowsJob}), their column products into `scatter`, which is
+ * zeroed first (by the thread that takes the pairs: its lines then start in that thread's cache).
+ */
 function matvecPairs(
   a: usize, n: i32, k: i32, triples: usize, p: usize, late: bool, t0: i32, t1: i32, scatter: usize,
 ): void {
+  memory.fill(scatter + (<usize>(k + 1) << 4), 0, <usize>(n - k - 1) << 4);
   for (let t = t0; t < t1; t++) {
     const short = k + 1 + t, long = n - 1 - t;
     matvecRows(a, n, k, triples, p, late, short, short + 1, scatter);
@@ -682,13 +697,13 @@ export function setInverseIterationExtraSteps(k: i32): void { extraSteps = k; }
 
 /**
  * Eigenvalues (into w, unsorted across blocks) and eigenvectors (rows of qt, n×n, each nonzero on its block only)
- * of the real symmetric tridiagonal (w = diagonal, e = subdiagonal). scratch: at least 9n f64. Returns false,
+ * of the real symmetric tridiagonal (w = diagonal, e = subdiagonal). scratch: at least 15n + 16 f64. Returns false,
  * with w and e as they were, when the QL iteration does not converge or a check fails.
  */
 function inverseIteration(w: usize, e: usize, n: i32, qt: usize, scratch: usize): bool {
   const nb = <usize>n << 3;
   const dd = scratch, ee = dd + nb, dl = ee + nb, dg = dl + nb, du = dg + nb, du2 = du + nb, piv = du2 + nb;
-  const x = piv + nb, res = x + nb;
+  const x = piv + nb, res = x + nb, second = res + nb; // second: the helper's share's scratch and the parameters
   memory.copy(dd, w, nb);
   memory.copy(ee, e, nb);
   memory.fill(qt, 0, <usize>n * nb);
@@ -717,7 +732,7 @@ function inverseIteration(w: usize, e: usize, n: i32, qt: usize, scratch: usize)
           dset(wb, j + 1, v);
         }
         ok = blockVectors(dd + (<usize>b << 3), ee + (<usize>b << 3), wb, m, qt + <usize>b * nb + (<usize>b << 3), nb,
-          dl, dg, du, du2, piv, x, res);
+          dl, res, second);
       }
     }
     b = c + 1;
@@ -731,26 +746,88 @@ function inverseIteration(w: usize, e: usize, n: i32, qt: usize, scratch: usize)
 
 /**
  * The eigenvectors of one unreduced block (diagonal d, coupling f, m entries; eigenvalues lam ascending) into the
- * rows of q (row stride qs bytes, the block's first column at q), then their checks. Scratch: dl, dg, du, du2,
- * piv, x, res (m f64 each).
+ * rows of q (row stride qs bytes, the block's first column at q), then their checks. Scratch: six arrays of m f64
+ * from `own` (one after another), res (m f64), and `second` (6m + 16 f64: the helper's share).
+ *
+ * Vectors of different clusters are independent: from {@link EIGH_SHARE_FROM} entries the vectors are split at the
+ * cluster boundary nearest the middle, the two ranges taken by either thread, the second range's random starts
+ * the draws one range would have made there (so the vectors do not depend on the split or on the helper).
  */
 function blockVectors(
-  d: usize, f: usize, lam: usize, m: i32, q: usize, qs: usize,
-  dl: usize, dg: usize, du: usize, du2: usize, piv: usize, x: usize, res: usize,
+  d: usize, f: usize, lam: usize, m: i32, q: usize, qs: usize, own: usize, res: usize, second: usize,
 ): bool {
-  const eps = f64.EPSILON;
   let onenrm = 0.0;
   for (let i = 0; i < m; i++) {
     const left = i > 0 ? Math.abs(dget(f, i - 1)) : 0.0, right = i < m - 1 ? Math.abs(dget(f, i)) : 0.0;
     onenrm = max(onenrm, Math.abs(dget(d, i)) + left + right);
   }
+  const ortol = 1e-3 * onenrm;
+  const params = second + (<usize>(6 * m) << 3);
+  store<u64>(params, <u64>d);
+  store<u64>(params, <u64>f, 8);
+  store<u64>(params, <u64>lam, 16);
+  store<u64>(params, <u64>m, 24);
+  store<u64>(params, <u64>q, 32);
+  store<u64>(params, <u64>qs, 40);
+  store<f64>(params, onenrm, 48);
+  store<u64>(params, <u64>extraSteps, 56);
+  store<u64>(params, <u64>own, 64);
+  store<u64>(params, <u64>second, 72);
+  // the split: a cluster boundary (a gap above ortol) near the middle, none below EIGH_SHARE_FROM entries
+  let split = 0;
+  if (sharing() && m >= EIGH_SHARE_FROM) {
+    for (let t = 0; t < m / 4 && split == 0; t++) {
+      const up = m / 2 + t, down = m / 2 - t;
+      if (dget(lam, up) - dget(lam, up - 1) > ortol) split = up;
+      else if (dget(lam, down) - dget(lam, down - 1) > ortol) split = down;
+    }
+  }
+  if (split == 0) {
+    if (!vectorRange(params, 0, m, own)) return false;
+  } else {
+    store<u64>(params, <u64>split, 80);
+    setArg(0, <u64>params);
+    runShared(JOB_INVERSE_VECTORS, 0, 2, 1, inverseVectorsJob);
+    if (load<u64>(params, 88) != 1 || load<u64>(params, 96) != 1) return false;
+  }
+  return checkBlock(d, f, lam, m, q, qs, onenrm, ortol, res);
+}
+
+export const JOB_INVERSE_VECTORS = 9;
+
+/** Range 0 (vectors 0…split−1) or 1 (split…m−1) of {@link blockVectors}, each with its own scratch. */
+export function inverseVectorsJob(r0: i32, r1: i32): void {
+  const params = <usize>arg(0), m = <i32>load<u64>(params, 24), split = <i32>load<u64>(params, 80);
+  const ok = r0 == 0
+    ? vectorRange(params, 0, split, <usize>load<u64>(params, 64))
+    : vectorRange(params, split, m, <usize>load<u64>(params, 72));
+  store<u64>(params + (r0 == 0 ? 88 : 96), ok ? 1 : 0);
+}
+
+/**
+ * Vectors j0…j1−1 of one block by inverse iteration (the block's parameters at `params`, as {@link blockVectors}
+ * stores them; j0 a cluster's first vector), with six arrays of m f64 scratch from `scratch`.
+ */
+function vectorRange(params: usize, j0: i32, j1: i32, scratch: usize): bool {
+  const d = <usize>load<u64>(params), f = <usize>load<u64>(params, 8), lam = <usize>load<u64>(params, 16);
+  const m = <i32>load<u64>(params, 24), q = <usize>load<u64>(params, 32), qs = <usize>load<u64>(params, 40);
+  const onenrm = load<f64>(params, 48), extra = <i32>load<u64>(params, 56);
+  const mb = <usize>m << 3;
+  const dl = scratch, dg = dl + mb, du = dg + mb, du2 = du + mb, piv = du2 + mb, x = piv + mb;
+  const eps = f64.EPSILON;
   const ortol = 1e-3 * onenrm, growth = Math.sqrt(0.1 / <f64>m), tiny = eps * onenrm;
-  let first = 0; // the current cluster's first vector
+  let first = j0; // the current cluster's first vector
   let shift = 0.0;
+  // the random starts: m draws a vector, from the same seed whatever the range
   let seed: u64 = 0x9e3779b97f4a7c15;
-  for (let j = 0; j < m; j++) {
+  for (let k = 0; k < j0 * m; k++) {
+    seed ^= seed << 13;
+    seed ^= seed >> 7;
+    seed ^= seed << 17;
+  }
+  for (let j = j0; j < j1; j++) {
     let xj = dget(lam, j);
-    if (j > 0) {
+    if (j > j0) {
       if (xj - dget(lam, j - 1) > ortol) first = j;
       // an eigenvalue too close to the last one is moved off it, so that the two factorizations differ
       const pertol = 10.0 * Math.abs(eps * xj);
@@ -801,7 +878,7 @@ function blockVectors(
       dset(x, i, <f64>(seed >> 11) * (2.0 / 9007199254740992.0) - 1.0);
     }
     let checks = 0, converged = false;
-    for (let step = 0; step < MAX_STEPS + extraSteps && !converged; step++) {
+    for (let step = 0; step < MAX_STEPS + extra && !converged; step++) {
       // the right-hand side scaled to m·‖T‖·max(ε, |u_mm|) in the 1-norm: the solution's size then tells convergence
       let sum = 0.0;
       for (let i = 0; i < m; i++) sum += Math.abs(dget(x, i));
@@ -838,7 +915,7 @@ function blockVectors(
       let big = 0.0;
       for (let i = 0; i < m; i++) big = max(big, Math.abs(dget(x, i)));
       if (!isFinite(big)) return false;
-      if (big >= growth && ++checks > extraSteps) converged = true;
+      if (big >= growth && ++checks > extra) converged = true;
     }
     if (!converged) return false;
     // unit length, the largest entry positive
@@ -856,7 +933,7 @@ function blockVectors(
     const row = q + <usize>j * qs;
     for (let i = 0; i < m; i++) dset(row, i, dget(x, i) * scl);
   }
-  return checkBlock(d, f, lam, m, q, qs, onenrm, ortol, res);
+  return true;
 }
 
 /**

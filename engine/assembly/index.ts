@@ -57,6 +57,8 @@ import { awaitJob, blockDone, blockEnd, claim, countHelperBlock, currentJob, job
 import { JOB_PACKED_ROWS, packedRowsJob } from "./kernels";
 import { JOB_ORDERS, JOB_STAGE_PHASES, ordersJob, stagePhasesJob } from "./schemes";
 import {
+  inverseVectorsJob,
+  JOB_INVERSE_VECTORS,
   JOB_LOG_ROWS,
   JOB_MATVEC_ROWS,
   JOB_REFLECT_VECTORS,
@@ -79,6 +81,7 @@ export function helperLoop(): void {
       else if (kind == JOB_MATVEC_ROWS) matvecRowsJob(s, e);
       else if (kind == JOB_STAGE_PHASES) stagePhasesJob(s, e);
       else if (kind == JOB_ORDERS) ordersJob(s, e);
+      else if (kind == JOB_INVERSE_VECTORS) inverseVectorsJob(s, e);
       countHelperBlock();
       blockDone(); // last: the caller may post the next job once every block is done
     }
