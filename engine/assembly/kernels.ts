@@ -199,43 +199,6 @@ export function packedScratchBytes(d: i32, r: i32): usize {
   return single ? madd(mi, x, acc) : madd(mi, x, madd(mr, y, acc));
 }
 
-// One pass over A for four pairs of vectors starting at pair p (8 vectors; 7 when `single`: the last alone).
-@inline function pairs4(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32, single: bool, ph: usize): void {
-  const stride = <usize>d << 4;
-  const off = <usize>p << 4;
-  for (let i = i0; i < i1; i++) {
-    const row = a + <usize>i * stride, phRow: usize = ph == 0 ? 0 : ph + (<usize>i << 4);
-    let r0 = f64x2.splat(0), i0 = f64x2.splat(0), r1 = f64x2.splat(0), i1 = f64x2.splat(0);
-    let r2 = f64x2.splat(0), i2 = f64x2.splat(0), r3 = f64x2.splat(0), i3 = f64x2.splat(0);
-    let base = xp + off;
-    for (let j = 0; j < d; j++) {
-      const m = row + (<usize>j << 4);
-      const mr = v128.load64_splat(m), mi = v128.load64_splat(m, 8);
-      const q = base + half;
-      const x0 = v128.load(base), y0 = v128.load(q);
-      const x1 = v128.load(base, 16), y1 = v128.load(q, 16);
-      const x2 = v128.load(base, 32), y2 = v128.load(q, 32);
-      const x3 = v128.load(base, 48);
-      r0 = nmadd(mi, y0, madd(mr, x0, r0));
-      i0 = madd(mi, x0, madd(mr, y0, i0));
-      r1 = nmadd(mi, y1, madd(mr, x1, r1));
-      i1 = madd(mi, x1, madd(mr, y1, i1));
-      r2 = nmadd(mi, y2, madd(mr, x2, r2));
-      i2 = madd(mi, x2, madd(mr, y2, i2));
-      const y3 = single ? x3 : v128.load(q, 48);
-      r3 = lastRe(single, mr, mi, x3, y3, r3);
-      i3 = lastIm(single, mr, mi, x3, y3, i3);
-      base += per;
-    }
-    const yo = y + (<usize>i << 4);
-    finishPair(r0, i0, yo, 2 * p, r, stride, ar, ai, phRow);
-    finishPair(r1, i1, yo, 2 * p + 2, r, stride, ar, ai, phRow);
-    finishPair(r2, i2, yo, 2 * p + 4, r, stride, ar, ai, phRow);
-    if (single) finishSingle(r3, i3, yo, 2 * p + 6, stride, ar, ai, phRow);
-    else finishPair(r3, i3, yo, 2 * p + 6, r, stride, ar, ai, phRow);
-  }
-}
-
 // One pass over A for two pairs of vectors starting at pair p.
 @inline function pairs2(a: usize, d: i32, xp: usize, per: usize, half: usize, p: i32, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32, single: bool, ph: usize): void {
   const stride = <usize>d << 4;
@@ -429,14 +392,15 @@ export function packRows(x: usize, d: i32, r: i32, xp: usize, j0: i32, j1: i32):
 export function packedRows(a: usize, d: i32, xp: usize, y: usize, r: i32, ar: f64, ai: f64, i0: i32, i1: i32, ph: usize): void {
   const rp = (r + 1) & ~1, pairs = rp >> 1, odd = (r & 1) != 0;
   const per = <usize>rp << 4, half = <usize>rp << 3;
+  // Two pairs for two rows at a time, the last two pairs (or the one left) apart: eight loads (two entries of A,
+  // each split, and four packed) for sixteen multiply-adds, where one row for four pairs (two rows would need 16
+  // registers of sums) took nine loads for seven vectors' fourteen: the same speed on a quiet machine, 6% faster
+  // at d = 64 while the machine is slow on loads (paired runs, 1165 rounds).
   let p = 0;
-  for (; p + 4 <= pairs; p += 4) {
+  for (; p + 2 < pairs; p += 2) pairs2Rows(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, false, ph);
+  if (p + 2 <= pairs) {
     // the group that ends with an odd count's last vector (alone in its pair) takes the single-vector form (two
     // calls, so that each inlined copy has its form fixed at compile time)
-    if (odd && p + 4 == pairs) pairs4(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, true, ph);
-    else pairs4(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, false, ph);
-  }
-  if (p + 2 <= pairs) {
     if (odd && p + 2 == pairs) pairs2Rows(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, true, ph);
     else pairs2Rows(a, d, xp, per, half, p, y, r, ar, ai, i0, i1, false, ph);
     p += 2;
