@@ -20,7 +20,12 @@ import { buildCase } from "../case/build.ts";
 
 const SCRIPT = new URL("../../bench/scipy_dyson.py", import.meta.url).pathname;
 const TARGET = 1e-8;
-const REPEATS = 5;
+/**
+ * Interleaved repetitions of each comparison. This machine's speed swings for seconds at a time (loads above all,
+ * which ordo's 128-bit kernels lean on more than SciPy's BLAS), so each side's best needs enough turns to meet a
+ * quiet moment; both sides get the same turns, and the medians are printed next to the minima.
+ */
+const REPEATS = 10;
 /** The settings tried, loosest first: ordo's accuracies, and ten times them for SciPy's rtol. */
 const LADDER = [1e-4, 3e-5, 1e-5, 3e-6, 1e-6, 3e-7, 1e-7, 3e-8, 1e-8, 3e-9, 1e-9, 3e-10, 1e-10];
 
