@@ -153,6 +153,12 @@ function lateUpdate(a: usize, n: i32, k: i32, vq: usize, wq: usize, j0: i32, j1:
 
 /** Below this dimension the eigensolver works alone (a shared part would cost more than it saves). */
 const EIGH_SHARE_FROM = 96;
+/**
+ * From this dimension the jobs with no step between their blocks (the back-transformation's groups, the two
+ * ranges of the tridiagonal's eigenvectors) are shared: one job each, so worth a helper earlier (not lower: the
+ * back-transformation's eight groups need 512n bytes of Z's first half, 8n²).
+ */
+const EIGH_JOBS_FROM = 64;
 export const JOB_REFLECT_VECTORS = 2;
 export const JOB_LOG_ROWS = 4;
 export const JOB_MATVEC_ROWS = 5;
@@ -379,11 +385,11 @@ function transposeInto(dst: usize, src: usize, n: i32): void {
 }
 
 /**
- * Rows 0…n−1 of zt (n complex each) ← H_0⋯H_{n−3}·row, shared with the helper from {@link EIGH_SHARE_FROM} on;
+ * Rows 0…n−1 of zt (n complex each) ← H_0⋯H_{n−3}·row, shared with the helper from {@link EIGH_JOBS_FROM} on;
  * scratch: room for eight groups of four rows (512n bytes; Z's first half, free until the end).
  */
 function backTransform(zt: usize, n: i32, packed: usize, taus: usize, scratch: usize): void {
-  if (sharing() && n >= EIGH_SHARE_FROM) {
+  if (sharing() && n >= EIGH_JOBS_FROM) {
     setArg(0, <u64>zt);
     setArg(1, <u64>n);
     setArg(2, <u64>packed);
@@ -749,7 +755,7 @@ function inverseIteration(w: usize, e: usize, n: i32, qt: usize, scratch: usize)
  * rows of q (row stride qs bytes, the block's first column at q), then their checks. Scratch: six arrays of m f64
  * from `own` (one after another), res (m f64), and `second` (6m + 16 f64: the helper's share).
  *
- * Vectors of different clusters are independent: from {@link EIGH_SHARE_FROM} entries the vectors are split at the
+ * Vectors of different clusters are independent: from {@link EIGH_JOBS_FROM} entries the vectors are split at the
  * cluster boundary nearest the middle, the two ranges taken by either thread, the second range's random starts
  * the draws one range would have made there (so the vectors do not depend on the split or on the helper).
  */
@@ -773,9 +779,9 @@ function blockVectors(
   store<u64>(params, <u64>extraSteps, 56);
   store<u64>(params, <u64>own, 64);
   store<u64>(params, <u64>second, 72);
-  // the split: a cluster boundary (a gap above ortol) near the middle, none below EIGH_SHARE_FROM entries
+  // the split: a cluster boundary (a gap above ortol) near the middle, none below EIGH_JOBS_FROM entries
   let split = 0;
-  if (sharing() && m >= EIGH_SHARE_FROM) {
+  if (sharing() && m >= EIGH_JOBS_FROM) {
     for (let t = 0; t < m / 4 && split == 0; t++) {
       const up = m / 2 + t, down = m / 2 - t;
       if (dget(lam, up) - dget(lam, up - 1) > ortol) split = up;
