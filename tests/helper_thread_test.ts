@@ -293,6 +293,108 @@ Deno.test("the eigensolver with the helper thread (d = 200): bit-for-bit the one
   }
 });
 
+// A = U·diag(E)·U† with U a product of Householder reflectors H = I − 2vv†/‖v‖² (unitary) has the spectrum E
+// whatever U is (a unitary similarity keeps eigenvalues: common practice).
+function withSpectrum(energies: number[], random: () => number): Float64Array {
+  const d = energies.length, a = new Float64Array(2 * d * d);
+  energies.forEach((e, k) => (a[2 * (k * d + k)] = e));
+  for (let reflector = 0; reflector < 3; reflector++) {
+    const v = Array.from({ length: 2 * d }, () => random() - 0.5);
+    const f = 2 / v.reduce((s, x) => s + x * x, 0);
+    // A ← A − f·v(v†A), then A ← A − f·(Av)v†
+    for (const left of [true, false]) {
+      const w = new Float64Array(2 * d);
+      for (let o = 0; o < d; o++) {
+        for (let i = 0; i < d; i++) {
+          const k = left ? 2 * (i * d + o) : 2 * (o * d + i), ar = a[k]!, ai = a[k + 1]!;
+          const vr = v[2 * i]!, vi = v[2 * i + 1]!;
+          // left: Σ_i conj(v_i)·a_io; right: Σ_i a_oi·v_i
+          w[2 * o] = w[2 * o]! + (left ? vr * ar + vi * ai : ar * vr - ai * vi);
+          w[2 * o + 1] = w[2 * o + 1]! + (left ? vr * ai - vi * ar : ar * vi + ai * vr);
+        }
+      }
+      for (let i = 0; i < d; i++) {
+        for (let o = 0; o < d; o++) {
+          // left: a_io −= f·v_i·w_o; right: a_oi −= f·w_o·conj(v_i)
+          const k = left ? 2 * (i * d + o) : 2 * (o * d + i);
+          const vr = v[2 * i]!,
+            vi = left ? v[2 * i + 1]! : -v[2 * i + 1]!,
+            wr = w[2 * o]!,
+            wi = w[2 * o + 1]!;
+          a[k] = a[k]! - f * (vr * wr - vi * wi);
+          a[k + 1] = a[k + 1]! - f * (vr * wi + vi * wr);
+        }
+      }
+    }
+  }
+  return a;
+}
+
+Deno.test("the eigensolver with the helper on clustered spectra (d = 96, 80): the known eigenvalues, orthonormal vectors, the one-thread bits", async () => {
+  const random = seeded(23);
+  const spread = (count: number, lo: number, hi: number) =>
+    Array.from({ length: count }, (_, k) => lo + (hi - lo) * (k + random()) / count);
+  const cases = [
+    // a twelvefold level across the middle: the tridiagonal's vectors split at a cluster's edge, not inside it
+    {
+      name: "a twelvefold level across the middle (d = 96)",
+      energies: [...spread(42, -5, -1), ...Array(12).fill(0.3), ...spread(42, 1, 5)],
+    },
+    // every level within 1e-4 of the next: one chain of close levels, so no split at all
+    {
+      name: "one chain of close levels (d = 80)",
+      energies: Array.from({ length: 80 }, (_, k) => 1 + 1e-4 * k),
+    },
+  ];
+  const alone = await loadEngine(), shared = await loadEngine(undefined, { helper: true });
+  try {
+    for (const { name, energies } of cases) {
+      const d = energies.length, a = withSpectrum(energies, random);
+      const one = eigh(alone, a, d);
+      // (on a busy machine the helper may miss a run's jobs: the caller then does them all; again until it joins)
+      const before = shared.exports.helperBlocks();
+      let two = eigh(shared, a, d);
+      for (let k = 0; k < 20 && shared.exports.helperBlocks() === before; k++) {
+        assert(
+          one.vectors.every((x, j) => x === two.vectors[j]),
+          `${name}: eigenvectors differ from one thread's`,
+        );
+        two = eigh(shared, a, d);
+      }
+      assert(shared.exports.helperBlocks() > before, `${name}: the helper took no part in 20 runs`);
+      assert(shared.exports.lastEighByInverseIteration() === 1, `${name}: inverse iteration refused`);
+      assert(
+        one.values.every((x, k) => x === two.values[k]),
+        `${name}: eigenvalues differ from one thread's`,
+      );
+      assert(
+        one.vectors.every((x, k) => x === two.vectors[k]),
+        `${name}: eigenvectors differ from one thread's`,
+      );
+      const sorted = energies.slice().sort((x, y) => x - y);
+      sorted.forEach((e, k) => assertClose(two.values[k]!, e, { abs: 1e-12 }, `${name}: eigenvalue ${k}`));
+      assertClose(eigenResidual(a, two.values, two.vectors, d), 0, { abs: 1e-12 }, `${name}: ‖Az − λz‖`);
+      let overlap = 0;
+      for (let k = 0; k < d; k++) {
+        for (let l = k; l < d; l++) {
+          let sr = 0, si = 0;
+          for (let i = 0; i < d; i++) {
+            const xr = two.vectors[2 * (i * d + k)]!, xi = two.vectors[2 * (i * d + k) + 1]!;
+            const yr = two.vectors[2 * (i * d + l)]!, yi = two.vectors[2 * (i * d + l) + 1]!;
+            sr += xr * yr + xi * yi;
+            si += xr * yi - xi * yr;
+          }
+          overlap = Math.max(overlap, Math.hypot(sr - (k === l ? 1 : 0), si));
+        }
+      }
+      assert(overlap < 1e-13, `${name}: Z†Z − I is ${overlap}`);
+    }
+  } finally {
+    alone.close();
+    shared.close();
+  }
+});
+
 Deno.test("the plain build owns its memory (no shared memory needed: Node, browsers); the shared build imports one", async () => {
   const imports = async (name: string) =>
     WebAssembly.Module.imports(
