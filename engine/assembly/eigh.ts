@@ -395,15 +395,20 @@ function backTransform(zt: usize, n: i32, packed: usize, taus: usize, scratch: u
     setArg(2, <u64>packed);
     setArg(3, <u64>taus);
     setArg(4, <u64>scratch);
-    runShared(JOB_REFLECT_VECTORS, 0, n, blockSize(n, 8, 4), reflectVectorsJob);
+    runShared(JOB_REFLECT_VECTORS, 0, n, groupBlock(n), reflectVectorsJob);
     return;
   }
   reflectVectors(zt, n, packed, taus, 0, n, scratch);
 }
 
+/** The back-transformation's blocks of eigenvectors: eighths, a multiple of four (each block has its own group). */
+@inline function groupBlock(n: i32): i32 {
+  return blockSize(n, 8, 4);
+}
+
 /** Blocks of {@link backTransform}, each with its own group's room in the scratch (at most eight blocks). */
 export function reflectVectorsJob(c0: i32, c1: i32): void {
-  const n = <i32>arg(1), block = <usize>(c0 / blockSize(n, 8, 4));
+  const n = <i32>arg(1), block = <usize>(c0 / groupBlock(n));
   reflectVectors(<usize>arg(0), n, <usize>arg(2), <usize>arg(3), c0, c1, <usize>arg(4) + block * (<usize>n << 6));
 }
 
@@ -708,8 +713,8 @@ export function setInverseIterationExtraSteps(k: i32): void { extraSteps = k; }
  */
 function inverseIteration(w: usize, e: usize, n: i32, qt: usize, scratch: usize): bool {
   const nb = <usize>n << 3;
-  const dd = scratch, ee = dd + nb, dl = ee + nb, dg = dl + nb, du = dg + nb, du2 = du + nb, piv = du2 + nb;
-  const x = piv + nb, res = x + nb, second = res + nb; // second: the helper's share's scratch and the parameters
+  // own: the caller's six arrays for inverse iteration; second: the helper's share's scratch and the parameters
+  const dd = scratch, ee = dd + nb, own = ee + nb, res = own + 6 * nb, second = res + nb;
   memory.copy(dd, w, nb);
   memory.copy(ee, e, nb);
   memory.fill(qt, 0, <usize>n * nb);
@@ -738,7 +743,7 @@ function inverseIteration(w: usize, e: usize, n: i32, qt: usize, scratch: usize)
           dset(wb, j + 1, v);
         }
         ok = blockVectors(dd + (<usize>b << 3), ee + (<usize>b << 3), wb, m, qt + <usize>b * nb + (<usize>b << 3), nb,
-          dl, res, second);
+          own, res, second);
       }
     }
     b = c + 1;
@@ -759,6 +764,22 @@ function inverseIteration(w: usize, e: usize, n: i32, qt: usize, scratch: usize)
  * cluster boundary nearest the middle, the two ranges taken by either thread, the second range's random starts
  * the draws one range would have made there (so the vectors do not depend on the split or on the helper).
  */
+// The block's parameters for vectorRange, in 8-byte slots after the helper's scratch (either thread reads them).
+const V_D = 0; // the block's diagonal, coupling, eigenvalues, size, first row of Qᵀ and its row stride
+const V_F = 1;
+const V_LAM = 2;
+const V_M = 3;
+const V_Q = 4;
+const V_QS = 5;
+const V_ONENRM = 6; // (f64)
+const V_EXTRA = 7; // steps after the growth test
+const V_OWN = 8; // each range's scratch
+const V_SECOND = 9;
+const V_SPLIT = 10;
+const V_OK = 11; // each range's result (1: vouched for), two slots
+@inline function vset(p: usize, k: i32, x: u64): void { store<u64>(p + (<usize>k << 3), x); }
+@inline function vget(p: usize, k: i32): u64 { return load<u64>(p + (<usize>k << 3)); }
+
 function blockVectors(
   d: usize, f: usize, lam: usize, m: i32, q: usize, qs: usize, own: usize, res: usize, second: usize,
 ): bool {
@@ -769,16 +790,16 @@ function blockVectors(
   }
   const ortol = 1e-3 * onenrm;
   const params = second + (<usize>(6 * m) << 3);
-  store<u64>(params, <u64>d);
-  store<u64>(params, <u64>f, 8);
-  store<u64>(params, <u64>lam, 16);
-  store<u64>(params, <u64>m, 24);
-  store<u64>(params, <u64>q, 32);
-  store<u64>(params, <u64>qs, 40);
-  store<f64>(params, onenrm, 48);
-  store<u64>(params, <u64>extraSteps, 56);
-  store<u64>(params, <u64>own, 64);
-  store<u64>(params, <u64>second, 72);
+  vset(params, V_D, <u64>d);
+  vset(params, V_F, <u64>f);
+  vset(params, V_LAM, <u64>lam);
+  vset(params, V_M, <u64>m);
+  vset(params, V_Q, <u64>q);
+  vset(params, V_QS, <u64>qs);
+  store<f64>(params + (V_ONENRM << 3), onenrm);
+  vset(params, V_EXTRA, <u64>extraSteps);
+  vset(params, V_OWN, <u64>own);
+  vset(params, V_SECOND, <u64>second);
   // the split: a cluster boundary (a gap above ortol) near the middle, none below EIGH_JOBS_FROM entries
   let split = 0;
   if (sharing() && m >= EIGH_JOBS_FROM) {
@@ -791,10 +812,10 @@ function blockVectors(
   if (split == 0) {
     if (!vectorRange(params, 0, m, own)) return false;
   } else {
-    store<u64>(params, <u64>split, 80);
+    vset(params, V_SPLIT, <u64>split);
     setArg(0, <u64>params);
     runShared(JOB_INVERSE_VECTORS, 0, 2, 1, inverseVectorsJob);
-    if (load<u64>(params, 88) != 1 || load<u64>(params, 96) != 1) return false;
+    if (vget(params, V_OK) != 1 || vget(params, V_OK + 1) != 1) return false;
   }
   return checkBlock(d, f, lam, m, q, qs, onenrm, ortol, res);
 }
@@ -803,11 +824,18 @@ export const JOB_INVERSE_VECTORS = 9;
 
 /** Range 0 (vectors 0…split−1) or 1 (split…m−1) of {@link blockVectors}, each with its own scratch. */
 export function inverseVectorsJob(r0: i32, r1: i32): void {
-  const params = <usize>arg(0), m = <i32>load<u64>(params, 24), split = <i32>load<u64>(params, 80);
+  const params = <usize>arg(0), m = <i32>vget(params, V_M), split = <i32>vget(params, V_SPLIT);
   const ok = r0 == 0
-    ? vectorRange(params, 0, split, <usize>load<u64>(params, 64))
-    : vectorRange(params, split, m, <usize>load<u64>(params, 72));
-  store<u64>(params + (r0 == 0 ? 88 : 96), ok ? 1 : 0);
+    ? vectorRange(params, 0, split, <usize>vget(params, V_OWN))
+    : vectorRange(params, split, m, <usize>vget(params, V_SECOND));
+  vset(params, V_OK + r0, ok ? 1 : 0);
+}
+
+/** The random starts' generator: one xorshift step (13, 7, 17). */
+@inline function nextDraw(seed: u64): u64 {
+  seed ^= seed << 13;
+  seed ^= seed >> 7;
+  return seed ^ (seed << 17);
 }
 
 /**
@@ -815,9 +843,9 @@ export function inverseVectorsJob(r0: i32, r1: i32): void {
  * stores them; j0 a cluster's first vector), with six arrays of m f64 scratch from `scratch`.
  */
 function vectorRange(params: usize, j0: i32, j1: i32, scratch: usize): bool {
-  const d = <usize>load<u64>(params), f = <usize>load<u64>(params, 8), lam = <usize>load<u64>(params, 16);
-  const m = <i32>load<u64>(params, 24), q = <usize>load<u64>(params, 32), qs = <usize>load<u64>(params, 40);
-  const onenrm = load<f64>(params, 48), extra = <i32>load<u64>(params, 56);
+  const d = <usize>vget(params, V_D), f = <usize>vget(params, V_F), lam = <usize>vget(params, V_LAM);
+  const m = <i32>vget(params, V_M), q = <usize>vget(params, V_Q), qs = <usize>vget(params, V_QS);
+  const onenrm = load<f64>(params + (V_ONENRM << 3)), extra = <i32>vget(params, V_EXTRA);
   const mb = <usize>m << 3;
   const dl = scratch, dg = dl + mb, du = dg + mb, du2 = du + mb, piv = du2 + mb, x = piv + mb;
   const eps = f64.EPSILON;
@@ -826,11 +854,7 @@ function vectorRange(params: usize, j0: i32, j1: i32, scratch: usize): bool {
   let shift = 0.0;
   // the random starts: m draws a vector, from the same seed whatever the range
   let seed: u64 = 0x9e3779b97f4a7c15;
-  for (let k = 0; k < j0 * m; k++) {
-    seed ^= seed << 13;
-    seed ^= seed >> 7;
-    seed ^= seed << 17;
-  }
+  for (let k = 0; k < j0 * m; k++) seed = nextDraw(seed);
   for (let j = j0; j < j1; j++) {
     let xj = dget(lam, j);
     if (j > j0) {
@@ -878,9 +902,7 @@ function vectorRange(params: usize, j0: i32, j1: i32, scratch: usize): bool {
     }
     // a pseudo-random start in (−1, 1)
     for (let i = 0; i < m; i++) {
-      seed ^= seed << 13;
-      seed ^= seed >> 7;
-      seed ^= seed << 17;
+      seed = nextDraw(seed);
       dset(x, i, <f64>(seed >> 11) * (2.0 / 9007199254740992.0) - 1.0);
     }
     let checks = 0, converged = false;

@@ -962,6 +962,11 @@ function toInteraction(dst: usize, src: usize, blocks: i32, ph: usize, scale: f6
   }
 }
 
+/** pr·(xr, xi) + pi·(xi, xr): conj(p)·x with pr = scale·(p_r, p_r) and pi = scale·(p_i, −p_i). */
+@inline function phased(pr: v128, pi: v128, x: v128): v128 {
+  return f64x2.add(f64x2.mul(pr, x), f64x2.mul(pi, v128.shuffle<f64>(x, x, 1, 0)));
+}
+
 /** dst = scale·conj(p)∘src for n entries, with the phases p at ph. */
 function phaseIn(dst: usize, src: usize, n: i32, ph: usize, scale: f64): void {
   const flip = f64x2(scale, -scale), s = f64x2.splat(scale);
@@ -969,7 +974,7 @@ function phaseIn(dst: usize, src: usize, n: i32, ph: usize, scale: f64): void {
     const o = <usize>a << 4, x = v128.load(src + o), q = v128.load(ph + o);
     // (pr·xr + pi·xi, pr·xi − pi·xr) = pr·(xr, xi) + (pi, −pi)·(xi, xr), times the scale
     const pr = f64x2.mul(v128.shuffle<f64>(q, q, 0, 0), s), pi = f64x2.mul(v128.shuffle<f64>(q, q, 1, 1), flip);
-    v128.store(dst + o, f64x2.add(f64x2.mul(pr, x), f64x2.mul(pi, v128.shuffle<f64>(x, x, 1, 0))));
+    v128.store(dst + o, phased(pr, pi, x));
   }
 }
 
@@ -1381,15 +1386,14 @@ function phasePack(xp: usize, slot: i32, inputs: i32, src: usize, count: i32, n:
     const pr = f64x2.mul(v128.shuffle<f64>(q, q, 0, 0), sc), pi = f64x2.mul(v128.shuffle<f64>(q, q, 1, 1), flip);
     let from = src + o;
     for (let b = 0; b < paired; b++) {
-      const x = v128.load(from), u = f64x2.add(f64x2.mul(pr, x), f64x2.mul(pi, v128.shuffle<f64>(x, x, 1, 0)));
+      const u = phased(pr, pi, v128.load(from));
       const at = row + (<usize>b << 3);
       store<f64>(at, f64x2.extract_lane(u, 0));
       store<f64>(at + half, f64x2.extract_lane(u, 1));
       from += column;
     }
     if (lone) {
-      const x = v128.load(from);
-      v128.store(row + (<usize>paired << 3), f64x2.add(f64x2.mul(pr, x), f64x2.mul(pi, v128.shuffle<f64>(x, x, 1, 0))));
+      v128.store(row + (<usize>paired << 3), phased(pr, pi, v128.load(from)));
     }
   }
 }
